@@ -1,0 +1,29 @@
+//! Engine benchmarks: one rail of ten groups (tests/networks/ten_groups.json, with regulator and plane).
+//! Run with `cargo bench --bench engine`.
+
+use criterion::{Criterion, criterion_group, criterion_main};
+use hushrail::analysis::{AnalysisOptions, analyze_rail, log_grid, sweep};
+use std::hint::black_box;
+
+fn ten_groups() -> hushrail::model::Board {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/networks/ten_groups.json");
+    hushrail::io::read_board(std::path::Path::new(path)).expect("bench board")
+}
+
+fn engine(c: &mut Criterion) {
+    let board = ten_groups();
+    let rail = &board.rails[0];
+    c.bench_function("analyze 10 groups, 1000 points, all findings", |b| {
+        let options = AnalysisOptions { band_points: 1000, ..Default::default() };
+        b.iter(|| analyze_rail(black_box(&board), 0, &options))
+    });
+    c.bench_function("analyze 10 groups, 10000 points, all findings", |b| {
+        let options = AnalysisOptions { band_points: 10_000, ..Default::default() };
+        b.iter(|| analyze_rail(black_box(&board), 0, &options))
+    });
+    let grid = log_grid(1e3, 1e9, 10_000);
+    c.bench_function("sweep 10 groups, 10000 points", |b| b.iter(|| sweep(black_box(&board), rail, &grid)));
+}
+
+criterion_group!(benches, engine);
+criterion_main!(benches);

@@ -1,0 +1,171 @@
+//! Findings in plain words, with a hint of what to try. The window and the command line both show these words;
+//! they are written once, here.
+
+use super::network::BranchKind;
+use super::rail::{AntiResonance, BranchRef, RailAnalysis};
+use crate::model::{Board, Rail};
+use crate::units::{Unit, format};
+
+/// How much a finding matters.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Severity {
+    /// The rail misses its target here.
+    Fail,
+    /// Worth a look; the rail still meets target here.
+    Note,
+}
+
+/// One thing a user must look at, in plain words.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Finding {
+    /// How much it matters.
+    pub severity: Severity,
+    /// The frequency range it concerns (a single frequency has both ends equal), Hz.
+    pub range_hz: [f64; 2],
+    /// What is wrong, in one sentence.
+    pub text: String,
+    /// What to try.
+    pub hint: String,
+}
+
+/// The findings of one analysed rail, by frequency: each violation band with the peak that drives it, and each
+/// anti-resonance that stays under target as a note.
+pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Finding> {
+    let target = analysis.target_ohm;
+    let mut out = Vec::new();
+    for v in &analysis.violations {
+        let peak = analysis.antiresonances.iter().find(|a| a.freq_hz >= v.from_hz && a.freq_hz <= v.to_hz);
+        let ratio = v.peak_ohm / target;
+        let mut text = format!(
+            "|Z| is above target from {} to {}, up to {} ({:.2}× target) at {}.",
+            hz(v.from_hz),
+            hz(v.to_hz),
+            ohm(v.peak_ohm),
+            ratio,
+            hz(v.peak_hz)
+        );
+        let hint = match peak {
+            Some(a) => {
+                text.push(' ');
+                text.push_str(&cause(a));
+                peak_hint(board, rail, a)
+            }
+            None => edge_hint(analysis, v.from_hz, v.to_hz),
+        };
+        out.push(Finding { severity: Severity::Fail, range_hz: [v.from_hz, v.to_hz], text, hint });
+    }
+    for a in analysis.antiresonances.iter().filter(|a| !a.above_target) {
+        out.push(Finding {
+            severity: Severity::Note,
+            range_hz: [a.freq_hz, a.freq_hz],
+            text: format!(
+                "Anti-resonance at {}: {} ({:.0} % of target). {}",
+                hz(a.freq_hz),
+                ohm(a.z_ohm),
+                a.z_ohm / target * 100.0,
+                cause(a)
+            ),
+            hint: "Under target; it becomes the first place to fail if counts drop or mounting inductance grows."
+                .into(),
+        });
+    }
+    out.sort_by(|a, b| a.range_hz[0].total_cmp(&b.range_hz[0]));
+    out
+}
+
+fn hz(f: f64) -> String {
+    format(f, Unit::Hertz)
+}
+
+fn ohm(z: f64) -> String {
+    format(z, Unit::Ohm)
+}
+
+/// The inductive side of a peak, in words.
+fn inductive_words(b: &Option<BranchRef>) -> String {
+    match b {
+        Some(b) => match b.kind {
+            BranchKind::Source => "the regulator's output inductance".to_string(),
+            BranchKind::Plane => "the plane's inductance".to_string(),
+            BranchKind::Group(_) => {
+                format!("the inductance of {} (past its self-resonance at {})", b.label, hz(b.resonance_hz))
+            }
+        },
+        None => "no inductive branch".to_string(),
+    }
+}
+
+/// The capacitive side of a peak, in words.
+fn capacitive_words(b: &Option<BranchRef>) -> String {
+    match b {
+        Some(b) => match b.kind {
+            BranchKind::Source => "the regulator".to_string(),
+            BranchKind::Plane => "the plane capacitance".to_string(),
+            BranchKind::Group(_) if b.resonance_hz.is_finite() => {
+                format!("the capacitance of {} (below its self-resonance at {})", b.label, hz(b.resonance_hz))
+            }
+            BranchKind::Group(_) => format!("the capacitance of {}", b.label),
+        },
+        None => "no capacitive branch".to_string(),
+    }
+}
+
+/// Which branches meet at a peak.
+fn cause(a: &AntiResonance) -> String {
+    format!("Cause: {} resonates with {}.", inductive_words(&a.inductive_side), capacitive_words(&a.capacitive_side))
+}
+
+/// Capacitance of the part behind a branch, if it is a group.
+fn group_capacitance(board: &Board, rail: &Rail, b: &Option<BranchRef>) -> Option<f64> {
+    match b.as_ref()?.kind {
+        BranchKind::Group(i) => board.part(&rail.decaps.get(i)?.part).map(|p| p.capacitance_f),
+        _ => None,
+    }
+}
+
+fn peak_hint(board: &Board, rail: &Rail, a: &AntiResonance) -> String {
+    let low_c = group_capacitance(board, rail, &a.capacitive_side);
+    let high_c = group_capacitance(board, rail, &a.inductive_side);
+    let mut tips = Vec::new();
+    match (high_c, low_c) {
+        (Some(big), Some(small)) if big > small => tips.push(format!(
+            "add a value between the two (around {}) so that a resonance falls near {}",
+            format((big * small).sqrt(), Unit::Farad),
+            hz(a.freq_hz)
+        )),
+        _ => {}
+    }
+    match a.capacitive_side.as_ref().map(|b| b.kind) {
+        Some(BranchKind::Group(_)) => {
+            let name = a.capacitive_side.as_ref().map(|b| b.label.split(" ×").next().unwrap_or("").to_string());
+            tips.push(format!("fit more of {}", name.unwrap_or_default()))
+        }
+        Some(BranchKind::Plane) => tips.push("add small parts that stay capacitive past this frequency".into()),
+        _ => {}
+    }
+    if matches!(a.inductive_side.as_ref().map(|b| b.kind), Some(BranchKind::Source)) {
+        tips.push("add bulk capacitance so the regulator's inductance is bypassed sooner".into());
+    }
+    tips.push("use a part with more ESR to damp the peak".into());
+    tips.push("cut the mounting inductance (shorter traces, more or closer vias)".into());
+    let mut hint = tips.join("; ");
+    if let Some(c) = hint.get(..1) {
+        hint = c.to_uppercase() + &hint[1..];
+    }
+    hint + "."
+}
+
+fn edge_hint(analysis: &RailAnalysis, from: f64, to: f64) -> String {
+    let [lo, hi] = analysis.band_hz;
+    if to >= hi * (1.0 - 1e-9) {
+        "The impedance rises toward the top of the band: the parts' inductance dominates there. Fit more small parts \
+         with low mounting inductance, or rely on the package and die capacitance above this frequency."
+            .into()
+    } else if from <= lo * (1.0 + 1e-9) {
+        "The impedance is too high at the bottom of the band: add bulk capacitance or lower the regulator's output \
+         impedance."
+            .into()
+    } else {
+        "Lower the impedance across this range: more parts whose self-resonance falls inside it.".into()
+    }
+}

@@ -1,0 +1,17 @@
+//! Frequency grids, a rail's impedance, its target and its findings. Pure functions of plain values: no files,
+//! no window, no command line.
+
+mod advice;
+mod findings;
+mod grid;
+mod network;
+mod rail;
+
+pub use advice::{Finding, Severity, explain};
+pub use findings::{Extremum, ViolationBand};
+pub use grid::log_grid;
+pub use network::{Branch, BranchKind, Network, magnitude_phase};
+pub use rail::{
+    AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, sweep,
+    target_impedance,
+};

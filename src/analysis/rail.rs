@@ -1,0 +1,199 @@
+//! One rail, analysed: its target, its worst impedance, its violation bands and anti-resonances, and the curves
+//! the window and the reports draw. Every face reads this; nothing here is computed anywhere else.
+
+use super::findings::{self, Extremum, ViolationBand};
+use super::grid::log_grid;
+use super::network::{BranchKind, Network};
+use crate::model::{Board, Rail};
+use num_complex::Complex64;
+
+/// How densely to look, and what curves to keep.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AnalysisOptions {
+    /// Log-spaced points over the band for finding peaks and violations (both edges included).
+    pub band_points: usize,
+    /// A display sweep (from, to, points) to keep, beside the in-band scan; `None` keeps only the scan.
+    pub curve: Option<(f64, f64, usize)>,
+    /// Keep each branch's own |Z| along the display sweep (for drawing them faintly beneath the total).
+    pub branch_curves: bool,
+}
+
+impl Default for AnalysisOptions {
+    fn default() -> Self {
+        AnalysisOptions { band_points: 1000, curve: None, branch_curves: false }
+    }
+}
+
+/// The target impedance of a rail: V × ripple / ΔI, with ΔI the sum of the loads' steps (the worst case, every
+/// step at once). Ω.
+pub fn target_impedance(rail: &Rail) -> f64 {
+    rail.voltage_v * rail.ripple_pct / 100.0 / rail.total_step_a()
+}
+
+/// A branch named in a finding.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BranchRef {
+    /// Which input it is.
+    pub kind: BranchKind,
+    /// Its label, such as "c100n-0402 ×24".
+    pub label: String,
+    /// Its self-resonance, Hz (0 for the source, infinite for a branch with no inductance).
+    pub resonance_hz: f64,
+}
+
+/// A local maximum of |Z| inside the band.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AntiResonance {
+    /// Frequency, Hz.
+    pub freq_hz: f64,
+    /// |Z| there, Ω.
+    pub z_ohm: f64,
+    /// True when the peak is above target.
+    pub above_target: bool,
+    /// The branch already inductive just below the peak (highest self-resonance below it).
+    pub inductive_side: Option<BranchRef>,
+    /// The branch still capacitive just above the peak (lowest self-resonance above it).
+    pub capacitive_side: Option<BranchRef>,
+}
+
+/// One decap group as the analysis sees it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GroupInfo {
+    /// Index in the rail's `decaps`.
+    pub index: usize,
+    /// Part id.
+    pub part: String,
+    /// Count fitted.
+    pub count: u32,
+    /// Self-resonance of one part with its mounting, Hz (`None` with no inductance or no such part).
+    pub self_resonance_hz: Option<f64>,
+}
+
+/// A frequency sweep of the total impedance and, on request, of each branch.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct Curve {
+    /// Frequencies, Hz.
+    pub freq_hz: Vec<f64>,
+    /// Total impedance at each frequency.
+    pub z: Vec<Complex64>,
+    /// Each branch's own impedance (as fitted, count included), in network order; empty unless asked for.
+    pub branches: Vec<(BranchRef, Vec<Complex64>)>,
+}
+
+/// Everything the tool says about one rail.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RailAnalysis {
+    /// The rail's name.
+    pub rail: String,
+    /// Target impedance, Ω.
+    pub target_ohm: f64,
+    /// The band the target applies over, Hz.
+    pub band_hz: [f64; 2],
+    /// The highest |Z| over the closed band, Ω.
+    pub worst_ohm: f64,
+    /// Where it is, Hz.
+    pub worst_hz: f64,
+    /// target / worst: above 1 means headroom.
+    pub margin_ratio: f64,
+    /// The same margin in dB: 20·log10(target / worst).
+    pub margin_db: f64,
+    /// True when the worst |Z| over the band is at or below target.
+    pub meets_target: bool,
+    /// Ranges above target, by frequency.
+    pub violations: Vec<ViolationBand>,
+    /// Local maxima inside the band, by frequency.
+    pub antiresonances: Vec<AntiResonance>,
+    /// Local minima inside the band (series resonances of the network), by frequency.
+    pub dips: Vec<Extremum>,
+    /// Each decap group, in the rail's order.
+    pub groups: Vec<GroupInfo>,
+    /// The in-band scan (the grid the findings came from).
+    pub scan: Curve,
+    /// The display sweep, when asked for.
+    pub curve: Option<Curve>,
+}
+
+/// Analyse rail `rail_index` of a (validated) board.
+pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<RailAnalysis> {
+    let rail = board.rails.get(rail_index)?;
+    let network = Network::of_rail(board, rail);
+    let target_ohm = target_impedance(rail);
+    let scan = findings::scan(&network, rail.band_hz, options.band_points, target_ohm);
+
+    let branch_ref = |i: usize| {
+        let b = &network.branches[i];
+        BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz }
+    };
+    let antiresonances = scan
+        .peaks
+        .iter()
+        .map(|p| {
+            let (below, above) = network.bracketing(p.freq_hz);
+            AntiResonance {
+                freq_hz: p.freq_hz,
+                z_ohm: p.z_ohm,
+                above_target: p.z_ohm > target_ohm,
+                inductive_side: below.map(branch_ref),
+                capacitive_side: above.map(branch_ref),
+            }
+        })
+        .collect();
+
+    let groups = rail
+        .decaps
+        .iter()
+        .enumerate()
+        .map(|(index, g)| GroupInfo {
+            index,
+            part: g.part.clone(),
+            count: g.count,
+            self_resonance_hz: board.part(&g.part).and_then(|p| {
+                crate::physics::SeriesRlc { r_ohm: p.esr_ohm, l_h: p.esl_h + g.mounting_h, c_f: Some(p.capacitance_f) }
+                    .self_resonance_hz()
+            }),
+        })
+        .collect();
+
+    let curve = options.curve.map(|(from, to, n)| {
+        let freq_hz = log_grid(from, to, n);
+        let z = freq_hz.iter().map(|&f| network.impedance(f)).collect();
+        let branches = if options.branch_curves {
+            (0..network.branches.len())
+                .map(|i| (branch_ref(i), freq_hz.iter().map(|&f| network.branches[i].rlc.impedance(f)).collect()))
+                .collect()
+        } else {
+            Vec::new()
+        };
+        Curve { freq_hz, z, branches }
+    });
+
+    let worst = scan.worst;
+    let margin_ratio = target_ohm / worst.z_ohm;
+    Some(RailAnalysis {
+        rail: rail.name.clone(),
+        target_ohm,
+        band_hz: rail.band_hz,
+        worst_ohm: worst.z_ohm,
+        worst_hz: worst.freq_hz,
+        margin_ratio,
+        margin_db: 20.0 * margin_ratio.log10(),
+        meets_target: worst.z_ohm <= target_ohm,
+        violations: scan.violations,
+        antiresonances,
+        dips: scan.dips,
+        groups,
+        scan: Curve { freq_hz: scan.freq_hz, z: scan.z, branches: Vec::new() },
+        curve,
+    })
+}
+
+/// Analyse every rail of a (validated) board with the same options.
+pub fn analyze_board(board: &Board, options: &AnalysisOptions) -> Vec<RailAnalysis> {
+    (0..board.rails.len()).filter_map(|i| analyze_rail(board, i, options)).collect()
+}
+
+/// The total impedance of a rail at each of `freq_hz` (for sweeps and exports).
+pub fn sweep(board: &Board, rail: &Rail, freq_hz: &[f64]) -> Vec<Complex64> {
+    let network = Network::of_rail(board, rail);
+    freq_hz.iter().map(|&f| network.impedance(f)).collect()
+}

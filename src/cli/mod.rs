@@ -1,0 +1,91 @@
+//! The command line: a reviewer's or CI's face of the library. Human text by default, `--json` for machines;
+//! exit 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
+
+mod check;
+mod netlist;
+mod sweep;
+
+use crate::io::{BoardError, read_board};
+use crate::model::Board;
+use clap::{Parser, Subcommand};
+use std::io::Write;
+use std::path::PathBuf;
+
+/// Exit code: every rail meets target.
+pub const EXIT_PASS: i32 = 0;
+/// Exit code: some rail misses target.
+pub const EXIT_MISS: i32 = 1;
+/// Exit code: bad input (the message is on stderr).
+pub const EXIT_BAD_INPUT: i32 = 2;
+
+/// Plan the decoupling of a board's power rails.
+///
+/// With no subcommand, opens the planner window on BOARD (or on the built-in sample board).
+#[derive(Debug, Parser)]
+#[command(name = "hushrail", version, args_conflicts_with_subcommands = true)]
+pub struct Cli {
+    /// Board file to open in the window.
+    pub board: Option<PathBuf>,
+    /// What to do instead of opening the window.
+    #[command(subcommand)]
+    pub command: Option<Command>,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Check every rail of a board against its target: verdict, worst |Z|, margin and findings.
+    ///
+    /// Exit status: 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
+    Check(check::CheckArgs),
+    /// Print |Z(f)| of one rail as CSV: freq_hz,z_mag_ohm,z_phase_deg,target_ohm.
+    Sweep(sweep::SweepArgs),
+    /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
+    Netlist(netlist::NetlistArgs),
+}
+
+/// Run a subcommand and return the process exit code.
+pub fn run(command: Command) -> i32 {
+    let result = match command {
+        Command::Check(args) => check::run(&args),
+        Command::Sweep(args) => sweep::run(&args),
+        Command::Netlist(args) => netlist::run(&args),
+    };
+    match result {
+        Ok(code) => code,
+        Err(message) => {
+            eprintln!("hushrail: {message}");
+            EXIT_BAD_INPUT
+        }
+    }
+}
+
+/// Load the board a command names, or the built-in sample when none is named.
+fn load_board(path: Option<&PathBuf>) -> Result<(Board, String), String> {
+    match path {
+        Some(p) => read_board(p).map(|b| (b, p.display().to_string())).map_err(|e: BoardError| e.to_string()),
+        None => crate::samples::default_board()
+            .map(|b| (b, format!("built-in sample \"{}\"", crate::samples::DEFAULT_SAMPLE_NAME)))
+            .map_err(|e| e.to_string()),
+    }
+}
+
+/// The rail a command names, or a message that lists the board's rails.
+fn find_rail<'b>(board: &'b Board, file: &str, name: &str) -> Result<&'b crate::model::Rail, String> {
+    board.rail(name).ok_or_else(|| {
+        let names: Vec<_> = board.rails.iter().map(|r| r.name.as_str()).collect();
+        format!("{file}: no rail named \"{name}\" (rails: {})", names.join(", "))
+    })
+}
+
+/// Write text to stdout; a closed pipe (as with `| head`) ends the output quietly instead of panicking.
+fn emit(text: &str) {
+    let mut out = std::io::stdout().lock();
+    let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
+}
+
+/// What `hushrail` with no subcommand does until the window is built: the check of BOARD, or of the built-in
+/// sample board.
+pub fn check_default(board: Option<&PathBuf>) -> i32 {
+    run(Command::Check(check::CheckArgs { board: board.cloned(), json: false }))
+}

@@ -1,0 +1,64 @@
+//! `hushrail sweep`: one rail's |Z(f)| as CSV.
+
+use super::{EXIT_PASS, emit, load_board};
+use crate::analysis::{log_grid, magnitude_phase, sweep, target_impedance};
+use crate::units::{Unit, full_precision, parse};
+use clap::Args;
+use std::fmt::Write;
+use std::path::PathBuf;
+
+/// Options of `hushrail sweep`.
+#[derive(Debug, Args)]
+pub struct SweepArgs {
+    /// Board file (the built-in sample board when left out).
+    pub board: Option<PathBuf>,
+    /// Name of the rail to sweep.
+    #[arg(long)]
+    pub rail: String,
+    /// Lowest frequency, in engineering notation ("1k", "100") [default: the rail's band].
+    #[arg(long)]
+    pub from: Option<String>,
+    /// Highest frequency, in engineering notation ("1G", "200meg") [default: the rail's band].
+    #[arg(long)]
+    pub to: Option<String>,
+    /// Number of log-spaced points, both ends included.
+    #[arg(long, default_value_t = 1000)]
+    pub points: usize,
+}
+
+/// Print the CSV; errors are messages for stderr.
+pub fn run(args: &SweepArgs) -> Result<i32, String> {
+    let (board, file) = load_board(args.board.as_ref())?;
+    let rail = super::find_rail(&board, &file, &args.rail)?;
+    let freq = |opt: &Option<String>, default: f64, flag: &str| -> Result<f64, String> {
+        match opt {
+            None => Ok(default),
+            Some(text) => match parse(text, Unit::Hertz) {
+                Ok(f) if f > 0.0 => Ok(f),
+                Ok(f) => Err(format!("--{flag}: frequency must be greater than 0, not {f}")),
+                Err(e) => Err(format!("--{flag}: {e}")),
+            },
+        }
+    };
+    let from = freq(&args.from, rail.band_hz[0], "from")?;
+    let to = freq(&args.to, rail.band_hz[1], "to")?;
+    if to <= from {
+        return Err(format!("--to ({to} Hz) must be above --from ({from} Hz)"));
+    }
+    if args.points < 2 {
+        return Err(format!("--points must be at least 2, not {}", args.points));
+    }
+    let target = target_impedance(rail);
+    let grid = log_grid(from, to, args.points);
+    let z = sweep(&board, rail, &grid);
+    let mut text = String::with_capacity(64 * grid.len() + 64);
+    text.push_str("freq_hz,z_mag_ohm,z_phase_deg,target_ohm\n");
+    let target_text = full_precision(target);
+    for (f, z) in grid.iter().zip(&z) {
+        let (mag, phase) = magnitude_phase(*z);
+        let _ =
+            writeln!(text, "{},{},{},{}", full_precision(*f), full_precision(mag), full_precision(phase), target_text);
+    }
+    emit(&text);
+    Ok(EXIT_PASS)
+}

@@ -1,0 +1,413 @@
+//! The board file, format 1: reading with every problem reported at once, and stable, atomic writing.
+//!
+//! Reading goes JSON text -> `serde_json::Value` (syntax errors carry line:column) -> a hand-written decoder that
+//! walks the value, collects every structural problem with its JSON path (unknown fields, wrong types, missing
+//! fields) and builds the model; then `model::validate_board` adds the physical rules. A typo in a field name is
+//! never ignored.
+
+use super::{BoardError, Place, write_atomically};
+use crate::model::{Board, DecapGroup, Load, Part, PartKind, Plane, Problem, Rail, Source, validate_board};
+use serde::Serialize;
+use serde_json::{Map, Value};
+use std::path::Path;
+
+/// The `format` tag every board file carries.
+pub const FORMAT_TAG: &str = "hushrail-board";
+/// The newest format version this program reads and the one it writes.
+pub const FORMAT_VERSION: u64 = 1;
+
+/// Read and check a board file. `file` names the source in error messages.
+pub fn read_board(path: &Path) -> Result<Board, BoardError> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| BoardError::single(path, Place::Whole, format!("cannot read the file: {e}")))?;
+    parse_board(&text, &path.display().to_string())
+}
+
+/// Parse and check board text. `file` is the name shown in errors.
+pub fn parse_board(text: &str, file: &str) -> Result<Board, BoardError> {
+    let value: Value = serde_json::from_str(text).map_err(|e| {
+        let place = if e.line() == 0 { Place::Whole } else { Place::LineColumn(e.line(), e.column().max(1)) };
+        BoardError::single(file, place, format!("not valid JSON: {}", syntax_reason(&e)))
+    })?;
+    let mut d = Decoder { problems: Vec::new() };
+    let board = d.board(&value);
+    let mut problems = d.problems;
+    // The decoder put stand-ins (NaN, empty) where a value was missing or malformed; the rules would report those
+    // places again, so keep only the rules' problems at places not reported yet.
+    let reported: Vec<String> = problems.iter().map(|p| p.path.clone()).collect();
+    let covered = |path: &str| {
+        reported.iter().any(|r| {
+            r.is_empty()
+                || path == r
+                || path.starts_with(&format!("{r}."))
+                || path.starts_with(&format!("{r}["))
+                || r.starts_with(&format!("{path}["))
+        })
+    };
+    problems.extend(validate_board(&board).into_iter().filter(|p| !covered(&p.path)));
+    if problems.is_empty() { Ok(board) } else { Err(BoardError::from_problems(file, problems)) }
+}
+
+/// serde_json's message without its own " at line L column C" tail (we give the place ourselves).
+fn syntax_reason(e: &serde_json::Error) -> String {
+    let msg = e.to_string();
+    match msg.rfind(" at line ") {
+        Some(i) => msg[..i].to_string(),
+        None => msg,
+    }
+}
+
+/// The board as written to a file: the format tag and version first, then the board's own fields.
+#[derive(Serialize)]
+struct BoardFile<'a> {
+    format: &'static str,
+    version: u64,
+    #[serde(flatten)]
+    board: &'a Board,
+}
+
+/// The file text of a board: pretty-printed, fields in a fixed order, a newline at the end.
+pub fn board_to_string(board: &Board) -> String {
+    let file = BoardFile { format: FORMAT_TAG, version: FORMAT_VERSION, board };
+    // Serializing plain data with finite numbers cannot fail; non-finite numbers never pass validation, and
+    // serde_json writes them as null, which the reader refuses with a clear message.
+    let mut text = serde_json::to_string_pretty(&file).unwrap_or_else(|e| format!("{{\"error\": \"{e}\"}}"));
+    text.push('\n');
+    text
+}
+
+/// Write a board atomically: a temporary file beside the target, flushed and synced, then renamed over it.
+pub fn write_board(path: &Path, board: &Board) -> Result<(), BoardError> {
+    write_atomically(path, board_to_string(board).as_bytes())
+        .map_err(|e| BoardError::single(path, Place::Whole, format!("cannot write the file: {e}")))
+}
+
+/// Walks a JSON value and collects problems with their paths.
+struct Decoder {
+    problems: Vec<Problem>,
+}
+
+/// The fields of one JSON object, with the keys already read, so the rest can be reported as unknown.
+struct Fields<'v> {
+    map: &'v Map<String, Value>,
+    path: String,
+    known: &'static [&'static str],
+}
+
+fn join(path: &str, key: &str) -> String {
+    if path.is_empty() { key.to_string() } else { format!("{path}.{key}") }
+}
+
+impl Decoder {
+    fn problem(&mut self, path: impl Into<String>, reason: impl Into<String>) {
+        self.problems.push(Problem::new(path, reason));
+    }
+
+    /// Open an object and report its unknown keys against `known`.
+    fn object<'v>(&mut self, value: &'v Value, path: &str, known: &'static [&'static str]) -> Option<Fields<'v>> {
+        let Some(map) = value.as_object() else {
+            self.problem(path, format!("must be an object, not {}", kind_of(value)));
+            return None;
+        };
+        for key in map.keys() {
+            if !known.contains(&key.as_str()) {
+                self.problem(join(path, key), format!("unknown field (known fields here: {})", known.join(", ")));
+            }
+        }
+        Some(Fields { map, path: path.to_string(), known })
+    }
+
+    fn number_at(&mut self, value: &Value, path: &str) -> Option<f64> {
+        match value {
+            Value::Number(n) => match n.as_f64() {
+                Some(x) if x.is_finite() => Some(x),
+                _ => {
+                    self.problem(path, "must be a finite number");
+                    None
+                }
+            },
+            Value::Null => {
+                self.problem(path, "must be a finite number, not null (NaN and infinity cannot be written in JSON)");
+                None
+            }
+            other => {
+                self.problem(path, format!("must be a number, not {}", kind_of(other)));
+                None
+            }
+        }
+    }
+
+    fn required<'v>(&mut self, f: &Fields<'v>, key: &str) -> Option<&'v Value> {
+        debug_assert!(f.known.contains(&key));
+        let v = f.map.get(key);
+        if v.is_none() {
+            self.problem(join(&f.path, key), "missing required field");
+        }
+        v
+    }
+
+    /// A required number; NaN stands in for a missing or bad one (the problem is already recorded).
+    fn number(&mut self, f: &Fields, key: &str) -> f64 {
+        self.required(f, key).and_then(|v| self.number_at(v, &join(&f.path, key))).unwrap_or(f64::NAN)
+    }
+
+    /// An optional number; a bad one is recorded and read as absent.
+    fn opt_number(&mut self, f: &Fields, key: &str) -> Option<f64> {
+        f.map.get(key).and_then(|v| self.number_at(v, &join(&f.path, key)))
+    }
+
+    fn string_at(&mut self, value: &Value, path: &str) -> Option<String> {
+        match value {
+            Value::String(s) => Some(s.clone()),
+            other => {
+                self.problem(path, format!("must be a string, not {}", kind_of(other)));
+                None
+            }
+        }
+    }
+
+    /// A required string; empty stands in for a missing or bad one.
+    fn string(&mut self, f: &Fields, key: &str) -> String {
+        self.required(f, key).and_then(|v| self.string_at(v, &join(&f.path, key))).unwrap_or_default()
+    }
+
+    fn opt_string(&mut self, f: &Fields, key: &str) -> Option<String> {
+        f.map.get(key).and_then(|v| self.string_at(v, &join(&f.path, key)))
+    }
+
+    /// A required array, each element decoded by `item` with its indexed path. Elements that are not even
+    /// objects are kept as stand-ins so that later paths keep their indices.
+    fn array<T>(&mut self, f: &Fields, key: &str, mut item: impl FnMut(&mut Self, &Value, &str) -> T) -> Vec<T> {
+        let path = join(&f.path, key);
+        let Some(v) = self.required(f, key) else {
+            return Vec::new();
+        };
+        let Some(items) = v.as_array() else {
+            self.problem(path, format!("must be an array, not {}", kind_of(v)));
+            return Vec::new();
+        };
+        items.iter().enumerate().map(|(i, x)| item(self, x, &format!("{path}[{i}]"))).collect()
+    }
+
+    fn board(&mut self, value: &Value) -> Board {
+        let empty = Map::new();
+        let f = self
+            .object(value, "", &["format", "version", "name", "description", "parts", "rails"])
+            .unwrap_or(Fields { map: &empty, path: String::new(), known: &[] });
+        if !value.is_object() {
+            return Board { name: String::new(), description: None, parts: Vec::new(), rails: Vec::new() };
+        }
+        match f.map.get("format") {
+            Some(Value::String(s)) if s == FORMAT_TAG => {}
+            Some(other) => self.problem("format", format!("must be \"{FORMAT_TAG}\", not {other}")),
+            None => self.problem("format", format!("missing: a board file starts with \"format\": \"{FORMAT_TAG}\"")),
+        }
+        match f.map.get("version") {
+            Some(Value::Number(n)) => match n.as_u64() {
+                Some(v) if (1..=FORMAT_VERSION).contains(&v) => {}
+                Some(v) if v > FORMAT_VERSION => self.problem(
+                    "version",
+                    format!("version {v} is newer than this program reads (up to {FORMAT_VERSION}): update hushrail"),
+                ),
+                _ => self.problem("version", format!("must be a whole number from 1 to {FORMAT_VERSION}, not {n}")),
+            },
+            Some(other) => self.problem("version", format!("must be a whole number, not {}", kind_of(other))),
+            None => self.problem("version", "missing required field"),
+        }
+        Board {
+            name: self.string(&f, "name"),
+            description: self.opt_string(&f, "description"),
+            parts: self.array(&f, "parts", |d, v, p| d.part(v, p)),
+            rails: self.array(&f, "rails", |d, v, p| d.rail(v, p)),
+        }
+    }
+
+    fn part(&mut self, value: &Value, path: &str) -> Part {
+        let empty = Map::new();
+        let f = self
+            .object(
+                value,
+                path,
+                &[
+                    "id",
+                    "kind",
+                    "capacitance_f",
+                    "esr_ohm",
+                    "esl_h",
+                    "rated_voltage_v",
+                    "case",
+                    "dielectric",
+                    "unit_cost",
+                ],
+            )
+            .unwrap_or(Fields { map: &empty, path: path.to_string(), known: &[] });
+        let kind = match f.map.get("kind") {
+            _ if f.known.is_empty() => PartKind::Other,
+            None => {
+                self.problem(join(path, "kind"), "missing required field");
+                PartKind::Other
+            }
+            Some(v) => match self.string_at(v, &join(path, "kind")) {
+                None => PartKind::Other,
+                Some(k) => PartKind::from_name(&k).unwrap_or_else(|| {
+                    let names: Vec<_> = PartKind::ALL.iter().map(|k| k.name()).collect();
+                    self.problem(join(path, "kind"), format!("unknown kind \"{k}\" (one of: {})", names.join(", ")));
+                    PartKind::Other
+                }),
+            },
+        };
+        if f.known.is_empty() {
+            return Part {
+                id: String::new(),
+                kind,
+                capacitance_f: f64::NAN,
+                esr_ohm: f64::NAN,
+                esl_h: f64::NAN,
+                rated_voltage_v: None,
+                case: None,
+                dielectric: None,
+                unit_cost: None,
+            };
+        }
+        Part {
+            id: self.string(&f, "id"),
+            kind,
+            capacitance_f: self.number(&f, "capacitance_f"),
+            esr_ohm: self.number(&f, "esr_ohm"),
+            esl_h: self.number(&f, "esl_h"),
+            rated_voltage_v: self.opt_number(&f, "rated_voltage_v"),
+            case: self.opt_string(&f, "case"),
+            dielectric: self.opt_string(&f, "dielectric"),
+            unit_cost: self.opt_number(&f, "unit_cost"),
+        }
+    }
+
+    fn rail(&mut self, value: &Value, path: &str) -> Rail {
+        let empty = Map::new();
+        let stand_in = Fields { map: &empty, path: path.to_string(), known: &[] };
+        let f = self
+            .object(value, path, &["name", "voltage_v", "ripple_pct", "band_hz", "source", "plane", "loads", "decaps"])
+            .unwrap_or(stand_in);
+        if f.known.is_empty() {
+            return Rail {
+                name: String::new(),
+                voltage_v: f64::NAN,
+                ripple_pct: f64::NAN,
+                band_hz: [f64::NAN; 2],
+                source: None,
+                plane: None,
+                loads: Vec::new(),
+                decaps: Vec::new(),
+            };
+        }
+        Rail {
+            name: self.string(&f, "name"),
+            voltage_v: self.number(&f, "voltage_v"),
+            ripple_pct: self.number(&f, "ripple_pct"),
+            band_hz: self.band(&f),
+            source: f.map.get("source").map(|v| self.source(v, &join(path, "source"))),
+            plane: f.map.get("plane").map(|v| self.plane(v, &join(path, "plane"))),
+            loads: self.array(&f, "loads", |d, v, p| d.load(v, p)),
+            decaps: self.array(&f, "decaps", |d, v, p| d.decap(v, p)),
+        }
+    }
+
+    fn band(&mut self, f: &Fields) -> [f64; 2] {
+        let path = join(&f.path, "band_hz");
+        let Some(v) = self.required(f, "band_hz") else {
+            return [f64::NAN; 2];
+        };
+        match v.as_array() {
+            Some(items) if items.len() == 2 => {
+                let lo = self.number_at(&items[0], &format!("{path}[0]"));
+                let hi = self.number_at(&items[1], &format!("{path}[1]"));
+                [lo.unwrap_or(f64::NAN), hi.unwrap_or(f64::NAN)]
+            }
+            _ => {
+                self.problem(path, "must be [low_hz, high_hz]: an array of two numbers");
+                [f64::NAN; 2]
+            }
+        }
+    }
+
+    /// Open a sub-object; a non-object gives a stand-in with no fields (its problem is recorded).
+    fn sub_object<'v>(
+        &mut self,
+        value: &'v Value,
+        path: &str,
+        known: &'static [&'static str],
+        empty: &'v Map<String, Value>,
+    ) -> Fields<'v> {
+        self.object(value, path, known).unwrap_or(Fields { map: empty, path: path.to_string(), known: &[] })
+    }
+
+    /// Read the required numbers of a sub-object; a stand-in reads as NaN without further problems.
+    fn numbers<const N: usize>(&mut self, f: &Fields, keys: [&str; N]) -> [f64; N] {
+        keys.map(|k| if f.known.is_empty() { f64::NAN } else { self.number(f, k) })
+    }
+
+    fn source(&mut self, value: &Value, path: &str) -> Source {
+        let empty = Map::new();
+        let f = self.sub_object(value, path, &["r_ohm", "l_h"], &empty);
+        let [r_ohm, l_h] = self.numbers(&f, ["r_ohm", "l_h"]);
+        Source { r_ohm, l_h }
+    }
+
+    fn plane(&mut self, value: &Value, path: &str) -> Plane {
+        let empty = Map::new();
+        let f = self.sub_object(value, path, &["capacitance_f", "esr_ohm", "esl_h"], &empty);
+        let [capacitance_f] = self.numbers(&f, ["capacitance_f"]);
+        Plane {
+            capacitance_f,
+            esr_ohm: self.opt_number(&f, "esr_ohm").unwrap_or(0.0),
+            esl_h: self.opt_number(&f, "esl_h").unwrap_or(0.0),
+        }
+    }
+
+    fn load(&mut self, value: &Value, path: &str) -> Load {
+        let empty = Map::new();
+        let f = self.sub_object(value, path, &["name", "step_a", "rise_time_s"], &empty);
+        if f.known.is_empty() {
+            return Load { name: String::new(), step_a: f64::NAN, rise_time_s: None };
+        }
+        Load {
+            name: self.string(&f, "name"),
+            step_a: self.number(&f, "step_a"),
+            rise_time_s: self.opt_number(&f, "rise_time_s"),
+        }
+    }
+
+    fn decap(&mut self, value: &Value, path: &str) -> DecapGroup {
+        let empty = Map::new();
+        let f = self.sub_object(value, path, &["part", "count", "mounting_h"], &empty);
+        if f.known.is_empty() {
+            return DecapGroup { part: String::new(), count: 1, mounting_h: f64::NAN };
+        }
+        let count = self
+            .required(&f, "count") // A stand-in of 1 keeps the rail's "nothing to ground" rule from firing on a count already reported.
+            .and_then(|v| self.count(v, &join(path, "count")))
+            .unwrap_or(1);
+        DecapGroup { part: self.string(&f, "part"), count, mounting_h: self.number(&f, "mounting_h") }
+    }
+
+    /// A count: a whole number >= 0 (written as 3 or 3.0), within u32.
+    fn count(&mut self, value: &Value, path: &str) -> Option<u32> {
+        let x = self.number_at(value, path)?;
+        if x < 0.0 || x.fract() != 0.0 || x > u32::MAX as f64 {
+            self.problem(path, format!("must be a whole number >= 0, not {x}"));
+            return None;
+        }
+        Some(x as u32)
+    }
+}
+
+fn kind_of(v: &Value) -> &'static str {
+    match v {
+        Value::Null => "null",
+        Value::Bool(_) => "true/false",
+        Value::Number(_) => "a number",
+        Value::String(_) => "a string",
+        Value::Array(_) => "an array",
+        Value::Object(_) => "an object",
+    }
+}

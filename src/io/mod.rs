@@ -1,0 +1,116 @@
+//! The only part of the library that touches files: board files, and (later) exports and reports.
+
+mod board_file;
+mod netlist;
+
+pub use board_file::{FORMAT_TAG, FORMAT_VERSION, board_to_string, parse_board, read_board, write_board};
+pub use netlist::{AcSweep, RAIL_NODE, parse_wrdata, rail_netlist};
+
+use crate::model::Problem;
+use std::fmt;
+use std::io::Write;
+use std::path::Path;
+
+/// Where in a file a problem is.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Place {
+    /// The file as a whole (it cannot be read, or it is not an object).
+    Whole,
+    /// A line and column, 1-based, for text that is not valid JSON.
+    LineColumn(usize, usize),
+    /// A JSON path such as `rails[1].decaps[0].part`.
+    Path(String),
+}
+
+impl fmt::Display for Place {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Place::Whole => Ok(()),
+            Place::LineColumn(l, c) => write!(f, "{l}:{c}"),
+            Place::Path(p) => write!(f, "{p}"),
+        }
+    }
+}
+
+/// One problem in a file: where and why.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Located {
+    /// Where.
+    pub place: Place,
+    /// Why, in plain words.
+    pub reason: String,
+}
+
+/// Everything wrong with one board file, with the file's name so every message can say where.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct BoardError {
+    /// The file as the user named it.
+    pub file: String,
+    /// Each problem, in the order found.
+    pub problems: Vec<Located>,
+}
+
+impl BoardError {
+    /// One problem in `file`.
+    pub fn single(file: impl AsRef<Path>, place: Place, reason: impl Into<String>) -> BoardError {
+        BoardError {
+            file: file.as_ref().display().to_string(),
+            problems: vec![Located { place, reason: reason.into() }],
+        }
+    }
+
+    /// Model problems (located by JSON path) in `file`.
+    pub fn from_problems(file: &str, problems: Vec<Problem>) -> BoardError {
+        let problems = problems
+            .into_iter()
+            .map(|p| Located {
+                place: if p.path.is_empty() { Place::Whole } else { Place::Path(p.path) },
+                reason: p.reason,
+            })
+            .collect();
+        BoardError { file: file.to_string(), problems }
+    }
+
+    /// One line per problem: `file:place: reason`.
+    pub fn lines(&self) -> Vec<String> {
+        self.problems
+            .iter()
+            .map(|p| match p.place {
+                Place::Whole => format!("{}: {}", self.file, p.reason),
+                _ => format!("{}:{}: {}", self.file, p.place, p.reason),
+            })
+            .collect()
+    }
+}
+
+impl fmt::Display for BoardError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{}", self.lines().join("\n"))
+    }
+}
+
+impl std::error::Error for BoardError {}
+
+/// Write `bytes` to `path` so that a crash at any moment leaves either the old file or the new one, never half of
+/// one: a temporary file beside the target (same directory, so the rename stays on one file system), written,
+/// flushed and synced, then renamed over the target.
+pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "board".into());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    let result = (|| {
+        let mut file = std::fs::File::create(&tmp)?;
+        file.write_all(bytes)?;
+        file.flush()?;
+        file.sync_all()?;
+        drop(file);
+        std::fs::rename(&tmp, path)
+    })();
+    if result.is_err() {
+        let _ = std::fs::remove_file(&tmp);
+    }
+    result
+}

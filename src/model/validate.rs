@@ -1,0 +1,165 @@
+//! The rules a board must keep before it is analysed. Every rule reports where (a JSON path such as
+//! `rails[1].decaps[0].part`) and why, and all problems are reported at once.
+
+use super::{Board, DecapGroup, Load, Part, Plane, Rail, Source};
+use crate::units::full_precision as num;
+use std::collections::HashSet;
+use std::fmt;
+
+/// One thing wrong with a board: where, and why.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Problem {
+    /// JSON path of the offending value, such as `rails[1].decaps[0].part` (empty for the whole document).
+    pub path: String,
+    /// What is wrong, in plain words.
+    pub reason: String,
+}
+
+impl Problem {
+    /// A problem at `path`.
+    pub fn new(path: impl Into<String>, reason: impl Into<String>) -> Problem {
+        Problem { path: path.into(), reason: reason.into() }
+    }
+}
+
+impl fmt::Display for Problem {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.path.is_empty() { write!(f, "{}", self.reason) } else { write!(f, "{}: {}", self.path, self.reason) }
+    }
+}
+
+/// Collects problems under a path prefix.
+struct Checker<'a> {
+    problems: &'a mut Vec<Problem>,
+}
+
+impl Checker<'_> {
+    fn push(&mut self, path: String, reason: impl Into<String>) {
+        self.problems.push(Problem::new(path, reason));
+    }
+
+    /// A finite number, > 0.
+    fn positive(&mut self, path: String, value: f64) {
+        if !value.is_finite() {
+            self.push(path, format!("must be a finite number, not {}", num(value)));
+        } else if value <= 0.0 {
+            self.push(path, format!("must be greater than 0, not {}", num(value)));
+        }
+    }
+
+    /// A finite number, >= 0.
+    fn non_negative(&mut self, path: String, value: f64) {
+        if !value.is_finite() {
+            self.push(path, format!("must be a finite number, not {}", num(value)));
+        } else if value < 0.0 {
+            self.push(path, format!("must not be negative, not {}", num(value)));
+        }
+    }
+
+    fn name(&mut self, path: String, name: &str, what: &str) {
+        if name.trim().is_empty() {
+            self.push(path, format!("{what} must not be empty"));
+        }
+    }
+}
+
+/// Check every rule of a board and return all the problems found (empty when the board is sound).
+pub fn validate_board(board: &Board) -> Vec<Problem> {
+    let mut problems = Vec::new();
+    let mut c = Checker { problems: &mut problems };
+    let mut ids = HashSet::new();
+    for (i, part) in board.parts.iter().enumerate() {
+        let path = format!("parts[{i}]");
+        check_part(&mut c, &path, part);
+        if !ids.insert(part.id.as_str()) {
+            c.push(format!("{path}.id"), format!("duplicate part id \"{}\"", part.id));
+        }
+    }
+    let mut names = HashSet::new();
+    for (i, rail) in board.rails.iter().enumerate() {
+        let path = format!("rails[{i}]");
+        check_rail(&mut c, &path, rail, &ids);
+        if !names.insert(rail.name.as_str()) {
+            c.push(format!("{path}.name"), format!("duplicate rail name \"{}\"", rail.name));
+        }
+    }
+    problems
+}
+
+/// Check one part on its own (also used by the window before an edit reaches the board).
+pub fn validate_part(part: &Part, path: &str) -> Vec<Problem> {
+    let mut problems = Vec::new();
+    check_part(&mut Checker { problems: &mut problems }, path, part);
+    problems
+}
+
+/// Check one rail on its own against the board's part ids (also used by the window before an edit lands).
+pub fn validate_rail(board: &Board, rail: &Rail, path: &str) -> Vec<Problem> {
+    let ids: HashSet<&str> = board.parts.iter().map(|p| p.id.as_str()).collect();
+    let mut problems = Vec::new();
+    check_rail(&mut Checker { problems: &mut problems }, path, rail, &ids);
+    problems
+}
+
+fn check_part(c: &mut Checker, path: &str, part: &Part) {
+    c.name(format!("{path}.id"), &part.id, "part id");
+    c.positive(format!("{path}.capacitance_f"), part.capacitance_f);
+    c.non_negative(format!("{path}.esr_ohm"), part.esr_ohm);
+    c.non_negative(format!("{path}.esl_h"), part.esl_h);
+    if let Some(v) = part.rated_voltage_v {
+        c.positive(format!("{path}.rated_voltage_v"), v);
+    }
+    if let Some(v) = part.unit_cost {
+        c.non_negative(format!("{path}.unit_cost"), v);
+    }
+}
+
+fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>) {
+    c.name(format!("{path}.name"), &rail.name, "rail name");
+    c.positive(format!("{path}.voltage_v"), rail.voltage_v);
+    let ripple = rail.ripple_pct;
+    if !ripple.is_finite() || ripple <= 0.0 || ripple >= 100.0 {
+        c.push(format!("{path}.ripple_pct"), format!("must be between 0 and 100 (exclusive), not {}", num(ripple)));
+    }
+    let [lo, hi] = rail.band_hz;
+    if !lo.is_finite() || !hi.is_finite() || lo <= 0.0 || hi <= lo {
+        c.push(
+            format!("{path}.band_hz"),
+            format!("must be [low, high] with 0 < low < high, not [{}, {}]", num(lo), num(hi)),
+        );
+    }
+    if let Some(Source { r_ohm, l_h }) = rail.source {
+        c.non_negative(format!("{path}.source.r_ohm"), r_ohm);
+        c.non_negative(format!("{path}.source.l_h"), l_h);
+    }
+    if let Some(Plane { capacitance_f, esr_ohm, esl_h }) = rail.plane {
+        c.positive(format!("{path}.plane.capacitance_f"), capacitance_f);
+        c.non_negative(format!("{path}.plane.esr_ohm"), esr_ohm);
+        c.non_negative(format!("{path}.plane.esl_h"), esl_h);
+    }
+    if rail.loads.is_empty() {
+        c.push(format!("{path}.loads"), "a rail needs at least one load (its current step sets the target)");
+    }
+    for (i, Load { name, step_a, rise_time_s }) in rail.loads.iter().enumerate() {
+        let lp = format!("{path}.loads[{i}]");
+        c.name(format!("{lp}.name"), name, "load name");
+        c.positive(format!("{lp}.step_a"), *step_a);
+        if let Some(t) = rise_time_s {
+            c.positive(format!("{lp}.rise_time_s"), *t);
+        }
+    }
+    for (i, DecapGroup { part, mounting_h, .. }) in rail.decaps.iter().enumerate() {
+        let gp = format!("{path}.decaps[{i}]");
+        if !part_ids.contains(part.as_str()) {
+            c.push(format!("{gp}.part"), format!("no part has the id \"{part}\""));
+        }
+        c.non_negative(format!("{gp}.mounting_h"), *mounting_h);
+    }
+    let has_branch = rail.source.is_some() || rail.plane.is_some() || rail.decaps.iter().any(|g| g.count > 0);
+    if !has_branch {
+        c.push(
+            path.to_string(),
+            "the rail has nothing between it and ground: give a source, a plane or a decap group with count > 0",
+        );
+    }
+}

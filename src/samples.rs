@@ -1,0 +1,15 @@
+//! The invented demo boards shipped with the program. One is built into the binary so that the planner and the
+//! check always have a board to show.
+
+use crate::io::{BoardError, parse_board};
+use crate::model::Board;
+
+/// The file name of the built-in board, as shown to people.
+pub const DEFAULT_SAMPLE_NAME: &str = "sample_boards/edge_camera.json";
+
+const DEFAULT_SAMPLE_TEXT: &str = include_str!("../sample_boards/edge_camera.json");
+
+/// The built-in sample board (an invented edge-camera main board).
+pub fn default_board() -> Result<Board, BoardError> {
+    parse_board(DEFAULT_SAMPLE_TEXT, DEFAULT_SAMPLE_NAME)
+}

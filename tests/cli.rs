@@ -1,0 +1,214 @@
+//! The command-line contract: output shapes, exit codes (0 pass, 1 miss, 2 bad input) and error messages.
+
+mod common;
+
+use common::*;
+use hushrail::analysis::{AnalysisOptions, analyze_rail};
+use hushrail::io::read_board;
+
+fn run(args: &[&str]) -> (i32, String, String) {
+    let out = hushrail().args(args).current_dir(root()).output().unwrap();
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn check_json_has_the_contract_fields_and_agrees_with_the_library() {
+    for (stem, path, board) in reference_boards() {
+        let (code, stdout, stderr) = run(&["check", path.to_str().unwrap(), "--json"]);
+        let v: serde_json::Value = serde_json::from_str(&stdout).unwrap_or_else(|e| panic!("{stem}: {e}\n{stderr}"));
+        let rails = v["rails"].as_array().unwrap();
+        assert_eq!(rails.len(), board.rails.len());
+        let mut all_meet = true;
+        for (i, r) in rails.iter().enumerate() {
+            let a = analyze_rail(&board, i, &AnalysisOptions::default()).unwrap();
+            assert_eq!(r["name"], a.rail.as_str());
+            assert_eq!(r["target_ohm"].as_f64().unwrap(), a.target_ohm, "full precision");
+            assert_eq!(r["worst_ohm"].as_f64().unwrap(), a.worst_ohm);
+            assert_eq!(r["worst_hz"].as_f64().unwrap(), a.worst_hz);
+            assert_eq!(r["meets_target"].as_bool().unwrap(), a.meets_target);
+            for v in r["violations"].as_array().unwrap() {
+                for k in ["from_hz", "to_hz", "peak_hz", "peak_ohm"] {
+                    assert!(v[k].is_f64(), "{k}");
+                }
+            }
+            for ar in r["antiresonances"].as_array().unwrap() {
+                assert!(ar["freq_hz"].is_f64() && ar["z_ohm"].is_f64() && ar["above_target"].is_boolean());
+            }
+            all_meet &= a.meets_target;
+        }
+        assert_eq!(code, if all_meet { 0 } else { 1 }, "{stem}: exit code");
+    }
+}
+
+#[test]
+fn sample_boards_show_both_verdicts() {
+    // The demo boards must show the tool's point: a rail that meets target and one that misses at an
+    // anti-resonance.
+    let mut meets = 0;
+    let mut misses_at_peak = 0;
+    for (_, path, board) in
+        reference_boards().into_iter().filter(|(_, p, _)| p.starts_with(root().join("sample_boards")))
+    {
+        assert!(board.rails.len() >= 2, "{}", show(&path));
+        for i in 0..board.rails.len() {
+            let a = analyze_rail(&board, i, &AnalysisOptions::default()).unwrap();
+            if a.meets_target {
+                meets += 1;
+            } else if a.antiresonances.iter().any(|r| r.above_target) {
+                misses_at_peak += 1;
+            }
+        }
+    }
+    assert!(meets >= 1 && misses_at_peak >= 1, "meets {meets}, misses at a peak {misses_at_peak}");
+}
+
+#[test]
+fn check_text_names_every_rail_and_verdict() {
+    let (code, stdout, _) = run(&["check", "sample_boards/edge_camera.json"]);
+    let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    for rail in &board.rails {
+        assert!(stdout.contains(&format!("{}:", rail.name)), "{stdout}");
+    }
+    assert!(stdout.contains("MEETS target") || stdout.contains("MISSES target"));
+    assert!(stdout.contains("rails meet target."));
+    assert!(code == 0 || code == 1);
+}
+
+#[test]
+fn sweep_csv_has_header_points_and_both_ends() {
+    let (code, stdout, stderr) = run(&[
+        "sweep",
+        "tests/networks/big_small.json",
+        "--rail",
+        "R1",
+        "--from",
+        "1k",
+        "--to",
+        "1G",
+        "--points",
+        "61",
+    ]);
+    assert_eq!(code, 0, "{stderr}");
+    let lines: Vec<&str> = stdout.lines().collect();
+    assert_eq!(lines[0], "freq_hz,z_mag_ohm,z_phase_deg,target_ohm");
+    assert_eq!(lines.len(), 62);
+    let first: Vec<f64> = lines[1].split(',').map(|x| x.parse().unwrap()).collect();
+    let last: Vec<f64> = lines[61].split(',').map(|x| x.parse().unwrap()).collect();
+    assert_eq!(first[0], 1e3);
+    assert_eq!(last[0], 1e9);
+    assert_eq!(first[3], 0.01, "target 1 V × 2 % / 2 A");
+    for l in &lines[1..] {
+        let cols: Vec<f64> = l.split(',').map(|x| x.parse().unwrap()).collect();
+        assert!(cols[2] > -180.0 && cols[2] <= 180.0);
+    }
+}
+
+#[test]
+fn sweep_defaults_to_the_band_and_1000_points() {
+    let (code, stdout, _) = run(&["sweep", "sample_boards/edge_camera.json", "--rail", "VCORE"]);
+    assert_eq!(code, 0);
+    let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let band = board.rail("VCORE").unwrap().band_hz;
+    let lines: Vec<&str> = stdout.lines().collect();
+    assert_eq!(lines.len(), 1001);
+    assert_eq!(lines[1].split(',').next().unwrap().parse::<f64>().unwrap(), band[0]);
+    assert_eq!(lines[1000].split(',').next().unwrap().parse::<f64>().unwrap(), band[1]);
+}
+
+#[test]
+fn bad_arguments_exit_2_with_a_reason() {
+    let cases: &[(&[&str], &str)] = &[
+        (&["sweep", "sample_boards/edge_camera.json", "--rail", "NOPE"], "no rail named \"NOPE\""),
+        (&["sweep", "sample_boards/edge_camera.json", "--rail", "VCORE", "--from", "abc"], "--from"),
+        (&["sweep", "sample_boards/edge_camera.json", "--rail", "VCORE", "--from", "1G", "--to", "1k"], "--to"),
+        (&["sweep", "sample_boards/edge_camera.json", "--rail", "VCORE", "--points", "1"], "--points"),
+        (&["check", "no/such/board.json"], "no/such/board.json"),
+        (&["check", "--frobnicate"], "--frobnicate"),
+    ];
+    for (args, needle) in cases {
+        let (code, stdout, stderr) = run(args);
+        assert_eq!(code, 2, "{args:?}: {stdout}{stderr}");
+        assert!(stderr.contains(needle), "{args:?}: {stderr}");
+    }
+}
+
+#[test]
+fn every_subcommand_has_help() {
+    for sub in ["check", "sweep", "netlist"] {
+        let (code, stdout, _) = run(&[sub, "--help"]);
+        assert_eq!(code, 0);
+        assert!(stdout.contains("Usage"), "{sub}: {stdout}");
+    }
+}
+
+/// The corpus of broken boards: each is refused with exit 2, and the message names the file and the place.
+#[test]
+fn malformed_boards_exit_2_and_name_the_place() {
+    let dir = root().join("tests/bad_boards");
+    let manifest = std::fs::read_to_string(dir.join("EXPECTED.tsv")).unwrap();
+    let mut n = 0;
+    for line in manifest.lines().filter(|l| !l.starts_with('#') && !l.trim().is_empty()) {
+        let (file, place) = line.split_once('\t').unwrap();
+        let path = format!("tests/bad_boards/{file}");
+        let (code, stdout, stderr) = run(&["check", &path]);
+        assert_eq!(code, 2, "{file}: {stdout}{stderr}");
+        assert!(stderr.contains(&path), "{file}: message must name the file: {stderr}");
+        assert!(stderr.contains(place), "{file}: message must name {place}: {stderr}");
+        assert!(!stderr.contains("panicked"), "{file}: {stderr}");
+        n += 1;
+    }
+    assert!(n >= 25, "the corpus holds {n} files");
+    let on_disk = std::fs::read_dir(&dir)
+        .unwrap()
+        .filter(|e| e.as_ref().unwrap().path().extension().is_some_and(|x| x == "json"))
+        .count();
+    assert_eq!(on_disk, n, "every corpus file is listed in EXPECTED.tsv");
+}
+
+/// All problems are reported at once, each on its own line.
+#[test]
+fn every_problem_is_reported_at_once() {
+    let text = r#"{"format":"hushrail-board","version":1,"name":"x",
+      "parts":[{"id":"a","kind":"ceramic","capacitance_f":-1,"esr_ohm":-1,"esl_h":0,"colour":"red"}],
+      "rails":[{"name":"R","voltage_v":0,"ripple_pct":100,"band_hz":[5,1],"loads":[],
+                "decaps":[{"part":"b","count":1.5,"mounting_h":0}]}]}"#;
+    let e = hushrail::io::parse_board(text, "many.json").unwrap_err();
+    let joined = e.to_string();
+    for place in [
+        "parts[0].colour",
+        "parts[0].capacitance_f",
+        "parts[0].esr_ohm",
+        "rails[0].voltage_v",
+        "rails[0].ripple_pct",
+        "rails[0].band_hz",
+        "rails[0].loads",
+        "rails[0].decaps[0].part",
+        "rails[0].decaps[0].count",
+    ] {
+        assert!(joined.contains(&format!("many.json:{place}: ")), "{place} missing from:\n{joined}");
+    }
+}
+
+#[test]
+fn save_is_atomic_and_stable() {
+    let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("b.json");
+    std::fs::write(&path, "old contents").unwrap();
+    hushrail::io::write_board(&path, &board).unwrap();
+    let first = std::fs::read_to_string(&path).unwrap();
+    let again = read_board(&path).unwrap();
+    assert_eq!(again, board);
+    hushrail::io::write_board(&path, &again).unwrap();
+    assert_eq!(std::fs::read_to_string(&path).unwrap(), first, "same board, same bytes");
+    let leftovers: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert_eq!(leftovers.len(), 1, "no temporary file left behind: {leftovers:?}");
+    // Writing into a folder that does not exist fails cleanly and names the file.
+    let bad = dir.path().join("missing/b.json");
+    let e = hushrail::io::write_board(&bad, &board).unwrap_err();
+    assert!(e.to_string().contains("missing/b.json"));
+}

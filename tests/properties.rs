@@ -1,0 +1,200 @@
+//! Properties that must hold for every input, checked on random ones (proptest).
+
+use hushrail::analysis::{AnalysisOptions, Network, analyze_rail};
+use hushrail::io::{board_to_string, parse_board};
+use hushrail::model::{Board, DecapGroup, Load, Part, PartKind, Plane, Rail, Source, validate_board};
+use hushrail::units::{Unit, format, format_sig, parse};
+use proptest::prelude::*;
+
+/// A value spread evenly in log between 10^lo and 10^hi.
+fn log_value(lo: f64, hi: f64) -> impl Strategy<Value = f64> {
+    (lo..hi).prop_map(|e: f64| 10f64.powf(e))
+}
+
+fn zero_or(s: impl Strategy<Value = f64>) -> impl Strategy<Value = f64> {
+    prop_oneof![1 => Just(0.0), 4 => s]
+}
+
+fn part_strategy(i: usize) -> impl Strategy<Value = Part> {
+    (log_value(-12.0, -1.0), zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-12.0, -7.0))).prop_map(
+        move |(c, esr, esl)| Part {
+            id: format!("p{i}"),
+            kind: PartKind::ALL[i % PartKind::ALL.len()],
+            capacitance_f: c,
+            esr_ohm: esr,
+            esl_h: esl,
+            rated_voltage_v: None,
+            case: None,
+            dielectric: None,
+            unit_cost: Some(0.01),
+        },
+    )
+}
+
+fn board_strategy() -> impl Strategy<Value = Board> {
+    let parts = (1usize..6).prop_flat_map(|n| (0..n).map(part_strategy).collect::<Vec<_>>());
+    parts.prop_flat_map(|parts| {
+        let n = parts.len();
+        let group = (0..n, 0u32..50, zero_or(log_value(-11.0, -8.0))).prop_map(|(p, count, m)| DecapGroup {
+            part: format!("p{p}"),
+            count,
+            mounting_h: m,
+        });
+        let source = proptest::option::of(
+            (zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-10.0, -6.0)))
+                .prop_map(|(r, l)| Source { r_ohm: r, l_h: l }),
+        );
+        let plane = proptest::option::of(
+            (log_value(-11.0, -7.0), zero_or(log_value(-5.0, -1.0)), zero_or(log_value(-13.0, -10.0)))
+                .prop_map(|(c, r, l)| Plane { capacitance_f: c, esr_ohm: r, esl_h: l }),
+        );
+        let rail = (
+            log_value(-1.0, 1.5),
+            0.1f64..50.0,
+            log_value(0.0, 6.0),
+            log_value(0.1, 4.0),
+            source,
+            plane,
+            proptest::collection::vec(group, 0..8),
+            proptest::collection::vec(log_value(-3.0, 2.0), 1..4),
+        )
+            .prop_map(|(v, ripple, lo, span, source, plane, mut decaps, steps)| {
+                if source.is_none() && plane.is_none() && decaps.iter().all(|g| g.count == 0) {
+                    decaps.push(DecapGroup { part: "p0".into(), count: 1, mounting_h: 0.0 });
+                }
+                Rail {
+                    name: "R".into(),
+                    voltage_v: v,
+                    ripple_pct: ripple,
+                    band_hz: [lo, lo * span],
+                    source,
+                    plane,
+                    loads: steps
+                        .into_iter()
+                        .enumerate()
+                        .map(|(i, s)| Load { name: format!("L{i}"), step_a: s, rise_time_s: Some(1e-9) })
+                        .collect(),
+                    decaps,
+                }
+            });
+        rail.prop_map(move |rail| Board {
+            name: "random".into(),
+            description: None,
+            parts: parts.clone(),
+            rails: vec![rail],
+        })
+    })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
+
+    /// Any valid board gives a finite |Z| with Re(Z) >= 0 (a passive network) everywhere, and the analysis never
+    /// panics and returns finite figures.
+    #[test]
+    fn valid_boards_give_finite_passive_impedance(board in board_strategy()) {
+        prop_assert!(validate_board(&board).is_empty(), "{:?}", validate_board(&board));
+        let rail = &board.rails[0];
+        let net = Network::of_rail(&board, rail);
+        for f in hushrail::analysis::log_grid(1.0, 1e10, 200) {
+            let z = net.impedance(f);
+            prop_assert!(z.re.is_finite() && z.im.is_finite(), "Z({f}) = {z}");
+            prop_assert!(z.re >= -1e-12 * z.norm(), "Re Z({f}) = {} < 0", z.re);
+        }
+        let a = analyze_rail(&board, 0, &AnalysisOptions { band_points: 200, ..Default::default() }).unwrap();
+        prop_assert!(a.worst_ohm.is_finite() && a.worst_ohm >= 0.0);
+        prop_assert!(a.worst_hz >= rail.band_hz[0] && a.worst_hz <= rail.band_hz[1]);
+        prop_assert_eq!(a.meets_target, a.violations.is_empty());
+        for w in a.antiresonances.windows(2) { prop_assert!(w[0].freq_hz < w[1].freq_hz); }
+        for w in a.violations.windows(2) { prop_assert!(w[0].to_hz <= w[1].from_hz); }
+    }
+
+    /// Load, save, load gives the same board, and saving twice gives the same text (stable files).
+    #[test]
+    fn save_load_round_trip(board in board_strategy()) {
+        let text = board_to_string(&board);
+        let back = parse_board(&text, "memory").map_err(|e| TestCaseError::fail(e.to_string()))?;
+        prop_assert_eq!(&back, &board);
+        prop_assert_eq!(board_to_string(&back), text);
+    }
+
+    /// Any bytes into the board parser give a board or an error, never a panic.
+    #[test]
+    fn parser_never_panics_on_bytes(bytes in proptest::collection::vec(any::<u8>(), 0..400)) {
+        let text = String::from_utf8_lossy(&bytes);
+        let _ = parse_board(&text, "fuzz.json");
+    }
+
+    /// JSON-shaped garbage (the harder case: it gets past the syntax check) gives a board or errors with places.
+    #[test]
+    fn parser_never_panics_on_json(value in json_strategy()) {
+        let text = value.to_string();
+        if let Err(e) = parse_board(&text, "fuzz.json") {
+            prop_assert!(!e.problems.is_empty());
+        }
+    }
+
+    /// Format then parse gives the value back within the rounding of 3 significant digits.
+    #[test]
+    fn format_then_parse(exp in -14.0f64..13.0, mant in 1.0f64..10.0, neg in any::<bool>()) {
+        let v = if neg { -mant * 10f64.powf(exp.floor()) } else { mant * 10f64.powf(exp.floor()) };
+        for unit in [Unit::Farad, Unit::Ohm, Unit::Henry, Unit::Hertz, Unit::None] {
+            let text = format(v, unit);
+            let back = parse(&text, unit).map_err(|e| TestCaseError::fail(e.to_string()))?;
+            prop_assert!((back - v).abs() <= 5e-3 * v.abs(), "{v} -> {text} -> {back}");
+            let text6 = format_sig(v, unit, 6);
+            let back6 = parse(&text6, unit).map_err(|e| TestCaseError::fail(e.to_string()))?;
+            prop_assert!((back6 - v).abs() <= 5e-6 * v.abs(), "{v} -> {text6} -> {back6}");
+        }
+    }
+
+    /// Any text into the quantity parser gives a value or a reason, never a panic.
+    #[test]
+    fn unit_parser_never_panics(text in ".{0,20}") {
+        if let Err(e) = parse(&text, Unit::Farad) { prop_assert!(!e.reason.is_empty()); }
+    }
+}
+
+fn json_strategy() -> impl Strategy<Value = serde_json::Value> {
+    use serde_json::{Value, json};
+    let leaf = prop_oneof![
+        Just(Value::Null),
+        any::<bool>().prop_map(Value::Bool),
+        any::<f64>().prop_filter("finite", |x| x.is_finite()).prop_map(|x| json!(x)),
+        (-5i64..100).prop_map(|x| json!(x)),
+        "[a-z_]{0,12}".prop_map(Value::String),
+        Just(json!("hushrail-board")),
+        Just(json!("ceramic")),
+    ];
+    let keys = prop_oneof![
+        Just("format".to_string()),
+        Just("version".to_string()),
+        Just("name".to_string()),
+        Just("parts".to_string()),
+        Just("rails".to_string()),
+        Just("id".to_string()),
+        Just("kind".to_string()),
+        Just("capacitance_f".to_string()),
+        Just("esr_ohm".to_string()),
+        Just("esl_h".to_string()),
+        Just("voltage_v".to_string()),
+        Just("ripple_pct".to_string()),
+        Just("band_hz".to_string()),
+        Just("loads".to_string()),
+        Just("decaps".to_string()),
+        Just("part".to_string()),
+        Just("count".to_string()),
+        Just("mounting_h".to_string()),
+        Just("step_a".to_string()),
+        Just("source".to_string()),
+        Just("plane".to_string()),
+        "[a-z]{1,6}",
+    ];
+    leaf.prop_recursive(4, 64, 8, move |inner| {
+        prop_oneof![
+            proptest::collection::vec(inner.clone(), 0..4).prop_map(Value::Array),
+            proptest::collection::btree_map(keys.clone(), inner, 0..6)
+                .prop_map(|m| Value::Object(m.into_iter().collect())),
+        ]
+    })
+}
