@@ -15,16 +15,12 @@ const SWEEP: AcSweep = AcSweep { from_hz: 1e3, to_hz: 1e9, points_per_decade: 20
 const DATA: &str = "hushrail_ac.txt";
 
 /// Compare our impedance with SPICE's rows (f, Re V, Im V) for one rail; return the worst |Z| and phase errors.
-fn compare(
-    board: &hushrail::model::Board,
-    rail: &hushrail::model::Rail,
-    rows: &[(f64, f64, f64)],
-    what: &str,
-) -> (f64, f64) {
+fn compare(board: &hushrail::model::Board, rail: &hushrail::model::Rail, rows: &[Vec<f64>], what: &str) -> (f64, f64) {
     assert_eq!(rows.len(), 121, "{what}: 6 decades at 20 per decade, both ends");
     let network = Network::of_rail(board, rail);
     let (mut worst_mag, mut worst_phase) = (0.0f64, 0.0f64);
-    for &(f, re, im) in rows {
+    for row in rows {
+        let (f, re, im) = (row[0], row[1], row[2]);
         let (ours_mag, ours_phase) = magnitude_phase(network.impedance(f));
         let (ref_mag, ref_phase) = magnitude_phase(num_complex::Complex64::new(re, im));
         let dm = rel(ours_mag, ref_mag);

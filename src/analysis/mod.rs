@@ -2,12 +2,14 @@
 //! no window, no command line.
 
 mod advice;
+mod droop;
 mod findings;
 mod grid;
 mod network;
 mod rail;
 
 pub use advice::{Finding, Severity, explain};
+pub use droop::{Droop, DroopError, DroopOptions, PatternResponse, Pulse, droop, pattern_response};
 pub use findings::{Extremum, ViolationBand};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, magnitude_phase};

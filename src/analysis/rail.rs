@@ -27,7 +27,7 @@ impl Default for AnalysisOptions {
 /// The target impedance of a rail: V × ripple / ΔI, with ΔI the sum of the loads' steps (the worst case, every
 /// step at once). Ω.
 pub fn target_impedance(rail: &Rail) -> f64 {
-    rail.voltage_v * rail.ripple_pct / 100.0 / rail.total_step_a()
+    rail.voltage_v * rail.ripple_pct / (100.0 * rail.total_step_a())
 }
 
 /// A branch named in a finding.

@@ -109,6 +109,17 @@ fn to_text(board: &Board, file: &str, results: &[(RailAnalysis, Vec<Finding>)]) 
             a.margin_db,
             a.worst_ohm / a.target_ohm,
         );
+        let groups: Vec<String> = a
+            .groups
+            .iter()
+            .map(|g| match g.self_resonance_hz {
+                Some(f) => format!("{} ×{} (self-resonant at {})", g.part, g.count, format(f, Unit::Hertz)),
+                None => format!("{} ×{}", g.part, g.count),
+            })
+            .collect();
+        if !groups.is_empty() {
+            let _ = writeln!(t, "  groups: {}", groups.join(", "));
+        }
         for f in findings {
             let mark = match f.severity {
                 Severity::Fail => "x",

@@ -2,6 +2,7 @@
 //! exit 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
 
 mod check;
+mod droop;
 mod netlist;
 mod sweep;
 
@@ -40,6 +41,10 @@ pub enum Command {
     Check(check::CheckArgs),
     /// Print |Z(f)| of one rail as CSV: freq_hz,z_mag_ohm,z_phase_deg,target_ohm.
     Sweep(sweep::SweepArgs),
+    /// The rail's voltage after a load-current step, and the worst case over on/off load patterns.
+    ///
+    /// Exit status: 0 when the step's droop stays within voltage × ripple, 1 when not, 2 on bad input.
+    Droop(droop::DroopArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
     Netlist(netlist::NetlistArgs),
 }
@@ -50,6 +55,7 @@ pub fn run(command: Command) -> i32 {
         Command::Check(args) => check::run(&args),
         Command::Sweep(args) => sweep::run(&args),
         Command::Netlist(args) => netlist::run(&args),
+        Command::Droop(args) => droop::run(&args),
     };
     match result {
         Ok(code) => code,
