@@ -2,7 +2,7 @@
 
 use super::{EXIT_MISS, EXIT_PASS, emit, load_board};
 use crate::analysis::{DroopOptions, droop};
-use crate::units::{Unit, format, full_precision, parse};
+use crate::units::{Unit, format, parse, push_full_precision};
 use clap::Args;
 use serde_json::json;
 use std::fmt::Write;
@@ -52,9 +52,13 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
     };
     let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
     if args.csv {
-        let mut t = String::from("t_s,v\n");
+        let mut t = String::with_capacity(48 * d.waveform.len() + 8);
+        t.push_str("t_s,v\n");
         for [time, v] in &d.waveform {
-            let _ = writeln!(t, "{},{}", full_precision(*time), full_precision(*v));
+            push_full_precision(&mut t, *time);
+            t.push(',');
+            push_full_precision(&mut t, *v);
+            t.push('\n');
         }
         emit(&t);
     } else if args.json {

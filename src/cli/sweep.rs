@@ -2,9 +2,8 @@
 
 use super::{EXIT_PASS, emit, load_board};
 use crate::analysis::{log_grid, magnitude_phase, sweep, target_impedance};
-use crate::units::{Unit, full_precision, parse};
+use crate::units::{Unit, full_precision, parse, push_full_precision};
 use clap::Args;
-use std::fmt::Write;
 use std::path::PathBuf;
 
 /// Options of `hushrail sweep`.
@@ -56,8 +55,12 @@ pub fn run(args: &SweepArgs) -> Result<i32, String> {
     let target_text = full_precision(target);
     for (f, z) in grid.iter().zip(&z) {
         let (mag, phase) = magnitude_phase(*z);
-        let _ =
-            writeln!(text, "{},{},{},{}", full_precision(*f), full_precision(mag), full_precision(phase), target_text);
+        for x in [*f, mag, phase] {
+            push_full_precision(&mut text, x);
+            text.push(',');
+        }
+        text.push_str(&target_text);
+        text.push('\n');
     }
     emit(&text);
     Ok(EXIT_PASS)
