@@ -112,7 +112,7 @@ fn sweep_defaults_to_the_band_and_1000_points() {
     let (code, stdout, _) = run(&["sweep", "sample_boards/edge_camera.json", "--rail", "VCORE"]);
     assert_eq!(code, 0);
     let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
-    let band = board.rail("VCORE").unwrap().band_hz;
+    let band = board.rail("VCORE").unwrap().band_hz.unwrap();
     let lines: Vec<&str> = stdout.lines().collect();
     assert_eq!(lines.len(), 1001);
     assert_eq!(lines[1].split(',').next().unwrap().parse::<f64>().unwrap(), band[0]);

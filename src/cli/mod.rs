@@ -76,6 +76,44 @@ fn load_board(path: Option<&PathBuf>) -> Result<(Board, String), String> {
     }
 }
 
+/// Where to look from, as the command line spells it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ViewArg {
+    /// At the board's rail node.
+    Board,
+    /// At the die, through the package (the rail must give one).
+    Die,
+}
+
+impl ViewArg {
+    /// The library's view, or a message when the rail has no die to look from.
+    fn resolve(self, rail: &crate::model::Rail) -> Result<crate::analysis::View, String> {
+        match self {
+            ViewArg::Board => Ok(crate::analysis::View::Board),
+            ViewArg::Die if rail.package.is_some() => Ok(crate::analysis::View::Die),
+            ViewArg::Die => Err(format!("rail {} gives no package, so it has no die view", rail.name)),
+        }
+    }
+}
+
+/// Which derating corner, as the command line spells it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum CornerArg {
+    /// Part values as given (with a part's own DC-bias curve at the rail voltage).
+    Nominal,
+    /// Lowest effective capacitance: DC bias, temperature class limit and tolerance.
+    Worst,
+}
+
+impl From<CornerArg> for crate::physics::Corner {
+    fn from(c: CornerArg) -> Self {
+        match c {
+            CornerArg::Nominal => crate::physics::Corner::Nominal,
+            CornerArg::Worst => crate::physics::Corner::Worst,
+        }
+    }
+}
+
 /// The rail a command names, or a message that lists the board's rails.
 fn find_rail<'b>(board: &'b Board, file: &str, name: &str) -> Result<&'b crate::model::Rail, String> {
     board.rail(name).ok_or_else(|| {
@@ -93,5 +131,5 @@ fn emit(text: &str) {
 /// What `hushrail` with no subcommand does until the window is built: the check of BOARD, or of the built-in
 /// sample board.
 pub fn check_default(board: Option<&PathBuf>) -> i32 {
-    run(Command::Check(check::CheckArgs { board: board.cloned(), json: false }))
+    run(Command::Check(check::CheckArgs { board: board.cloned(), json: false, corner: CornerArg::Nominal }))
 }
