@@ -218,6 +218,20 @@ fn peak_hint(board: &Board, rail: &Rail, a: &AntiResonance) -> String {
             tips.push(format!("fit more of {}", name.unwrap_or_default()))
         }
         Some(BranchKind::Plane) => tips.push("add small parts that stay capacitive past this frequency".into()),
+        Some(BranchKind::Die) => {
+            tips.push(
+                "lower the inductance the die sees through the package: more small parts with low mounting \
+                 inductance, self-resonant near or above this frequency"
+                    .into(),
+            );
+            if matches!(a.inductive_side.as_ref().map(|b| b.kind), Some(BranchKind::Package)) {
+                tips.push(
+                    "the package's own inductance sets this peak: more die capacitance or a package with \
+                           less inductance moves it"
+                        .into(),
+                );
+            }
+        }
         _ => {}
     }
     if matches!(a.inductive_side.as_ref().map(|b| b.kind), Some(BranchKind::Source)) {

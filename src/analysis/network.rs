@@ -176,18 +176,27 @@ impl Network {
     }
 
     /// The branches that bracket a peak at `f_hz` in `view`: the one already inductive just below it and the
-    /// one still capacitive just above it. At the board (and at the die while the board dominates) these are the
-    /// board branches with the nearest self-resonances below and above; at the die, where the package's reactance
-    /// exceeds the board's impedance, the peak is the package's inductance against the die capacitance.
+    /// one still capacitive just above it. At the board these are the branches with the nearest self-resonances
+    /// below and above. At the die, a peak where the path behind the die (package plus board) is inductive is
+    /// that path against the die capacitance; its inductive side is the package when the package's reactance
+    /// exceeds the board's, else the board's inductive branch.
     pub fn bracketing(&self, f_hz: f64, view: View) -> (Option<&Branch>, Option<&Branch>) {
+        let (below, above) = self.board_bracketing(f_hz);
         if view == View::Die
             && let (Some(p), Some(d)) = (&self.package, &self.die)
         {
-            let board_z = invert(admittance(self.branches.iter().map(|b| b.rlc.impedance(f_hz)))).norm();
-            if p.rlc.impedance(f_hz).im > board_z {
-                return (Some(p), Some(d));
+            let board_z = invert(admittance(self.branches.iter().map(|b| b.rlc.impedance(f_hz))));
+            let package_z = p.rlc.impedance(f_hz);
+            if (board_z + package_z).im > 0.0 {
+                let inductive = if package_z.im > board_z.im { Some(p) } else { below };
+                return (inductive, Some(d));
             }
         }
+        (below, above)
+    }
+
+    /// The board branches with the nearest self-resonances below and above `f_hz`.
+    fn board_bracketing(&self, f_hz: f64) -> (Option<&Branch>, Option<&Branch>) {
         let mut below: Option<&Branch> = None;
         let mut above: Option<&Branch> = None;
         for b in &self.branches {

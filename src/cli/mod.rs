@@ -2,7 +2,9 @@
 //! exit 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
 
 mod check;
+mod coupling;
 mod droop;
+mod mounting;
 mod netlist;
 mod sweep;
 
@@ -45,6 +47,10 @@ pub enum Command {
     ///
     /// Exit status: 0 when the step's droop stays within voltage × ripple, 1 when not, 2 on bad input.
     Droop(droop::DroopArgs),
+    /// The mounting inductance of a capacitor from its pad, trace and via geometry, term by term.
+    Mounting(mounting::MountingArgs),
+    /// Size a series coupling capacitor for the lowest frequency it must pass.
+    Coupling(coupling::CouplingArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
     Netlist(netlist::NetlistArgs),
 }
@@ -56,6 +62,8 @@ pub fn run(command: Command) -> i32 {
         Command::Sweep(args) => sweep::run(&args),
         Command::Netlist(args) => netlist::run(&args),
         Command::Droop(args) => droop::run(&args),
+        Command::Mounting(args) => mounting::run(&args),
+        Command::Coupling(args) => coupling::run(&args),
     };
     match result {
         Ok(code) => code,

@@ -2,6 +2,7 @@
 //! capacitance a part really has under bias, temperature and tolerance.
 
 mod branch;
+pub mod coupling;
 pub mod derating;
 pub mod mounting;
 
