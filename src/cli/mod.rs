@@ -6,6 +6,7 @@ mod coupling;
 mod droop;
 mod mounting;
 mod netlist;
+mod suggest;
 mod sweep;
 
 use crate::io::{BoardError, read_board};
@@ -51,6 +52,10 @@ pub enum Command {
     Mounting(mounting::MountingArgs),
     /// Size a series coupling capacitor for the lowest frequency it must pass.
     Coupling(coupling::CouplingArgs),
+    /// Suggest mixes of candidate parts that meet a rail's target at the least cost, count or board area.
+    ///
+    /// Exit status: 0 when some option meets target, 1 when none can (the reason is printed), 2 on bad input.
+    Suggest(suggest::SuggestArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
     Netlist(netlist::NetlistArgs),
 }
@@ -64,6 +69,7 @@ pub fn run(command: Command) -> i32 {
         Command::Droop(args) => droop::run(&args),
         Command::Mounting(args) => mounting::run(&args),
         Command::Coupling(args) => coupling::run(&args),
+        Command::Suggest(args) => suggest::run(&args),
     };
     match result {
         Ok(code) => code,
