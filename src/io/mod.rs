@@ -2,9 +2,14 @@
 
 mod board_file;
 mod netlist;
+mod touchstone;
 
 pub use board_file::{FORMAT_TAG, FORMAT_VERSION, board_to_string, parse_board, read_board, write_board};
 pub use netlist::{AcSweep, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
+pub use touchstone::{
+    DataFormat, Fixture, Parameter, Touchstone, TouchstoneError, Version, one_port_s_to_z, parse_touchstone,
+    ports_from_extension, read_touchstone, s1p_string, shunt_through_s21_to_z, write_s1p, z_to_one_port_s,
+};
 
 use crate::model::Problem;
 use std::fmt;
