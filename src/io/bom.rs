@@ -141,7 +141,7 @@ pub fn bom_text(board: &Board, bom: &Bom) -> String {
         let _ = writeln!(t, "{}", line.trim_end());
     }
     let total_count: u64 = bom.lines.iter().map(|l| l.total).sum();
-    let _ = writeln!(t, "{total_count} parts of {} kinds; total cost {}", bom.lines.len(), total_cost_words(bom));
+    let _ = writeln!(t, "{total_count} parts of {} kinds; total cost: {}", bom.lines.len(), total_cost_words(bom));
     if !bom.unused.is_empty() {
         let _ = writeln!(t, "Listed but not fitted: {}", bom.unused.join(", "));
     }

@@ -356,7 +356,7 @@ fn bom_section(h: &mut String, board: &Board) {
     let total_count: u64 = bom.lines.iter().map(|l| l.total).sum();
     let _ = writeln!(
         h,
-        "</table>\n<p>{total_count} parts of {} kinds; total cost {}.</p>",
+        "</table>\n<p>{total_count} parts of {} kinds; total cost: {}.</p>",
         bom.lines.len(),
         escape(&total_cost_words(&bom))
     );
