@@ -148,21 +148,6 @@ pub fn bom_text(board: &Board, bom: &Bom) -> String {
     t
 }
 
-#[cfg(test)]
-mod tests {
-    use super::money;
-
-    #[test]
-    fn small_amounts_keep_their_digits() {
-        assert_eq!(money(0.003), "0.003");
-        assert_eq!(money(0.036000000000000004), "0.036");
-        assert_eq!(money(1.0499999999999998), "1.05");
-        assert_eq!(money(12.0), "12.00");
-        assert_eq!(money(0.1234), "0.123");
-        assert_eq!(money(0.0), "0.00");
-    }
-}
-
 /// Quote a CSV field when it needs it (RFC 4180: commas, quotes, line breaks).
 fn csv_field(text: &str) -> String {
     if text.contains([',', '"', '\n', '\r']) { format!("\"{}\"", text.replace('"', "\"\"")) } else { text.to_string() }
@@ -203,4 +188,19 @@ pub fn bom_csv(bom: &Bom) -> String {
         t.push('\n');
     }
     t
+}
+
+#[cfg(test)]
+mod tests {
+    use super::money;
+
+    #[test]
+    fn small_amounts_keep_their_digits() {
+        assert_eq!(money(0.003), "0.003");
+        assert_eq!(money(0.036000000000000004), "0.036");
+        assert_eq!(money(1.0499999999999998), "1.05");
+        assert_eq!(money(12.0), "12.00");
+        assert_eq!(money(0.1234), "0.123");
+        assert_eq!(money(0.0), "0.00");
+    }
 }

@@ -409,22 +409,22 @@ impl Reader<'_> {
             values.push(parse_number(word).ok_or_else(|| self.err(n, format!("\"{word}\" is not a number")))?);
         }
         let f = values[0] * self.unit_hz;
-        if let Some(&last) = self.freq_hz.last() {
-            if f <= last {
-                // Version 1.1: noise parameters of a 2-port follow its network data, starting at a frequency not
-                // above the last one, five numbers a line.
-                if self.version == Version::V1 && ports == 2 && values.len() == 5 {
-                    return Ok(false);
-                }
-                return Err(self.err(
-                    n,
-                    format!(
-                        "frequency {} is not above the previous one ({}): frequencies must increase",
-                        values[0],
-                        last / self.unit_hz
-                    ),
-                ));
+        if let Some(&last) = self.freq_hz.last()
+            && f <= last
+        {
+            // Version 1.1: noise parameters of a 2-port follow its network data, starting at a frequency not
+            // above the last one, five numbers a line.
+            if self.version == Version::V1 && ports == 2 && values.len() == 5 {
+                return Ok(false);
             }
+            return Err(self.err(
+                n,
+                format!(
+                    "frequency {} is not above the previous one ({}): frequencies must increase",
+                    values[0],
+                    last / self.unit_hz
+                ),
+            ));
         }
         let want = 1 + 2 * entries;
         if values.len() != want {
@@ -596,25 +596,24 @@ pub fn parse_touchstone(text: &str, file: &str, ports: Option<usize>) -> Result<
             reason: "no option line (# <unit> <parameter> <format> R <impedance>)".into(),
         });
     }
-    if let (Version::V2, Some(from_name), Some(declared)) = (r.version, ports, r.ports) {
-        if from_name != declared {
-            return Err(TouchstoneError {
-                file: file.into(),
-                line: None,
-                reason: format!("the file name says {from_name} port(s) but [Number of Ports] says {declared}"),
-            });
-        }
+    if let (Version::V2, Some(from_name), Some(declared)) = (r.version, ports, r.ports)
+        && from_name != declared
+    {
+        return Err(TouchstoneError {
+            file: file.into(),
+            line: None,
+            reason: format!("the file name says {from_name} port(s) but [Number of Ports] says {declared}"),
+        });
     }
     if r.freq_hz.is_empty() {
         return Err(TouchstoneError { file: file.into(), line: None, reason: "no network data".into() });
     }
-    if let Some((want, line)) = r.expected_frequencies {
-        if want != r.freq_hz.len() {
-            return Err(r.err(
-                line,
-                format!("[Number of Frequencies] says {want} but the network data has {}", r.freq_hz.len()),
-            ));
-        }
+    if let Some((want, line)) = r.expected_frequencies
+        && want != r.freq_hz.len()
+    {
+        return Err(
+            r.err(line, format!("[Number of Frequencies] says {want} but the network data has {}", r.freq_hz.len()))
+        );
     }
     let ports = r.ports.unwrap_or(1);
     let data = r.matrices(ports);
