@@ -177,3 +177,61 @@ fn malformed_files_name_the_file_the_line_and_the_reason() {
         }
     }
 }
+
+mod properties {
+    use hushrail::io::{Fixture, parse_touchstone, s1p_string};
+    use num_complex::Complex64;
+    use proptest::prelude::*;
+
+    /// Lines a Touchstone file is made of, some of them broken, for the no-panic property.
+    fn line() -> impl Strategy<Value = String> {
+        prop_oneof![
+            Just("# MHz S RI R 50".to_string()),
+            Just("# GHz Z MA".to_string()),
+            Just("[Version] 2.0".to_string()),
+            Just("[Number of Ports] 2".to_string()),
+            Just("[Two-Port Data Order] 21_12".to_string()),
+            Just("[Number of Frequencies] 2".to_string()),
+            Just("[Matrix Format] Lower".to_string()),
+            Just("[Network Data]".to_string()),
+            Just("[End]".to_string()),
+            Just("! a comment".to_string()),
+            prop::collection::vec(-1e3f64..1e3, 1..10).prop_map(|v| v
+                .iter()
+                .map(|x| x.to_string())
+                .collect::<Vec<_>>()
+                .join(" ")),
+            "\\PC{0,30}",
+        ]
+    }
+
+    proptest! {
+        #[test]
+        fn the_reader_never_panics(lines in prop::collection::vec(line(), 0..12), ports in 0usize..4) {
+            let text = lines.join("\n");
+            let ports = if ports == 0 { None } else { Some(ports) };
+            if let Ok(t) = parse_touchstone(&text, "random.s2p", ports) {
+                prop_assert!(t.freq_hz.windows(2).all(|w| w[0] < w[1]));
+                prop_assert_eq!(t.data.len(), t.freq_hz.len());
+                let _ = t.impedance(Fixture::OnePort);
+                let _ = t.impedance(Fixture::ShuntThrough);
+            }
+        }
+
+        #[test]
+        fn write_then_read_gives_the_same_s(
+            points in prop::collection::vec((1e-6f64..1e3, -1e3f64..1e3), 1..20),
+            z0 in 1.0f64..100.0,
+        ) {
+            let f: Vec<f64> = (0..points.len()).map(|i| 1e3 * (i + 1) as f64).collect();
+            let z: Vec<Complex64> = points.iter().map(|&(r, x)| Complex64::new(r, x)).collect();
+            let t = parse_touchstone(&s1p_string(&f, &z, z0, &[]), "w.s1p", Some(1)).unwrap();
+            prop_assert_eq!(&t.freq_hz, &f);
+            prop_assert_eq!(t.z0_ohm, z0);
+            let back = t.impedance(Fixture::OnePort).unwrap();
+            for (a, b) in back.iter().zip(&z) {
+                prop_assert!((a - b).norm() <= 1e-8 * b.norm().max(z0), "{} vs {}", a, b);
+            }
+        }
+    }
+}
