@@ -101,23 +101,25 @@ pub fn impedance_svg(analysis: &RailAnalysis) -> Result<String, String> {
         root.fill(&WHITE).map_err(e)?;
         let mut chart = ChartBuilder::on(&root)
             .margin(14)
-            .x_label_area_size(40)
-            .y_label_area_size(72)
+            .margin_right(34)
+            .x_label_area_size(56)
+            .y_label_area_size(90)
             .build_cartesian_2d(DecadeAxis::new(xlo, xhi), DecadeAxis::new(ylo, yhi))
             .map_err(e)?;
         chart
             .configure_mesh()
             .x_label_formatter(&|v| format_sig(10f64.powf(*v), Unit::Hertz, 1))
             .y_label_formatter(&|v| format_sig(10f64.powf(*v), Unit::Ohm, 1))
-            .label_style(("sans-serif", 13))
-            .axis_desc_style(("sans-serif", 14))
+            .label_style(("sans-serif", 16))
+            .axis_desc_style(("sans-serif", 17))
             .x_desc("frequency")
             .y_desc("|Z|")
-            .bold_line_style(BLACK.mix(0.22))
-            .light_line_style(BLACK.mix(0.07))
+            .bold_line_style(RGBColor(190, 190, 190))
+            .light_line_style(RGBColor(232, 232, 232))
             .draw()
             .map_err(e)?;
-        let shade = RED.mix(0.12).filled();
+        // Solid tints rather than transparency, so that every SVG renderer shows the same picture.
+        let shade = RGBColor(252, 222, 222).filled();
         chart
             .draw_series(
                 analysis
@@ -142,9 +144,9 @@ pub fn impedance_svg(analysis: &RailAnalysis) -> Result<String, String> {
         chart
             .configure_series_labels()
             .position(SeriesLabelPosition::UpperLeft)
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK.mix(0.3))
-            .label_font(("sans-serif", 13))
+            .background_style(WHITE)
+            .border_style(RGBColor(160, 160, 160))
+            .label_font(("sans-serif", 16))
             .draw()
             .map_err(e)?;
         root.present().map_err(e)?;
