@@ -165,3 +165,61 @@ fn bom_text_says_when_no_cost_is_given() {
         assert!(unused_line.contains(id.as_str()), "{unused_line}");
     }
 }
+
+#[test]
+fn export_follows_the_view_and_the_corner() {
+    use hushrail::analysis::{View, sweep_in};
+    use hushrail::physics::Corner;
+    let dir = tempfile::tempdir().unwrap();
+    let path = root().join("tests/networks/package_die.json");
+    let board = read_board(&path).unwrap();
+    let rail = &board.rails[0];
+    let grid = log_grid(1e3, 1e9, 41);
+    for (view, corner, v, c) in [
+        ("board", "nominal", View::Board, Corner::Nominal),
+        ("die", "nominal", View::Die, Corner::Nominal),
+        ("die", "worst", View::Die, Corner::Worst),
+    ] {
+        let csv = dir.path().join(format!("{view}_{corner}.csv"));
+        let (code, _, stderr) = run(&[
+            "export",
+            path.to_str().unwrap(),
+            "--rail",
+            &rail.name,
+            "--points",
+            "41",
+            "--from",
+            "1k",
+            "--to",
+            "1G",
+            "--view",
+            view,
+            "--corner",
+            corner,
+            "--csv",
+            csv.to_str().unwrap(),
+        ]);
+        assert_eq!(code, 0, "{stderr}");
+        let z = sweep_in(&board, rail, &grid, v, c);
+        let text = std::fs::read_to_string(&csv).unwrap();
+        for (line, z) in text.lines().skip(1).zip(&z) {
+            let cells: Vec<f64> = line.split(',').map(|x| x.parse().unwrap()).collect();
+            assert_eq!((cells[1], cells[2]), (z.re, z.im), "{view}/{corner}");
+        }
+    }
+    // A rail without a package has no die view.
+    let s1p = dir.path().join("x.s1p");
+    let (code, _, stderr) = run(&[
+        "export",
+        "tests/networks/big_small.json",
+        "--rail",
+        "R1",
+        "--view",
+        "die",
+        "--touchstone",
+        s1p.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2);
+    assert!(stderr.contains("no die view"), "{stderr}");
+    assert!(!s1p.exists());
+}

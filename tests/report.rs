@@ -65,6 +65,8 @@ fn check_report(what: &str, board: &Board, html: &str) -> Html {
         assert!(verdict.starts_with(want), "{what}/{}: {verdict}", rail.name);
         assert!(verdict.contains(&format!("{:+.1} dB", a.margin_db)), "{what}/{}: margin in {verdict}", rail.name);
         let body = text_of(*section);
+        assert_eq!(body.contains("At the board instead: "), rail.package.is_some(), "{what}/{}", rail.name);
+        assert!(body.contains("In the worst corner of the parts' derating: "), "{what}/{}", rail.name);
         for f in explain(board, rail, &a) {
             assert!(body.contains(&f.text), "{what}/{}: finding missing: {}", rail.name, f.text);
             assert!(body.contains(&f.hint), "{what}/{}: hint missing: {}", rail.name, f.hint);

@@ -14,8 +14,9 @@
 //! the total rise of s over the window, and the pattern switches the load on and off at those extrema.
 
 use super::findings::scan;
-use super::network::Network;
+use super::network::{Branch, Network, View};
 use crate::model::{Board, Rail};
+use crate::physics::SeriesRlc;
 use std::fmt;
 
 /// How to run a droop analysis; `None` fields take the defaults documented on each.
@@ -69,11 +70,29 @@ pub struct Pulse {
     pub off_s: f64,
 }
 
-/// The result of a droop analysis.
+/// The droop at one node.
+#[derive(Debug, Clone, PartialEq)]
+pub struct NodeDroop {
+    /// The lowest voltage after the step, V.
+    pub min_v: f64,
+    /// When it occurs, s after the start of the ramp.
+    pub t_min_s: f64,
+    /// nominal − min, V.
+    pub droop_v: f64,
+    /// The step's waveform there: (t, V) at evenly spaced times over the window.
+    pub waveform: Vec<[f64; 2]>,
+}
+
+/// The result of a droop analysis. The figures are at the die when the rail gives a package (the load draws its
+/// current there), else at the board's rail node.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Droop {
     /// The rail's name.
     pub rail: String,
+    /// Where the main figures are taken.
+    pub node: View,
+    /// The board node's figures, when the main figures are at the die.
+    pub board_node: Option<NodeDroop>,
     /// The step, A.
     pub step_a: f64,
     /// The rise time used, s.
@@ -110,84 +129,129 @@ pub struct Droop {
     pub worst_case_meets: bool,
 }
 
-/// A branch in the time domain: series R, L and (optionally) C to a fixed potential (ground, or the supply for
-/// the source), with its state.
+/// A branch in the time domain: series R, L and (optionally) C between two points, with its state.
 struct TimeBranch {
     r: f64,
     l: f64,
     /// 1/C, or 0 for a branch without capacitor.
     c_inv: f64,
-    /// Current into the branch from the rail node, A.
+    /// Current through the branch, A.
     i: f64,
-    /// Capacitor voltage plus the fixed potential at the far end, V.
+    /// Capacitor voltage plus any fixed potential at the far end (the supply, for the source), V.
     vc: f64,
+    /// The voltage across the branch at the last step, V.
+    v: f64,
+}
+
+impl TimeBranch {
+    fn new(b: &Branch, vc: f64, v: f64) -> TimeBranch {
+        TimeBranch { r: b.rlc.r_ohm, l: b.rlc.l_h, c_inv: b.rlc.c_f.map_or(0.0, |c| 1.0 / c), i: 0.0, vc, v }
+    }
+
+    /// The branch over the next step as i1 = (v1 − e)/k: its discrete impedance k and the voltage e its history
+    /// leaves.
+    ///  BE:  v1 = R i1 + L (i1 − i0)/h + vc1,  vc1 = vc0 + h i1 / C
+    ///  TR:  (v1 + v0)/2 = R (i1 + i0)/2 + L (i1 − i0)/h + (vc1 + vc0)/2,  vc1 = vc0 + h (i0 + i1) / (2C)
+    fn companion(&self, h: f64, restart: bool) -> (f64, f64) {
+        if restart {
+            (self.r + self.l / h + h * self.c_inv, self.vc - self.l / h * self.i)
+        } else {
+            let k = self.r + 2.0 * self.l / h + h * self.c_inv / 2.0;
+            (k, 2.0 * self.vc - self.v - self.i * (2.0 * self.l / h - self.r - h * self.c_inv / 2.0))
+        }
+    }
+
+    /// Take the step: the new voltage across is `v1`.
+    fn advance(&mut self, v1: f64, (k, e): (f64, f64), h: f64, restart: bool) {
+        let i1 = if k > 0.0 { (v1 - e) / k } else { self.i };
+        self.vc += if restart { h * self.c_inv * i1 } else { h * self.c_inv * (self.i + i1) / 2.0 };
+        self.i = i1;
+        self.v = v1;
+    }
 }
 
 /// The fixed-step integrator of one rail: the trapezoidal rule, with a backward-Euler step wherever the load's
 /// slope jumps (as SPICE does at breakpoints). The restart matters because the rail node may see only inductive
 /// branches: its voltage then jumps with the load's slope, and a trapezoidal step across the jump would leave an
 /// undamped step-to-step ringing.
+///
+/// With a package, the load draws its current at the die node; the board node and the die node are solved
+/// together (two current balances) each step.
 struct Integrator {
     branches: Vec<TimeBranch>,
-    /// The node is tied to the supply by a branch of zero impedance.
+    /// The package from the board node to the die node, and the die capacitance, when given.
+    package: Option<TimeBranch>,
+    die: Option<TimeBranch>,
+    /// The board node is tied to the supply by a branch of zero impedance.
     pinned: bool,
     supply_v: f64,
     dt: f64,
-    v: f64,
+    v_board: f64,
+    v_die: f64,
 }
 
 impl Integrator {
     fn new(network: &Network, supply_v: f64, dt: f64) -> Integrator {
-        let branches: Vec<TimeBranch> = network
-            .branches
-            .iter()
-            .map(|b| TimeBranch {
-                r: b.rlc.r_ohm,
-                l: b.rlc.l_h,
-                c_inv: b.rlc.c_f.map_or(0.0, |c| 1.0 / c),
-                i: 0.0,
-                // DC operating point: every capacitor holds the rail voltage; the source's far end is the supply.
-                vc: supply_v,
-            })
-            .collect();
+        // DC operating point: every capacitor holds the rail voltage, the source's far end is the supply, no
+        // current flows, and nothing drops across the package.
+        let branches: Vec<TimeBranch> =
+            network.branches.iter().map(|b| TimeBranch::new(b, supply_v, supply_v)).collect();
         let pinned = branches.iter().any(|b| b.r == 0.0 && b.l == 0.0 && b.c_inv == 0.0);
-        Integrator { branches, pinned, supply_v, dt, v: supply_v }
+        let package = network.package.as_ref().map(|b| TimeBranch::new(b, 0.0, 0.0));
+        let die = network.die.as_ref().map(|b| TimeBranch::new(b, supply_v, supply_v));
+        Integrator { branches, package, die, pinned, supply_v, dt, v_board: supply_v, v_die: supply_v }
     }
 
-    /// Advance one step to a load current `i_load` (drawn from the node); `restart` takes a backward-Euler step
-    /// (the load's slope changed inside or at the start of this step). Returns the node voltage.
-    fn step(&mut self, i_load: f64, restart: bool) -> f64 {
-        if self.pinned {
-            return self.supply_v;
+    /// Advance one step to a load current `i_load`; `restart` takes a backward-Euler step (the load's slope
+    /// changed inside or at the start of this step). Returns the (board, die) node voltages; the die is the board
+    /// node when the rail has no package.
+    fn step(&mut self, i_load: f64, restart: bool) -> (f64, f64) {
+        let h = self.dt;
+        let coefficients: Vec<(f64, f64)> = self.branches.iter().map(|b| b.companion(h, restart)).collect();
+        let (mut g, mut j) = (0.0, 0.0);
+        for &(k, e) in &coefficients {
+            g += 1.0 / k;
+            j += e / k;
         }
-        let (h, v0) = (self.dt, self.v);
-        // Each branch: i1 = (v1 − e)/k, with k its discrete impedance and e the voltage its history leaves.
-        //  BE:  v1 = R i1 + L (i1 − i0)/h + vc1,  vc1 = vc0 + h i1 / C
-        //  TR:  (v1 + v0)/2 = R (i1 + i0)/2 + L (i1 − i0)/h + (vc1 + vc0)/2,  vc1 = vc0 + h (i0 + i1) / (2C)
-        let coefficients = |b: &TimeBranch| -> (f64, f64) {
-            if restart {
-                (b.r + b.l / h + h * b.c_inv, b.vc - b.l / h * b.i)
-            } else {
-                let k = b.r + 2.0 * b.l / h + h * b.c_inv / 2.0;
-                (k, 2.0 * b.vc - v0 - b.i * (2.0 * b.l / h - b.r - h * b.c_inv / 2.0))
+        let pkg = self.package.as_ref().map(|p| p.companion(h, restart));
+        let die = self.die.as_ref().map(|d| d.companion(h, restart));
+        let (vb, vd) = match pkg {
+            // The load at the board node: Σ (vb − e)/k + i_load = 0.
+            None => (if self.pinned { self.supply_v } else { (j - i_load) / g }, f64::NAN),
+            // A short package: one node.
+            Some((0.0, _)) => {
+                let (gd, jd) = die.map_or((0.0, 0.0), |(k, e)| (1.0 / k, e / k));
+                let v = if self.pinned { self.supply_v } else { (j + jd - i_load) / (g + gd) };
+                (v, v)
+            }
+            Some((kp, ep)) => {
+                // Board: Σ (vb − e)/k + (vb − vd − ep)/kp = 0
+                // Die:   −(vb − vd − ep)/kp + (vd − ed)/kd + i_load = 0
+                let gp = 1.0 / kp;
+                let (gd, jd) = die.map_or((0.0, 0.0), |(k, e)| (1.0 / k, e / k));
+                if self.pinned {
+                    let vb = self.supply_v;
+                    (vb, (gp * (vb - ep) + jd - i_load) / (gp + gd))
+                } else {
+                    let (a11, a12, b1) = (g + gp, -gp, j + gp * ep);
+                    let (a21, a22, b2) = (-gp, gp + gd, -gp * ep + jd - i_load);
+                    let det = a11 * a22 - a12 * a21;
+                    ((b1 * a22 - a12 * b2) / det, (a11 * b2 - a21 * b1) / det)
+                }
             }
         };
-        let (mut g_sum, mut j_sum) = (0.0, 0.0);
-        for b in &self.branches {
-            let (k, e) = coefficients(b);
-            g_sum += 1.0 / k;
-            j_sum += e / k;
+        for (b, c) in self.branches.iter_mut().zip(coefficients) {
+            b.advance(vb, c, h, restart);
         }
-        // Current balance at the node: Σ (v1 − e)/k + i_load = 0.
-        let v1 = (j_sum - i_load) / g_sum;
-        for b in &mut self.branches {
-            let (k, e) = coefficients(b);
-            let i1 = (v1 - e) / k;
-            b.vc += if restart { h * b.c_inv * i1 } else { h * b.c_inv * (b.i + i1) / 2.0 };
-            b.i = i1;
+        if let (Some(p), Some(c)) = (self.package.as_mut(), pkg) {
+            p.advance(vb - vd, c, h, restart);
         }
-        self.v = v1;
-        v1
+        if let (Some(d), Some(c)) = (self.die.as_mut(), die) {
+            d.advance(vd, c, h, restart);
+        }
+        self.v_board = vb;
+        self.v_die = if vd.is_nan() { vb } else { vd };
+        (self.v_board, self.v_die)
     }
 }
 
@@ -229,7 +293,7 @@ fn plan(board: &Board, rail: &Rail, options: &DroopOptions) -> Result<Plan, Droo
     // Resolve the fastest dynamics of any branch (self-resonance, L/R and RC corners) with 40 steps a period,
     // the rise with 50 steps, and the output grid.
     let mut f_fast: f64 = 0.0;
-    for b in &network.branches {
+    for b in network.branches.iter().chain(&network.package).chain(&network.die) {
         let (r, l) = (b.rlc.r_ohm, b.rlc.l_h);
         if let Some(f0) = b.rlc.self_resonance_hz() {
             f_fast = f_fast.max(f0);
@@ -240,6 +304,11 @@ fn plan(board: &Board, rail: &Rail, options: &DroopOptions) -> Result<Plan, Droo
         if let (Some(c), true) = (b.rlc.c_f, l == 0.0 && r > 0.0) {
             f_fast = f_fast.max(1.0 / (crate::physics::TWO_PI * r * c));
         }
+    }
+    if let (Some(p), Some(d)) = (&network.package, &network.die)
+        && let Some(f0) = (SeriesRlc { r_ohm: 0.0, l_h: p.rlc.l_h, c_f: d.rlc.c_f }).self_resonance_hz()
+    {
+        f_fast = f_fast.max(f0);
     }
     let mut dt = (window_s / points as f64).min(rise_s / 50.0);
     if f_fast > 0.0 {
@@ -258,7 +327,8 @@ fn plan(board: &Board, rail: &Rail, options: &DroopOptions) -> Result<Plan, Droo
 /// Five periods of the lowest anti-resonance (where the regulator hands over to the capacitors), at least 200
 /// rise times and at least five L/R time constants of the source.
 fn default_window(network: &Network, r: f64, l: f64, rise_s: f64) -> f64 {
-    let wide = scan(network, [1.0, 1e10], 1500, f64::INFINITY);
+    let view = network.verdict_view();
+    let wide = scan(&|f| network.impedance_in(f, view), [1.0, 1e10], 1500, f64::INFINITY);
     let mut window = 200.0 * rise_s;
     if let Some(p) = wide.peaks.first() {
         window = window.max(5.0 / p.freq_hz);
@@ -269,15 +339,27 @@ fn default_window(network: &Network, r: f64, l: f64, rise_s: f64) -> f64 {
     window.min(1.0)
 }
 
-/// Run the integrator under a load current whose slope changes only at `breakpoints` (s); return the voltage at
-/// every integration step (index 0 is t = 0).
-fn integrate(plan: &Plan, load: impl Fn(f64) -> f64, breakpoints: &[f64]) -> Vec<f64> {
+/// The voltages of one run at every integration step (index 0 is t = 0).
+struct Run {
+    /// At the node the figures are taken at (the die when the rail gives a package).
+    main: Vec<f64>,
+    /// At the board node, when the main node is the die.
+    board: Option<Vec<f64>>,
+}
+
+/// Run the integrator under a load current whose slope changes only at `breakpoints` (s).
+fn integrate(plan: &Plan, load: impl Fn(f64) -> f64, breakpoints: &[f64]) -> Run {
     let mut sim = Integrator::new(&plan.network, plan.nominal_v, plan.dt);
     let mut sorted: Vec<f64> = breakpoints.to_vec();
     sorted.sort_by(f64::total_cmp);
     let mut next = 0;
+    let with_die = plan.network.package.is_some();
     let mut v = Vec::with_capacity(plan.steps + 1);
+    let mut board = Vec::with_capacity(if with_die { plan.steps + 1 } else { 0 });
     v.push(plan.nominal_v);
+    if with_die {
+        board.push(plan.nominal_v);
+    }
     // A breakpoint within half a step of a grid time belongs to that time (pulse edges are multiples of dt).
     let tol = 0.5 * plan.dt;
     for n in 1..=plan.steps {
@@ -287,9 +369,15 @@ fn integrate(plan: &Plan, load: impl Fn(f64) -> f64, breakpoints: &[f64]) -> Vec
             restart |= sorted[next] >= t0 - tol;
             next += 1;
         }
-        v.push(sim.step(load(n as f64 * plan.dt), restart));
+        let (vb, vd) = sim.step(load(n as f64 * plan.dt), restart);
+        if with_die {
+            v.push(vd);
+            board.push(vb);
+        } else {
+            v.push(vb);
+        }
     }
-    v
+    Run { main: v, board: with_die.then_some(board) }
 }
 
 /// Where the load's slope changes for a pattern: the start and end of every ramp.
@@ -377,13 +465,24 @@ pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result
     let plan = plan(board, rail, options)?;
     let (step_a, rise_s) = (plan.step_a, plan.rise_s);
     let breakpoints = [0.0, rise_s];
-    let v = integrate(&plan, |t| step_a * (t / rise_s).clamp(0.0, 1.0), &breakpoints);
+    let run = integrate(&plan, |t| step_a * (t / rise_s).clamp(0.0, 1.0), &breakpoints);
+    let v = run.main;
     let (t_min_s, min_v) = minimum(&v, plan.dt, &breakpoints);
     let nominal_v = plan.nominal_v;
     let droop_v = nominal_v - min_v;
     let allowed_v = rail.voltage_v * rail.ripple_pct / 100.0;
-    let source_r = rail.source.map_or(0.0, |s| s.r_ohm);
-    let final_v = nominal_v - step_a * source_r;
+    // At DC the step flows through the source's and the package's resistance.
+    let dc_r = rail.source.map_or(0.0, |s| s.r_ohm) + rail.package.map_or(0.0, |p| p.r_ohm);
+    let final_v = nominal_v - step_a * dc_r;
+    let board_node = run.board.map(|b| {
+        let (t_min_s, min_v) = minimum(&b, plan.dt, &breakpoints);
+        NodeDroop {
+            min_v,
+            t_min_s,
+            droop_v: nominal_v - min_v,
+            waveform: resample(&b, plan.dt, plan.window_s, plan.points),
+        }
+    });
     let tolerance = 0.1 * (final_v - min_v).abs().max(droop_v.abs());
     let settling_s = match v.iter().rposition(|&x| (x - final_v).abs() > tolerance) {
         None => Some(0.0),
@@ -394,6 +493,8 @@ pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result
     let (worst_case_droop_v, worst_case_pattern, worst_case_t_s) = worst_pattern(&s, plan.dt);
     Ok(Droop {
         rail: rail.name.clone(),
+        node: plan.network.verdict_view(),
+        board_node,
         step_a,
         rise_s,
         window_s: plan.window_s,
@@ -438,7 +539,7 @@ pub fn pattern_response(
     let rail = board.rails.get(rail_index).ok_or_else(|| DroopError::BadOption("no such rail".into()))?;
     let plan = plan(board, rail, options)?;
     let (step_a, rise_s) = (plan.step_a, plan.rise_s);
-    let step = integrate(&plan, |t| step_a * (t / rise_s).clamp(0.0, 1.0), &[0.0, rise_s]);
+    let step = integrate(&plan, |t| step_a * (t / rise_s).clamp(0.0, 1.0), &[0.0, rise_s]).main;
     let s: Vec<f64> = step.iter().map(|x| plan.nominal_v - x).collect();
     let index = |t: f64| (t / plan.dt).round().max(0.0) as usize;
     let mut v = vec![plan.nominal_v; s.len()];

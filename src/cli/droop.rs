@@ -62,8 +62,10 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
         }
         emit(&t);
     } else if args.json {
+        let board_node =
+            d.board_node.as_ref().map(|b| json!({"min_v": b.min_v, "t_min_s": b.t_min_s, "droop_v": b.droop_v}));
         let value = json!({
-            "rail": d.rail, "step_a": d.step_a, "rise_s": d.rise_s, "window_s": d.window_s, "dt_s": d.dt_s,
+            "rail": d.rail, "node": d.node.name(), "board_node": board_node, "step_a": d.step_a, "rise_s": d.rise_s, "window_s": d.window_s, "dt_s": d.dt_s,
             "nominal_v": d.nominal_v, "min_v": d.min_v, "t_min_s": d.t_min_s, "droop_v": d.droop_v,
             "allowed_v": d.allowed_v, "meets": d.meets, "final_v": d.final_v, "settling_s": d.settling_s,
             "worst_case_droop_v": d.worst_case_droop_v, "worst_case_t_s": d.worst_case_t_s,
@@ -87,14 +89,21 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
             s(d.dt_s)
         );
         let verdict = if d.meets { "WITHIN" } else { "OUTSIDE" };
+        let at = match d.node {
+            crate::analysis::View::Board => "at the board",
+            crate::analysis::View::Die => "at the die",
+        };
         let _ = writeln!(
             t,
-            "  {verdict} the allowed band: droop {} (lowest {} at {}), allowed {}",
+            "  {verdict} the allowed band {at}: droop {} (lowest {} at {}), allowed {}",
             v(d.droop_v),
             v(d.min_v),
             s(d.t_min_s),
             v(d.allowed_v)
         );
+        if let Some(b) = &d.board_node {
+            let _ = writeln!(t, "  at the board: droop {} (lowest {} at {})", v(b.droop_v), v(b.min_v), s(b.t_min_s));
+        }
         let settle = d.settling_s.map_or("not within the window".to_string(), s);
         let _ = writeln!(t, "  settles to {} (within 10 % of the droop) after {settle}", v(d.final_v));
         let verdict = if d.worst_case_meets { "within" } else { "OUTSIDE" };

@@ -1,7 +1,7 @@
 //! `hushrail export`: one rail's impedance for other tools, as a one-port Touchstone file and/or CSV.
 
 use super::{EXIT_PASS, load_board};
-use crate::analysis::{log_grid, magnitude_phase, sweep, target_impedance};
+use crate::analysis::{log_grid, magnitude_phase, sweep_in, target_impedance};
 use crate::io::{s1p_string, write_atomically};
 use crate::units::{Unit, full_precision, parse, push_full_precision};
 use clap::Args;
@@ -35,13 +35,20 @@ pub struct ExportArgs {
     /// Highest frequency, in engineering notation ("1G") [default: the rail's band].
     #[arg(long)]
     pub to: Option<String>,
+    /// Where to look from: the board's rail node or the die (through the package).
+    #[arg(long, value_enum, default_value = "board")]
+    pub view: super::ViewArg,
+    /// Which derating corner of the parts' capacitance.
+    #[arg(long, value_enum, default_value = "nominal")]
+    pub corner: super::CornerArg,
 }
 
 /// Write the requested files; nothing is written when an option is bad.
 pub fn run(args: &ExportArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
-    let (from, to) = super::frequency_range(&args.from, &args.to, rail.band_hz)?;
+    let (from, to) = super::frequency_range(&args.from, &args.to, rail.band_hz_or_default())?;
+    let view = args.view.resolve(rail)?;
     if args.points < 2 {
         return Err(format!("--points must be at least 2, not {}", args.points));
     }
@@ -52,14 +59,16 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
         }
     }
     let grid = log_grid(from, to, args.points);
-    let z = sweep(&board, rail, &grid);
+    let z = sweep_in(&board, rail, &grid, view, args.corner.into());
     if let Some(path) = &args.touchstone {
         let comments = vec![
             format!(
-                "hushrail {}: impedance seen from rail {} of board \"{}\"",
+                "hushrail {}: impedance of rail {} of board \"{}\", seen from the {}, {} corner",
                 env!("CARGO_PKG_VERSION"),
                 rail.name,
-                board.name
+                board.name,
+                view.name(),
+                crate::physics::Corner::from(args.corner).name()
             ),
             format!("source: {file}"),
             "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),

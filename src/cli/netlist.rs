@@ -27,6 +27,9 @@ pub struct NetlistArgs {
     /// File the netlist's control block writes the results to (frequency, Re V, Im V).
     #[arg(long, default_value = "hushrail_out.txt")]
     pub data: String,
+    /// Where the AC sweep drives and reads the network.
+    #[arg(long, value_enum, default_value = "board")]
+    pub view: super::ViewArg,
     /// Write a transient of the load step instead of the AC sweep: the same stimulus, window and time step that
     /// `hushrail droop` uses (with its --step, --rise and --window).
     #[arg(long)]
@@ -77,12 +80,9 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     if args.per_decade == 0 {
         return Err("--per-decade must be at least 1".into());
     }
-    let text = rail_netlist(
-        &board,
-        rail,
-        &AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade },
-        &args.data,
-    );
+    let view = args.view.resolve(rail)?;
+    let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade };
+    let text = rail_netlist(&board, rail, &sweep, view, &args.data);
     write_out(args, &text)
 }
 

@@ -10,7 +10,7 @@ mod touchstone;
 
 pub use board_file::{FORMAT_TAG, FORMAT_VERSION, board_to_string, parse_board, read_board, write_board};
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
-pub use netlist::{AcSweep, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
+pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
 pub use report::{
     CAUTIONS, DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report,
 };

@@ -6,7 +6,7 @@
 //! Zero-valued resistors and inductors are left out (the nodes are joined instead), since SPICE refuses or warns
 //! on them.
 
-use crate::analysis::{BranchKind, Network};
+use crate::analysis::{BranchKind, Network, View};
 use crate::model::{Board, Rail};
 use crate::units::full_precision;
 use std::fmt::Write;
@@ -37,11 +37,15 @@ pub struct Transient {
 
 /// The rail node's name in the netlist.
 pub const RAIL_NODE: &str = "rail";
+/// The die node's name in the netlist (present when the rail gives a package).
+pub const DIE_NODE: &str = "die";
 
-/// The netlist text for an AC sweep: frequency, Re V(rail) and Im V(rail) go to `data_file` with 15 digits.
-pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, data_file: &str) -> String {
-    let mut t = network_text(board, rail, "1 A AC into the rail node, so V(rail) = Z of the rail");
-    let _ = writeln!(t, "Idrive 0 {RAIL_NODE} DC 0 AC 1");
+/// The netlist text for an AC sweep seen from `view`: frequency, Re V and Im V of the view's node go to
+/// `data_file` with 15 digits.
+pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, view: View, data_file: &str) -> String {
+    let node = if view == View::Die && rail.package.is_some() { DIE_NODE } else { RAIL_NODE };
+    let mut t = network_text(board, rail, &format!("1 A AC into node {node}, so V({node}) = Z seen there"));
+    let _ = writeln!(t, "Idrive 0 {node} DC 0 AC 1");
     let _ = writeln!(
         t,
         ".ac dec {} {} {}",
@@ -49,16 +53,18 @@ pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, data_file: &str
         full_precision(sweep.from_hz),
         full_precision(sweep.to_hz)
     );
-    t.push_str(&control_block(data_file));
+    t.push_str(&control_block(data_file, node));
     t
 }
 
-/// The netlist text for a transient from the DC operating point: time and V(rail) go to `data_file`.
+/// The netlist text for a transient from the DC operating point. The load draws its current at the die when the
+/// rail gives a package (else at the rail node); time and that node's voltage go to `data_file`.
 pub fn rail_tran_netlist(board: &Board, rail: &Rail, tran: &Transient, data_file: &str) -> String {
-    let mut t = network_text(board, rail, "a piecewise-linear load current drawn from the rail node");
+    let node = if rail.package.is_some() { DIE_NODE } else { RAIL_NODE };
+    let mut t = network_text(board, rail, &format!("a piecewise-linear load current drawn from node {node}"));
     let corners: Vec<String> =
         tran.load.iter().map(|(time, i)| format!("{} {}", full_precision(*time), full_precision(*i))).collect();
-    let _ = writeln!(t, "Iload {RAIL_NODE} 0 PWL({})", corners.join(" "));
+    let _ = writeln!(t, "Iload {node} 0 PWL({})", corners.join(" "));
     let _ = writeln!(t, ".options reltol=1e-6 abstol=1e-12 vntol=1e-9");
     let _ = writeln!(
         t,
@@ -67,7 +73,7 @@ pub fn rail_tran_netlist(board: &Board, rail: &Rail, tran: &Transient, data_file
         full_precision(tran.stop_s),
         full_precision(tran.max_step_s)
     );
-    t.push_str(&control_block(data_file));
+    t.push_str(&control_block(data_file, node));
     t
 }
 
@@ -78,11 +84,13 @@ fn network_text(board: &Board, rail: &Rail, drive: &str) -> String {
     let _ = writeln!(t, "* hushrail: rail {} of board {}", rail.name, board.name);
     let _ = writeln!(t, "* {drive}");
     let _ = writeln!(t, "Vsupply supply 0 DC {}", full_precision(rail.voltage_v));
-    for (i, b) in network.branches.iter().enumerate() {
-        let (tag, end) = match b.kind {
-            BranchKind::Source => ("src".to_string(), "supply"),
-            BranchKind::Plane => ("plane".to_string(), "0"),
-            BranchKind::Group(g) => (format!("g{g}"), "0"),
+    for (i, b) in network.branches.iter().chain(&network.package).chain(&network.die).enumerate() {
+        let (tag, start, end) = match b.kind {
+            BranchKind::Source => ("src".to_string(), RAIL_NODE, "supply"),
+            BranchKind::Plane => ("plane".to_string(), RAIL_NODE, "0"),
+            BranchKind::Group(g) => (format!("g{g}"), RAIL_NODE, "0"),
+            BranchKind::Package => ("pkg".to_string(), RAIL_NODE, DIE_NODE),
+            BranchKind::Die => ("die".to_string(), DIE_NODE, "0"),
         };
         let _ = writeln!(t, "* branch {i}: {}", b.label);
         let mut elements: Vec<(char, f64)> = Vec::new();
@@ -100,7 +108,7 @@ fn network_text(board: &Board, rail: &Rail, drive: &str) -> String {
             elements.push(('R', 1e-15));
         }
         let last = elements.len() - 1;
-        let mut node = RAIL_NODE.to_string();
+        let mut node = start.to_string();
         for (k, (letter, value)) in elements.into_iter().enumerate() {
             let next = if k == last { end.to_string() } else { format!("{tag}_{k}") };
             let _ = writeln!(t, "{letter}{tag}_{k} {node} {next} {}", full_precision(value));
@@ -110,9 +118,9 @@ fn network_text(board: &Board, rail: &Rail, drive: &str) -> String {
     t
 }
 
-fn control_block(data_file: &str) -> String {
+fn control_block(data_file: &str, node: &str) -> String {
     format!(
-        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} v({RAIL_NODE})\nquit\n.endc\n.end\n"
+        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} v({node})\nquit\n.endc\n.end\n"
     )
 }
 

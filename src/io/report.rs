@@ -5,8 +5,9 @@
 
 use super::bom::{bill_of_materials, cost_words, part_words, total_cost_words};
 use super::svg_plot::{PLOT_POINTS, impedance_svg, plot_range_hz};
-use crate::analysis::{AnalysisOptions, Droop, DroopError, Severity, analyze_rail, explain};
-use crate::model::{Board, Rail};
+use crate::analysis::{AnalysisOptions, Droop, DroopError, RailAnalysis, Severity, View, analyze_rail, explain};
+use crate::model::{Board, Combine, Rail};
+use crate::physics::Corner;
 use crate::units::{Unit, format};
 use std::fmt::Write;
 use std::path::Path;
@@ -79,11 +80,19 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
         let _ = writeln!(h, "<p>{}</p>", escape(d));
     }
 
-    let analyses: Vec<_> = (0..board.rails.len())
+    // The verdict of each rail as `hushrail check` gives it: the verdict view (the die when the rail gives a
+    // package) in the nominal corner, with the board view and the worst corner beside it.
+    let analyses: Vec<Option<RailViews>> = (0..board.rails.len())
         .map(|i| {
-            let (from, to) = plot_range_hz(board.rails[i].band_hz);
+            let (from, to) = plot_range_hz(board.rails[i].band_hz_or_default());
             let options = AnalysisOptions { curve: Some((from, to, PLOT_POINTS)), ..AnalysisOptions::default() };
-            analyze_rail(board, i, &options)
+            let verdict = analyze_rail(board, i, &options)?;
+            let plain = AnalysisOptions { curve: None, ..options };
+            let board_view = (verdict.view == View::Die)
+                .then(|| analyze_rail(board, i, &AnalysisOptions { view: Some(View::Board), ..plain }))
+                .flatten();
+            let worst_corner = analyze_rail(board, i, &AnalysisOptions { corner: Corner::Worst, ..plain });
+            Some(RailViews { verdict, board_view, worst_corner })
         })
         .collect();
 
@@ -92,38 +101,37 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
         "<section id=\"summary\">\n<h2>Summary</h2>\n<table>\n<tr><th>rail</th><th>target</th>\
                 <th>worst |Z|</th><th>at</th><th>margin</th><th>verdict</th></tr>\n",
     );
-    for a in analyses.iter().flatten() {
+    for a in analyses.iter().flatten().map(|v| &v.verdict) {
         let class = if a.meets_target { "pass" } else { "fail" };
         let _ = writeln!(
             h,
             "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td>\
-             <td class=\"n\">{:+.1} dB</td><td class=\"{class}\">{}</td></tr>",
+             <td class=\"n\">{:+.1} dB</td><td class=\"{class}\">{}</td><td>the {}</td></tr>",
             escape(&a.rail),
             format(a.target_ohm, Unit::Ohm),
             format(a.worst_ohm, Unit::Ohm),
             format(a.worst_hz, Unit::Hertz),
             a.margin_db,
-            verdict_word(a.meets_target)
+            verdict_word(a.meets_target),
+            a.view.name()
         );
     }
-    let meeting = analyses.iter().flatten().filter(|a| a.meets_target).count();
+    let meeting = analyses.iter().flatten().filter(|v| v.verdict.meets_target).count();
     let _ = writeln!(h, "</table>\n<p>{meeting} of {} rails meet target.</p>\n</section>", board.rails.len());
 
     for (i, (rail, analysis)) in board.rails.iter().zip(&analyses).enumerate() {
         let _ = writeln!(h, "<section class=\"rail\" id=\"rail-{i}\">\n<h2>Rail {}</h2>", escape(&rail.name));
-        rail_inputs(&mut h, board, rail);
+        rail_inputs(&mut h, rail, analysis.as_ref().map(|v| &v.verdict));
         match analysis {
-            Some(a) => {
+            Some(RailViews { verdict: a, board_view, worst_corner }) => {
                 let class = if a.meets_target { "pass" } else { "fail" };
-                let _ = writeln!(
-                    h,
-                    "<p class=\"verdict {class}\">{}: worst |Z| {} at {}, margin {:+.1} dB ({:.2}× target).</p>",
-                    verdict_word(a.meets_target),
-                    format(a.worst_ohm, Unit::Ohm),
-                    format(a.worst_hz, Unit::Hertz),
-                    a.margin_db,
-                    a.worst_ohm / a.target_ohm
-                );
+                let _ = writeln!(h, "<p class=\"verdict {class}\">{}.</p>", summary(a));
+                if let Some(b) = board_view {
+                    let _ = writeln!(h, "<p>At the board instead: {}.</p>", summary(b));
+                }
+                if let Some(w) = worst_corner {
+                    let _ = writeln!(h, "<p>In the worst corner of the parts' derating: {}.</p>", summary(w));
+                }
                 h.push_str("<figure>\n");
                 match impedance_svg(a) {
                     Ok(svg) => h.push_str(&svg),
@@ -133,9 +141,10 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
                 }
                 let _ = writeln!(
                     h,
-                    "\n<figcaption>|Z| of rail {} (blue) against its target {} over {} to {} (red); shaded: above \
-                     target.</figcaption>\n</figure>",
+                    "\n<figcaption>|Z| of rail {} at the {} (blue) against its target {} over {} to {} (red); \
+                     shaded: above target.</figcaption>\n</figure>",
                     escape(&rail.name),
+                    a.view.name(),
                     format(a.target_ohm, Unit::Ohm),
                     format(a.band_hz[0], Unit::Hertz),
                     format(a.band_hz[1], Unit::Hertz)
@@ -199,37 +208,61 @@ fn verdict_word(meets: bool) -> &'static str {
     if meets { "Meets target" } else { "Misses target" }
 }
 
-/// A rail's inputs: supply, band, source, plane, loads and decap groups.
-fn rail_inputs(h: &mut String, board: &Board, rail: &Rail) {
-    let source = match &rail.source {
-        Some(s) => format!("R {}, L {}", format(s.r_ohm, Unit::Ohm), format(s.l_h, Unit::Henry)),
-        None => "none".into(),
+/// One rail analysed the ways `hushrail check` shows it.
+struct RailViews {
+    /// The verdict: the verdict view, nominal corner, with the display curve.
+    verdict: RailAnalysis,
+    /// The board view, when the verdict is at the die.
+    board_view: Option<RailAnalysis>,
+    /// The worst derating corner.
+    worst_corner: Option<RailAnalysis>,
+}
+
+/// "Meets target at the die: worst |Z| 1.00 mΩ at 2.00 MHz, margin +1.2 dB (0.87× target)".
+fn summary(a: &RailAnalysis) -> String {
+    format!(
+        "{} at the {}: worst |Z| {} at {}, margin {:+.1} dB ({:.2}× target)",
+        verdict_word(a.meets_target),
+        a.view.name(),
+        format(a.worst_ohm, Unit::Ohm),
+        format(a.worst_hz, Unit::Hertz),
+        a.margin_db,
+        a.worst_ohm / a.target_ohm
+    )
+}
+
+/// A rail's inputs: supply, band, source, plane, package, die, loads and decap groups (with the mounting
+/// inductance and self-resonance the analysis used, when there is one).
+fn rail_inputs(h: &mut String, rail: &Rail, analysis: Option<&RailAnalysis>) {
+    let rlc = |c: f64, r: f64, l: Option<f64>| {
+        let mut t = format!("C {}, ESR {}", format(c, Unit::Farad), format(r, Unit::Ohm));
+        if let Some(l) = l {
+            let _ = write!(t, ", ESL {}", format(l, Unit::Henry));
+        }
+        t
     };
-    let plane = match &rail.plane {
-        Some(p) => format!(
-            "C {}, ESR {}, ESL {}",
-            format(p.capacitance_f, Unit::Farad),
-            format(p.esr_ohm, Unit::Ohm),
-            format(p.esl_h, Unit::Henry)
-        ),
-        None => "none".into(),
-    };
-    let _ = writeln!(
-        h,
-        "<table>\n<tr><th>voltage</th><td>{}</td></tr>\n<tr><th>ripple</th><td>{} %</td></tr>\n\
-         <tr><th>total ΔI</th><td>{}</td></tr>\n<tr><th>target</th><td>{}</td></tr>\n\
-         <tr><th>band</th><td>{} to {}</td></tr>\n<tr><th>source</th><td>{}</td></tr>\n\
-         <tr><th>plane</th><td>{}</td></tr>\n</table>",
-        format(rail.voltage_v, Unit::Volt),
-        rail.ripple_pct,
-        format(rail.total_step_a(), Unit::Ampere),
-        format(crate::analysis::target_impedance(rail), Unit::Ohm),
-        format(rail.band_hz[0], Unit::Hertz),
-        format(rail.band_hz[1], Unit::Hertz),
-        escape(&source),
-        escape(&plane)
-    );
-    h.push_str("<h3>Loads</h3>\n<table>\n<tr><th>load</th><th>ΔI</th><th>rise time</th></tr>\n");
+    let rl = |r: f64, l: f64| format!("R {}, L {}", format(r, Unit::Ohm), format(l, Unit::Henry));
+    let none = || "none".to_string();
+    let step = analysis.map_or_else(|| rail.total_step_a(), |a| a.step_a);
+    let combine = if rail.combine == Combine::Rss { " (root-sum-square of the loads)" } else { "" };
+    let band = rail.band_hz_or_default();
+    let band_from = if rail.band_hz.is_some() { "" } else { " (not given: from the loads' rise times)" };
+    let rows = [
+        ("voltage", format(rail.voltage_v, Unit::Volt)),
+        ("ripple", format!("{} %", rail.ripple_pct)),
+        ("ΔI", format!("{}{combine}", format(step, Unit::Ampere))),
+        ("target", format(crate::analysis::target_impedance(rail), Unit::Ohm)),
+        ("band", format!("{} to {}{band_from}", format(band[0], Unit::Hertz), format(band[1], Unit::Hertz))),
+        ("source", rail.source.map_or_else(none, |s| rl(s.r_ohm, s.l_h))),
+        ("plane", rail.plane.map_or_else(none, |p| rlc(p.capacitance_f, p.esr_ohm, Some(p.esl_h)))),
+        ("package", rail.package.map_or_else(none, |p| rl(p.r_ohm, p.l_h))),
+        ("die", rail.die.map_or_else(none, |d| rlc(d.capacitance_f, d.esr_ohm, None))),
+    ];
+    h.push_str("<table>\n");
+    for (name, value) in rows {
+        let _ = writeln!(h, "<tr><th>{name}</th><td>{}</td></tr>", escape(&value));
+    }
+    h.push_str("</table>\n<h3>Loads</h3>\n<table>\n<tr><th>load</th><th>ΔI</th><th>rise time</th></tr>\n");
     for l in &rail.loads {
         let rise = l.rise_time_s.map(|t| format(t, Unit::Second)).unwrap_or_else(|| "not given".into());
         let _ = writeln!(
@@ -247,21 +280,17 @@ fn rail_inputs(h: &mut String, board: &Board, rail: &Rail) {
     h.push_str(
         "<table>\n<tr><th>part</th><th>count</th><th>mounting L</th><th>self-resonance (with mounting)</th></tr>\n",
     );
-    for g in &rail.decaps {
-        let srf = board
-            .part(&g.part)
-            .and_then(|p| {
-                crate::physics::SeriesRlc { r_ohm: p.esr_ohm, l_h: p.esl_h + g.mounting_h, c_f: Some(p.capacitance_f) }
-                    .self_resonance_hz()
-            })
-            .map(|f| format(f, Unit::Hertz))
-            .unwrap_or_else(|| "none".into());
+    for (i, g) in rail.decaps.iter().enumerate() {
+        let info = analysis.and_then(|a| a.groups.iter().find(|x| x.index == i));
+        let mounting = info.map_or(g.mounting_h, |x| x.mounting_h);
+        let srf =
+            info.and_then(|x| x.self_resonance_hz).map(|f| format(f, Unit::Hertz)).unwrap_or_else(|| "none".into());
         let _ = writeln!(
             h,
             "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td><td class=\"n\">{srf}</td></tr>",
             escape(&g.part),
             g.count,
-            format(g.mounting_h, Unit::Henry)
+            format(mounting, Unit::Henry)
         );
     }
     h.push_str("</table>\n");

@@ -139,7 +139,7 @@ pub fn impedance_svg(analysis: &RailAnalysis) -> Result<String, String> {
         chart
             .draw_series(LineSeries::new(points.iter().map(|&(x, y)| (x, clamp(y))), z_style))
             .map_err(e)?
-            .label("|Z| seen from the rail")
+            .label(format!("|Z| at the {}", analysis.view.name()))
             .legend(move |(x, y)| PathElement::new([(x, y), (x + 20, y)], z_style));
         chart
             .configure_series_labels()
