@@ -1,11 +1,14 @@
 //! The command line: a reviewer's or CI's face of the library. Human text by default, `--json` for machines;
 //! exit 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
 
+mod bom;
 mod check;
 mod coupling;
 mod droop;
+mod export;
 mod mounting;
 mod netlist;
+mod report;
 mod suggest;
 mod sweep;
 
@@ -58,6 +61,12 @@ pub enum Command {
     Suggest(suggest::SuggestArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
     Netlist(netlist::NetlistArgs),
+    /// Write one rail's impedance for other tools: a one-port Touchstone file (--touchstone) and/or CSV (--csv).
+    Export(export::ExportArgs),
+    /// The bill of materials: each fitted part with its count per rail, total count and cost.
+    Bom(bom::BomArgs),
+    /// Write the review report: one self-contained HTML file with every rail's plot, verdict and findings.
+    Report(report::ReportArgs),
 }
 
 /// Run a subcommand and return the process exit code.
@@ -70,6 +79,9 @@ pub fn run(command: Command) -> i32 {
         Command::Mounting(args) => mounting::run(&args),
         Command::Coupling(args) => coupling::run(&args),
         Command::Suggest(args) => suggest::run(&args),
+        Command::Export(args) => export::run(&args),
+        Command::Bom(args) => bom::run(&args),
+        Command::Report(args) => report::run(&args),
     };
     match result {
         Ok(code) => code,
@@ -134,6 +146,16 @@ fn find_rail<'b>(board: &'b Board, file: &str, name: &str) -> Result<&'b crate::
         let names: Vec<_> = board.rails.iter().map(|r| r.name.as_str()).collect();
         format!("{file}: no rail named \"{name}\" (rails: {})", names.join(", "))
     })
+}
+
+/// The frequency range of --from/--to, each defaulting to the rail's band; both positive, from below to.
+fn frequency_range(from: &Option<String>, to: &Option<String>, band_hz: [f64; 2]) -> Result<(f64, f64), String> {
+    let from = from.as_deref().map(|t| export::frequency(t, "from")).transpose()?.unwrap_or(band_hz[0]);
+    let to = to.as_deref().map(|t| export::frequency(t, "to")).transpose()?.unwrap_or(band_hz[1]);
+    if to <= from {
+        return Err(format!("--to ({to} Hz) must be above --from ({from} Hz)"));
+    }
+    Ok((from, to))
 }
 
 /// Write text to stdout; a closed pipe (as with `| head`) ends the output quietly instead of panicking.

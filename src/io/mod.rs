@@ -1,10 +1,24 @@
-//! The only part of the library that touches files: board files, and (later) exports and reports.
+//! The only part of the library that touches files: board files, netlists, Touchstone files, the bill of
+//! materials, exports and the review report.
 
 mod board_file;
+mod bom;
 mod netlist;
+mod report;
+mod svg_plot;
+mod touchstone;
 
 pub use board_file::{FORMAT_TAG, FORMAT_VERSION, board_to_string, parse_board, read_board, write_board};
+pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
+pub use report::{
+    CAUTIONS, DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report,
+};
+pub use svg_plot::{PLOT_POINTS, PLOT_SIZE, impedance_svg, plot_range_hz};
+pub use touchstone::{
+    DataFormat, Fixture, Parameter, Touchstone, TouchstoneError, Version, one_port_s_to_z, parse_touchstone,
+    ports_from_extension, read_touchstone, s1p_string, shunt_through_s21_to_z, write_s1p, z_to_one_port_s,
+};
 
 use crate::model::Problem;
 use std::fmt;

@@ -1,0 +1,110 @@
+//! `hushrail export`: one rail's impedance for other tools, as a one-port Touchstone file and/or CSV.
+
+use super::{EXIT_PASS, load_board};
+use crate::analysis::{log_grid, magnitude_phase, sweep_in, target_impedance};
+use crate::io::{s1p_string, write_atomically};
+use crate::units::{Unit, full_precision, parse, push_full_precision};
+use clap::Args;
+use num_complex::Complex64;
+use std::path::PathBuf;
+
+/// Reference impedance of exported Touchstone files, Ω (the usual 50 Ω of test equipment).
+pub const EXPORT_Z0_OHM: f64 = 50.0;
+
+/// Options of `hushrail export`.
+#[derive(Debug, Args)]
+#[command(group(clap::ArgGroup::new("output").required(true).multiple(true).args(["touchstone", "csv"])))]
+pub struct ExportArgs {
+    /// Board file (the built-in sample board when left out).
+    pub board: Option<PathBuf>,
+    /// Name of the rail.
+    #[arg(long)]
+    pub rail: String,
+    /// Write the impedance seen from the rail as a one-port Touchstone 1.1 file (S-parameters, RI, 50 Ω).
+    #[arg(long, value_name = "FILE.s1p")]
+    pub touchstone: Option<PathBuf>,
+    /// Write freq_hz,z_re_ohm,z_im_ohm,z_mag_ohm,z_phase_deg,target_ohm as CSV.
+    #[arg(long, value_name = "FILE")]
+    pub csv: Option<PathBuf>,
+    /// Number of log-spaced points, both ends included.
+    #[arg(long, default_value_t = 1000)]
+    pub points: usize,
+    /// Lowest frequency, in engineering notation ("1k") [default: the rail's band].
+    #[arg(long)]
+    pub from: Option<String>,
+    /// Highest frequency, in engineering notation ("1G") [default: the rail's band].
+    #[arg(long)]
+    pub to: Option<String>,
+    /// Where to look from: the board's rail node or the die (through the package).
+    #[arg(long, value_enum, default_value = "board")]
+    pub view: super::ViewArg,
+    /// Which derating corner of the parts' capacitance.
+    #[arg(long, value_enum, default_value = "nominal")]
+    pub corner: super::CornerArg,
+}
+
+/// Write the requested files; nothing is written when an option is bad.
+pub fn run(args: &ExportArgs) -> Result<i32, String> {
+    let (board, file) = load_board(args.board.as_ref())?;
+    let rail = super::find_rail(&board, &file, &args.rail)?;
+    let (from, to) = super::frequency_range(&args.from, &args.to, rail.band_hz_or_default())?;
+    let view = args.view.resolve(rail)?;
+    if args.points < 2 {
+        return Err(format!("--points must be at least 2, not {}", args.points));
+    }
+    if let Some(path) = &args.touchstone {
+        let ext = path.extension().map(|e| e.to_string_lossy().to_ascii_lowercase());
+        if ext.as_deref() != Some("s1p") {
+            return Err(format!("{}: a one-port Touchstone file must end in .s1p", path.display()));
+        }
+    }
+    let grid = log_grid(from, to, args.points);
+    let z = sweep_in(&board, rail, &grid, view, args.corner.into());
+    if let Some(path) = &args.touchstone {
+        let comments = vec![
+            format!(
+                "hushrail {}: impedance of rail {} of board \"{}\", seen from the {}, {} corner",
+                env!("CARGO_PKG_VERSION"),
+                rail.name,
+                board.name,
+                view.name(),
+                crate::physics::Corner::from(args.corner).name()
+            ),
+            format!("source: {file}"),
+            "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),
+        ];
+        write_atomically(path, s1p_string(&grid, &z, EXPORT_Z0_OHM, &comments).as_bytes())
+            .map_err(|e| format!("{}: cannot write: {e}", path.display()))?;
+    }
+    if let Some(path) = &args.csv {
+        write_atomically(path, csv_text(&grid, &z, target_impedance(rail)).as_bytes())
+            .map_err(|e| format!("{}: cannot write: {e}", path.display()))?;
+    }
+    Ok(EXIT_PASS)
+}
+
+/// The CSV of an export, every number in full precision.
+fn csv_text(freq_hz: &[f64], z: &[Complex64], target_ohm: f64) -> String {
+    let mut text = String::with_capacity(128 * freq_hz.len() + 64);
+    text.push_str("freq_hz,z_re_ohm,z_im_ohm,z_mag_ohm,z_phase_deg,target_ohm\n");
+    let target = full_precision(target_ohm);
+    for (f, z) in freq_hz.iter().zip(z) {
+        let (mag, phase) = magnitude_phase(*z);
+        for x in [*f, z.re, z.im, mag, phase] {
+            push_full_precision(&mut text, x);
+            text.push(',');
+        }
+        text.push_str(&target);
+        text.push('\n');
+    }
+    text
+}
+
+/// Parse a frequency option (positive, engineering notation).
+pub(super) fn frequency(text: &str, flag: &str) -> Result<f64, String> {
+    match parse(text, Unit::Hertz) {
+        Ok(f) if f > 0.0 => Ok(f),
+        Ok(f) => Err(format!("--{flag}: frequency must be greater than 0, not {f}")),
+        Err(e) => Err(format!("--{flag}: {e}")),
+    }
+}

@@ -1,0 +1,184 @@
+//! The review report: valid HTML by a general-purpose HTML parser (the `scraper` crate, built on html5ever, which
+//! follows the WHATWG HTML parsing rules and reports every parse error), one self-contained file (no scripts,
+//! nothing fetched), every rail with its plot, verdict and findings (the words of `analysis::explain`), the droop,
+//! the bill of materials, the cautions, the version and the date.
+
+mod common;
+
+use common::*;
+use hushrail::analysis::{AnalysisOptions, DroopOptions, analyze_rail, droop, explain};
+use hushrail::io::{CAUTIONS, ReportContext, bill_of_materials, read_board, report_html};
+use hushrail::model::Board;
+use scraper::{ElementRef, Html, Selector};
+
+fn sel(s: &str) -> Selector {
+    Selector::parse(s).unwrap()
+}
+
+fn text_of(e: ElementRef) -> String {
+    e.text().collect::<String>()
+}
+
+fn context() -> ReportContext {
+    ReportContext { source: "a board file".into(), date: "2031-07-04".into() }
+}
+
+/// Parse and check what every report must be: valid, self-contained, one section with one plot per rail.
+fn check_report(what: &str, board: &Board, html: &str) -> Html {
+    let doc = Html::parse_document(html);
+    assert!(doc.errors.is_empty(), "{what}: HTML parse errors: {:?}", doc.errors);
+    assert!(html.starts_with("<!DOCTYPE html>"), "{what}: a standards-mode document");
+    // Self-contained: no scripts, no embedded or linked resources, no URL in any attribute or style.
+    for tag in ["script", "link", "img", "iframe", "object", "embed", "base", "image", "use"] {
+        assert_eq!(doc.select(&sel(tag)).count(), 0, "{what}: <{tag}> in the report");
+    }
+    for e in doc.select(&sel("*")) {
+        for (name, value) in e.value().attrs() {
+            if name == "xmlns" {
+                continue; // a namespace name, never fetched
+            }
+            assert!(!value.contains("://") && !value.starts_with("//"), "{what}: {name}=\"{value}\"");
+            assert!(!name.starts_with("on"), "{what}: event handler {name}");
+            assert!(!["src", "href", "srcset", "action"].contains(&name), "{what}: {name} attribute");
+        }
+    }
+    for style in doc.select(&sel("style")) {
+        let css = text_of(style);
+        assert!(!css.contains("url(") && !css.contains("@import"), "{what}: CSS fetches something");
+    }
+    let sections: Vec<ElementRef> = doc.select(&sel("section.rail")).collect();
+    assert_eq!(sections.len(), board.rails.len(), "{what}: one section per rail");
+    for (i, (section, rail)) in sections.iter().zip(&board.rails).enumerate() {
+        let heading = text_of(section.select(&sel("h2")).next().unwrap());
+        assert_eq!(heading, format!("Rail {}", rail.name), "{what}");
+        let svgs: Vec<ElementRef> = section.select(&sel("svg")).collect();
+        assert_eq!(svgs.len(), 1, "{what}/{}: one plot", rail.name);
+        let points = svgs[0]
+            .select(&sel("polyline"))
+            .map(|p| p.value().attr("points").unwrap_or("").split_whitespace().count())
+            .max()
+            .unwrap_or(0);
+        assert!(points >= 100, "{what}/{}: the |Z| curve is drawn ({points} points)", rail.name);
+        let a = analyze_rail(board, i, &AnalysisOptions::default()).unwrap();
+        let verdict = text_of(section.select(&sel("p.verdict")).next().unwrap());
+        let want = if a.meets_target { "Meets target" } else { "Misses target" };
+        assert!(verdict.starts_with(want), "{what}/{}: {verdict}", rail.name);
+        assert!(verdict.contains(&format!("{:+.1} dB", a.margin_db)), "{what}/{}: margin in {verdict}", rail.name);
+        let body = text_of(*section);
+        assert_eq!(body.contains("At the board instead: "), rail.package.is_some(), "{what}/{}", rail.name);
+        assert!(body.contains("In the worst corner of the parts' derating: "), "{what}/{}", rail.name);
+        for f in explain(board, rail, &a) {
+            assert!(body.contains(&f.text), "{what}/{}: finding missing: {}", rail.name, f.text);
+            assert!(body.contains(&f.hint), "{what}/{}: hint missing: {}", rail.name, f.hint);
+        }
+    }
+    let all = text_of(doc.root_element());
+    for c in CAUTIONS {
+        assert!(all.contains(c), "{what}: caution missing: {c}");
+    }
+    assert!(all.contains(&format!("hushrail {}", env!("CARGO_PKG_VERSION"))), "{what}: version");
+    doc
+}
+
+#[test]
+fn the_parser_reports_invalid_html() {
+    // The validity check below is only worth something if the parser does report errors.
+    assert!(!Html::parse_document("<!DOCTYPE html><p>a</div><table><b>x</table>").errors.is_empty());
+    assert!(!Html::parse_document("<p>no doctype</p>").errors.is_empty());
+}
+
+#[test]
+fn every_board_gives_a_valid_self_contained_report() {
+    for (stem, _, board) in reference_boards() {
+        let html = report_html(&board, &context(), None);
+        let doc = check_report(&stem, &board, &html);
+        let all = text_of(doc.root_element());
+        assert!(all.contains("2031-07-04"), "{stem}: the date");
+        assert!(!all.contains("Droop after a load step"), "{stem}: no droop section unless asked for");
+        // The bill of materials shows each fitted part with its total count.
+        let bom = bill_of_materials(&board);
+        let rows: Vec<Vec<String>> =
+            doc.select(&sel("#bom tr")).skip(1).map(|tr| tr.select(&sel("td")).map(text_of).collect()).collect();
+        assert_eq!(rows.len(), bom.lines.len(), "{stem}: BOM rows");
+        for (row, line) in rows.iter().zip(&bom.lines) {
+            assert_eq!(row[0], line.part.id);
+            assert_eq!(row[2 + board.rails.len()], line.total.to_string(), "{stem}: total of {}", line.part.id);
+        }
+    }
+}
+
+#[test]
+fn droop_figures_or_the_reason_there_are_none() {
+    for (stem, _, board) in reference_boards() {
+        let droops: Vec<_> = (0..board.rails.len()).map(|i| droop(&board, i, &DroopOptions::default())).collect();
+        let html = report_html(&board, &context(), Some(&droops));
+        let doc = check_report(&stem, &board, &html);
+        for (section, d) in doc.select(&sel("section.rail")).zip(&droops) {
+            let body = text_of(section);
+            assert!(body.contains("Droop after a load step"), "{stem}");
+            match d {
+                Ok(d) => {
+                    let v = hushrail::units::format(d.droop_v, hushrail::units::Unit::Volt);
+                    assert!(body.contains(&v), "{stem}: droop {v} missing");
+                }
+                Err(e) => assert!(body.contains(&e.to_string()), "{stem}: the reason {e}"),
+            }
+        }
+    }
+}
+
+#[test]
+fn text_from_the_board_is_escaped() {
+    let mut board = read_board(&root().join("tests/networks/big_small.json")).unwrap();
+    board.name = "<script>alert(1)</script> & co".into();
+    board.rails[0].name = "R<1>\"'".into();
+    board.parts[0].case = Some("</td><img src=x>".into());
+    let html = report_html(&board, &context(), None);
+    let doc = check_report("escaped", &board, &html);
+    let all = text_of(doc.root_element());
+    assert!(all.contains("<script>alert(1)</script> & co"), "the name reads as text");
+    assert!(all.contains("</td><img src=x>"));
+}
+
+#[test]
+fn cli_writes_the_report_and_refuses_bad_input_without_writing() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("review.html");
+    let run = hushrail()
+        .args(["report", "sample_boards/edge_camera.json", "-o", out.to_str().unwrap()])
+        .current_dir(root())
+        .output()
+        .unwrap();
+    assert_eq!(run.status.code(), Some(0), "{}", String::from_utf8_lossy(&run.stderr));
+    let html = std::fs::read_to_string(&out).unwrap();
+    let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let doc = check_report("cli", &board, &html);
+    let meta = text_of(doc.select(&sel("p.meta")).next().unwrap());
+    // Made by hushrail X on YYYY-MM-DD (UTC).
+    let date = meta.split(" on ").nth(1).unwrap().split(' ').next().unwrap();
+    let parts: Vec<&str> = date.split('-').collect();
+    assert!(parts.len() == 3 && parts[0].len() == 4 && parts[1].len() == 2 && parts[2].len() == 2, "{meta}");
+    assert!(parts[0].parse::<i32>().unwrap() >= 2025, "{meta}");
+    assert_eq!(doc.select(&sel("section.rail h3")).filter(|h| text_of(*h).starts_with("Droop")).count(), 3);
+
+    // A broken board: exit 2, the file named, nothing written.
+    let bad = dir.path().join("bad.html");
+    let run = hushrail()
+        .args(["report", "tests/bad_boards/negative_esr.json", "-o", bad.to_str().unwrap()])
+        .current_dir(root())
+        .output()
+        .unwrap();
+    assert_eq!(run.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&run.stderr).contains("negative_esr.json"));
+    assert!(!bad.exists());
+    // A folder that does not exist: exit 2 with the path.
+    let nowhere = dir.path().join("no/such/folder/r.html");
+    let run = hushrail()
+        .args(["report", "sample_boards/edge_camera.json", "-o", nowhere.to_str().unwrap()])
+        .current_dir(root())
+        .output()
+        .unwrap();
+    assert_eq!(run.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&run.stderr).contains("cannot write"));
+    assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1, "only the good report is left");
+}
