@@ -9,7 +9,9 @@
 //! ```
 
 use crate::model::{Board, Rail};
-use crate::physics::{Corner, SeriesRlc, derate, mounting::group_mounting_h};
+use crate::physics::measured::ImpedanceTable;
+use crate::physics::{Corner, SeriesRlc, TWO_PI, derate, mounting::group_mounting_h};
+use std::sync::Arc;
 use num_complex::Complex64;
 
 /// Which input a branch comes from.
@@ -54,12 +56,29 @@ pub struct Branch {
     pub kind: BranchKind,
     /// A short label for people: "source", "plane", "100n-0402 ×24".
     pub label: String,
-    /// The branch as one series R-L-C (for a group: one part with its mounting, divided by the count).
+    /// The branch as one series R-L-C (for a group: one part with its mounting, divided by the count). For a
+    /// measured part this is the R-L-C fitted to its data (used in the time domain and in netlists).
     pub rlc: SeriesRlc,
+    /// A measured part's data: the table, the count and the mounting inductance of one part.
+    pub measured: Option<(Arc<ImpedanceTable>, u32, f64)>,
     /// The part's own self-resonance (independent of count), used to say which branches bracket a peak. The
     /// source and the package count as resonating at 0 Hz (inductive at every frequency), a branch with no
     /// inductance at infinity (capacitive at every frequency).
     pub resonance_hz: f64,
+}
+
+impl Branch {
+    /// The branch's impedance at `f_hz`: a measured part's table (one part plus its mounting, divided by the
+    /// count), else the series R-L-C.
+    pub fn impedance(&self, f_hz: f64) -> Complex64 {
+        match &self.measured {
+            Some((table, count, mounting_h)) => {
+                let n = (*count).max(1) as f64;
+                (table.impedance(f_hz) + Complex64::new(0.0, TWO_PI * f_hz * mounting_h)) / n
+            }
+            None => self.rlc.impedance(f_hz),
+        }
+    }
 }
 
 /// The network of one rail, ready to evaluate at any frequency and from either view.
@@ -89,6 +108,7 @@ impl Network {
                 label: "source".into(),
                 rlc: SeriesRlc { r_ohm: s.r_ohm, l_h: s.l_h, c_f: None },
                 resonance_hz: 0.0,
+                measured: None,
             });
         }
         if let Some(p) = rail.plane {
@@ -97,12 +117,14 @@ impl Network {
                 kind: BranchKind::Plane,
                 label: "plane".into(),
                 rlc,
+                measured: None,
                 resonance_hz: rlc.self_resonance_hz().unwrap_or(f64::INFINITY),
             });
         }
         for (i, group) in rail.decaps.iter().enumerate() {
             let Some(part) = board.part(&group.part) else { continue };
-            if group.count == 0 {
+            // A measured part whose data could not be loaded is left out (the findings say so).
+            if group.count == 0 || part.unusable().is_some() {
                 continue;
             }
             let c = part.capacitance_f * derate(board, part, rail.voltage_v, corner).ratio();
@@ -111,6 +133,7 @@ impl Network {
                 kind: BranchKind::Group(i),
                 label: format!("{} ×{}", part.id, group.count),
                 rlc: one.parallel(group.count),
+                measured: part.table().map(|t| (Arc::new(t.clone()), group.count, group_mounting_h(group))),
                 resonance_hz: one.self_resonance_hz().unwrap_or(f64::INFINITY),
             });
         }
@@ -118,12 +141,14 @@ impl Network {
             kind: BranchKind::Package,
             label: "package".into(),
             rlc: SeriesRlc { r_ohm: p.r_ohm, l_h: p.l_h, c_f: None },
+            measured: None,
             resonance_hz: 0.0,
         });
         let die = rail.die.filter(|_| package.is_some()).map(|d| Branch {
             kind: BranchKind::Die,
             label: "die".into(),
             rlc: SeriesRlc { r_ohm: d.esr_ohm, l_h: 0.0, c_f: Some(d.capacitance_f) },
+            measured: None,
             resonance_hz: f64::INFINITY,
         });
         Network { branches, package, die }
@@ -146,9 +171,9 @@ impl Network {
 
     /// The impedance seen from `view` at `f_hz`. The die view of a rail without package is the board view.
     pub fn impedance_in(&self, f_hz: f64, view: View) -> Complex64 {
-        let board_y = admittance(self.branches.iter().map(|b| b.rlc.impedance(f_hz)));
-        let package = self.package.as_ref().map(|p| p.rlc.impedance(f_hz));
-        let die = self.die.as_ref().map(|d| d.rlc.impedance(f_hz));
+        let board_y = admittance(self.branches.iter().map(|b| b.impedance(f_hz)));
+        let package = self.package.as_ref().map(|p| p.impedance(f_hz));
+        let die = self.die.as_ref().map(|d| d.impedance(f_hz));
         match (view, package) {
             (View::Die, Some(zp)) => {
                 // The die sees its own capacitance in parallel with the package in series with the board.
@@ -185,8 +210,8 @@ impl Network {
         if view == View::Die
             && let (Some(p), Some(d)) = (&self.package, &self.die)
         {
-            let board_z = invert(admittance(self.branches.iter().map(|b| b.rlc.impedance(f_hz))));
-            let package_z = p.rlc.impedance(f_hz);
+            let board_z = invert(admittance(self.branches.iter().map(|b| b.impedance(f_hz))));
+            let package_z = p.impedance(f_hz);
             if (board_z + package_z).im > 0.0 {
                 let inductive = if package_z.im > board_z.im { Some(p) } else { below };
                 return (inductive, Some(d));

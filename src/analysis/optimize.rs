@@ -163,15 +163,15 @@ impl MixEvaluator {
         freq_hz.sort_by(f64::total_cmp);
         let fixed_y = freq_hz
             .iter()
-            .map(|&f| network.branches.iter().map(|b| inverse(b.rlc.impedance(f))).sum::<Complex64>())
+            .map(|&f| network.branches.iter().map(|b| inverse(b.impedance(f))).sum::<Complex64>())
             .collect();
         let unit_y = ones.iter().map(|o| freq_hz.iter().map(|&f| inverse(o.impedance(f))).collect()).collect();
         let die = (network.verdict_view() == View::Die).then(|| {
             let pkg = freq_hz
                 .iter()
-                .map(|&f| network.package.as_ref().map_or(Complex64::default(), |p| p.rlc.impedance(f)))
+                .map(|&f| network.package.as_ref().map_or(Complex64::default(), |p| p.impedance(f)))
                 .collect();
-            let die = freq_hz.iter().map(|&f| network.die.as_ref().map(|d| d.rlc.impedance(f))).collect();
+            let die = freq_hz.iter().map(|&f| network.die.as_ref().map(|d| d.impedance(f))).collect();
             (pkg, die)
         });
         MixEvaluator { freq_hz, fixed_y, unit_y, die, target: target_impedance(rail) }

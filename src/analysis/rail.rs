@@ -197,7 +197,7 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
                 .branches
                 .iter()
                 .chain(&network.die)
-                .map(|b| (branch_ref(b), freq_hz.iter().map(|&f| b.rlc.impedance(f)).collect()))
+                .map(|b| (branch_ref(b), freq_hz.iter().map(|&f| b.impedance(f)).collect()))
                 .collect()
         } else {
             Vec::new()

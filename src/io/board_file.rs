@@ -7,10 +7,14 @@
 
 use super::{BoardError, Place, write_atomically};
 use crate::model::{
-    Board, Combine, DecapGroup, Die, Load, MountingGeometry, Package, Part, PartKind, Plane, Problem, Rail, Source,
+    Board, Combine, DecapGroup, Die, Fixture, Load, MountingGeometry, Package, Part, PartKind, Plane, Problem, Rail,
+    Source,
     validate_board,
 };
+use crate::model::Measurement;
+use crate::physics::measured::ImpedanceTable;
 use serde::Serialize;
+use std::sync::Arc;
 use serde_json::{Map, Value};
 use std::path::Path;
 
@@ -20,10 +24,54 @@ pub const FORMAT_TAG: &str = "hushrail-board";
 pub const FORMAT_VERSION: u64 = 1;
 
 /// Read and check a board file. `file` names the source in error messages.
+///
+/// Measured parts' data are loaded too; a measurement that cannot be used is an error here (the command line
+/// refuses such a board). The window uses [`read_board_keeping_unusable`] instead.
 pub fn read_board(path: &Path) -> Result<Board, BoardError> {
+    let board = read_board_keeping_unusable(path)?;
+    let problems: Vec<Problem> = board
+        .parts
+        .iter()
+        .enumerate()
+        .filter_map(|(i, p)| p.unusable().map(|why| Problem::new(format!("parts[{i}].touchstone"), why)))
+        .collect();
+    if problems.is_empty() { Ok(board) } else { Err(BoardError::from_problems(&path.display().to_string(), problems)) }
+}
+
+/// Read and check a board file, loading measured parts' data; a measured part whose data cannot be used stays on
+/// the board, marked unusable with the reason (its groups are left out of the network).
+pub fn read_board_keeping_unusable(path: &Path) -> Result<Board, BoardError> {
     let text = std::fs::read_to_string(path)
         .map_err(|e| BoardError::single(path, Place::Whole, format!("cannot read the file: {e}")))?;
-    parse_board(&text, &path.display().to_string())
+    let mut board = parse_board(&text, &path.display().to_string())?;
+    let dir = path.parent().unwrap_or(Path::new(""));
+    load_measurements(&mut board, dir);
+    Ok(board)
+}
+
+/// Load every measured part's Touchstone file (paths relative to `dir`), fit it, and fill in the part's fitted C,
+/// ESR and ESL; a file that cannot be used marks the part unusable with the file, line and reason.
+pub fn load_measurements(board: &mut Board, dir: &Path) {
+    for part in board.parts.iter_mut().filter(|p| p.kind == PartKind::Measured) {
+        let (Some(file), Some(fixture)) = (&part.touchstone, part.fixture) else { continue };
+        let path = dir.join(file);
+        let loaded = super::touchstone::read_touchstone(&path).map_err(|e| e.to_string()).and_then(|t| {
+            let z = t.impedance(fixture).map_err(|e| format!("{}: {e}", path.display()))?;
+            ImpedanceTable::new(t.freq_hz.clone(), z).ok_or_else(|| {
+                format!("{}: the data do not describe a capacitor (no positive capacitance fits them)", path.display())
+            })
+        });
+        match loaded {
+            Ok(table) => {
+                let fit = table.fit;
+                part.capacitance_f = fit.c_f.unwrap_or(f64::NAN);
+                part.esr_ohm = fit.r_ohm;
+                part.esl_h = fit.l_h;
+                part.measurement = Some(Measurement::Loaded(Arc::new(table)));
+            }
+            Err(why) => part.measurement = Some(Measurement::Unusable(why)),
+        }
+    }
 }
 
 /// Parse and check board text. `file` is the name shown in errors.
@@ -257,6 +305,8 @@ impl Decoder {
                 "area_m2",
                 "tolerance_pct",
                 "dc_bias",
+                "touchstone",
+                "fixture",
             ],
             &empty,
         );
@@ -291,12 +341,47 @@ impl Decoder {
                 }
             }
         });
+        // A measured part takes C, ESR and ESL from its data (filled in when the data are loaded); others give
+        // them and name no measurement.
+        let measured = kind == PartKind::Measured;
+        let [capacitance_f, esr_ohm, esl_h] = ["capacitance_f", "esr_ohm", "esl_h"].map(|k| {
+            if !measured {
+                return self.number(&f, k);
+            }
+            if f.map.contains_key(k) {
+                self.problem(join(path, k), "a measured part takes its values from its measurement: leave this out");
+            }
+            f64::NAN
+        });
+        let (touchstone, fixture) = if measured {
+            let file = self.string(&f, "touchstone");
+            let fixture = self.string(&f, "fixture");
+            let fixture = match Fixture::from_name(&fixture) {
+                Some(x) => Some(x),
+                None if f.map.contains_key("fixture") => {
+                    self.problem(
+                        join(path, "fixture"),
+                        format!("must be \"one-port\" or \"shunt-through\", not \"{fixture}\""),
+                    );
+                    None
+                }
+                None => None,
+            };
+            (Some(file), fixture)
+        } else {
+            for k in ["touchstone", "fixture"] {
+                if f.map.contains_key(k) {
+                    self.problem(join(path, k), "only a part of kind \"measured\" names a measurement");
+                }
+            }
+            (None, None)
+        };
         Part {
             id: self.string(&f, "id"),
             kind,
-            capacitance_f: self.number(&f, "capacitance_f"),
-            esr_ohm: self.number(&f, "esr_ohm"),
-            esl_h: self.number(&f, "esl_h"),
+            capacitance_f,
+            esr_ohm,
+            esl_h,
             rated_voltage_v: self.opt_number(&f, "rated_voltage_v"),
             case: self.opt_string(&f, "case"),
             dielectric: self.opt_string(&f, "dielectric"),
@@ -304,6 +389,9 @@ impl Decoder {
             area_m2: self.opt_number(&f, "area_m2"),
             tolerance_pct: self.opt_number(&f, "tolerance_pct"),
             dc_bias,
+            touchstone,
+            fixture,
+            measurement: None,
         }
     }
 

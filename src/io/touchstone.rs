@@ -137,29 +137,7 @@ impl Touchstone {
     }
 }
 
-/// How a part was measured.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Fixture {
-    /// Reflection at one port: the part terminates the port.
-    OnePort,
-    /// Transmission between two ports with the part shunting the line between them.
-    ShuntThrough,
-}
-
-impl Fixture {
-    /// The word used in board files: "one-port" or "shunt-through".
-    pub fn name(self) -> &'static str {
-        match self {
-            Fixture::OnePort => "one-port",
-            Fixture::ShuntThrough => "shunt-through",
-        }
-    }
-
-    /// The fixture named by a board file's word, if any.
-    pub fn from_name(name: &str) -> Option<Fixture> {
-        [Fixture::OnePort, Fixture::ShuntThrough].into_iter().find(|f| f.name() == name)
-    }
-}
+pub use crate::model::Fixture;
 
 /// One-port reflection to impedance: Z = Z0 (1 + S11)/(1 − S11).
 pub fn one_port_s_to_z(s11: Complex64, z0_ohm: f64) -> Complex64 {

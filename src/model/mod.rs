@@ -7,6 +7,7 @@ mod validate;
 
 pub use validate::{Problem, validate_board, validate_part, validate_rail};
 
+use crate::physics::measured::ImpedanceTable;
 use serde::ser::SerializeStruct;
 use serde::{Serialize, Serializer};
 
@@ -48,17 +49,20 @@ pub enum PartKind {
     Film,
     /// Anything else.
     Other,
+    /// Known by a measurement (a Touchstone file) rather than by C, ESR and ESL.
+    Measured,
 }
 
 impl PartKind {
     /// Every kind, in the order shown to people.
-    pub const ALL: [PartKind; 6] = [
+    pub const ALL: [PartKind; 7] = [
         PartKind::Ceramic,
         PartKind::Polymer,
         PartKind::Tantalum,
         PartKind::Electrolytic,
         PartKind::Film,
         PartKind::Other,
+        PartKind::Measured,
     ];
 
     /// The word used in board files and on screen.
@@ -70,6 +74,7 @@ impl PartKind {
             PartKind::Electrolytic => "electrolytic",
             PartKind::Film => "film",
             PartKind::Other => "other",
+            PartKind::Measured => "measured",
         }
     }
 
@@ -84,8 +89,43 @@ impl PartKind {
     }
 }
 
-/// One capacitor model: a series R-L-C with its ratings.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// How a measured part was measured.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Fixture {
+    /// Reflection at one port: the part terminates the port (.s1p).
+    OnePort,
+    /// Transmission between two ports with the part shunting the line between them (.s2p).
+    ShuntThrough,
+}
+
+impl Fixture {
+    /// The word used in board files: "one-port" or "shunt-through".
+    pub fn name(self) -> &'static str {
+        match self {
+            Fixture::OnePort => "one-port",
+            Fixture::ShuntThrough => "shunt-through",
+        }
+    }
+
+    /// The fixture named by a board file's word, if any.
+    pub fn from_name(name: &str) -> Option<Fixture> {
+        [Fixture::OnePort, Fixture::ShuntThrough].into_iter().find(|f| f.name() == name)
+    }
+}
+
+/// A measured part's data as loaded from its file (never written back: the file is the data).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Measurement {
+    /// The impedance table and its fit.
+    Loaded(std::sync::Arc<ImpedanceTable>),
+    /// The file could not be used: why (file, line and reason).
+    Unusable(String),
+}
+
+/// One capacitor model: a series R-L-C with its ratings. A measured part (kind `measured`) takes its impedance from
+/// its Touchstone file instead; its C, ESR and ESL are then the values fitted to the data (not written to files).
+#[derive(Debug, Clone, PartialEq)]
 pub struct Part {
     /// Unique id within the board, referred to by decap groups.
     pub id: String,
@@ -98,27 +138,80 @@ pub struct Part {
     /// Equivalent series inductance of the part itself, H (mounting comes on top, per group).
     pub esl_h: f64,
     /// Rated voltage, V.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub rated_voltage_v: Option<f64>,
     /// Case size code, such as "0402".
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub case: Option<String>,
     /// Dielectric class, such as "X7R".
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub dielectric: Option<String>,
     /// Cost of one part, in the board's currency.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub unit_cost: Option<f64>,
     /// Board area one fitted part takes (footprint with its pads and keep-out), m².
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub area_m2: Option<f64>,
     /// Capacitance tolerance, ± percent.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub tolerance_pct: Option<f64>,
     /// Capacitance ratio against applied DC voltage, [[volts, ratio], ...] by volts; linear between points, ratio
     /// 1 at 0 V, the last ratio held beyond the last point.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub dc_bias: Option<Vec<[f64; 2]>>,
+    /// A measured part's Touchstone file, relative to the board file.
+    pub touchstone: Option<String>,
+    /// How a measured part was measured.
+    pub fixture: Option<Fixture>,
+    /// A measured part's loaded data (filled by `io` when the board is read from a file).
+    pub measurement: Option<Measurement>,
+}
+
+/// How a part is written to a board file: a measured part's C, ESR and ESL come from its data and are not written.
+#[derive(Serialize)]
+struct PartFile<'a> {
+    id: &'a str,
+    kind: PartKind,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    capacitance_f: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    esr_ohm: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    esl_h: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    rated_voltage_v: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    case: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    dielectric: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    unit_cost: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    area_m2: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    tolerance_pct: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    dc_bias: Option<&'a Vec<[f64; 2]>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    touchstone: Option<&'a str>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    fixture: Option<Fixture>,
+}
+
+impl Serialize for Part {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let own = (self.kind != PartKind::Measured).then_some(());
+        PartFile {
+            id: &self.id,
+            kind: self.kind,
+            capacitance_f: own.map(|_| self.capacitance_f),
+            esr_ohm: own.map(|_| self.esr_ohm),
+            esl_h: own.map(|_| self.esl_h),
+            rated_voltage_v: self.rated_voltage_v,
+            case: self.case.as_deref(),
+            dielectric: self.dielectric.as_deref(),
+            unit_cost: self.unit_cost,
+            area_m2: self.area_m2,
+            tolerance_pct: self.tolerance_pct,
+            dc_bias: self.dc_bias.as_ref(),
+            touchstone: self.touchstone.as_deref(),
+            fixture: self.fixture,
+        }
+        .serialize(serializer)
+    }
 }
 
 impl Part {
@@ -137,6 +230,26 @@ impl Part {
             area_m2: None,
             tolerance_pct: None,
             dc_bias: None,
+            touchstone: None,
+            fixture: None,
+            measurement: None,
+        }
+    }
+
+    /// The measured impedance table, when this part is measured and its data loaded.
+    pub fn table(&self) -> Option<&ImpedanceTable> {
+        match &self.measurement {
+            Some(Measurement::Loaded(t)) => Some(t),
+            _ => None,
+        }
+    }
+
+    /// Why this part cannot be used, when it is measured and its data are missing or broken.
+    pub fn unusable(&self) -> Option<String> {
+        match (&self.kind, &self.measurement) {
+            (PartKind::Measured, Some(Measurement::Unusable(why))) => Some(why.clone()),
+            (PartKind::Measured, None) => Some("its measurement has not been loaded".into()),
+            _ => None,
         }
     }
 }

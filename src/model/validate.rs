@@ -1,7 +1,7 @@
 //! The rules a board must keep before it is analysed. Every rule reports where (a JSON path such as
 //! `rails[1].decaps[0].part`) and why, and all problems are reported at once.
 
-use super::{Board, DecapGroup, Die, Load, Package, Part, Plane, Rail, Source};
+use super::{Board, DecapGroup, Die, Load, Package, Part, PartKind, Plane, Rail, Source};
 use crate::physics::mounting::geometry_problems;
 use crate::units::full_precision as num;
 use std::collections::HashSet;
@@ -131,9 +131,19 @@ fn check_part(c: &mut Checker, path: &str, part: &Part) {
         }
     }
     c.name(format!("{path}.id"), &part.id, "part id");
-    c.positive(format!("{path}.capacitance_f"), part.capacitance_f);
-    c.non_negative(format!("{path}.esr_ohm"), part.esr_ohm);
-    c.non_negative(format!("{path}.esl_h"), part.esl_h);
+    if part.kind == PartKind::Measured {
+        // Its values come from the measurement; what it needs is a file and a fixture.
+        if part.touchstone.as_deref().is_none_or(|t| t.trim().is_empty()) {
+            c.push(format!("{path}.touchstone"), "a measured part needs its Touchstone file (path relative to the board)");
+        }
+        if part.fixture.is_none() {
+            c.push(format!("{path}.fixture"), "a measured part needs its fixture: \"one-port\" or \"shunt-through\"");
+        }
+    } else {
+        c.positive(format!("{path}.capacitance_f"), part.capacitance_f);
+        c.non_negative(format!("{path}.esr_ohm"), part.esr_ohm);
+        c.non_negative(format!("{path}.esl_h"), part.esl_h);
+    }
     if let Some(v) = part.rated_voltage_v {
         c.positive(format!("{path}.rated_voltage_v"), v);
     }

@@ -131,7 +131,12 @@ impl Corner {
 }
 
 /// The derating of `part` on a rail at `rail_v` volts in `corner`.
+///
+/// A measured part is taken as measured: its data already hold what it really does.
 pub fn derate(board: &Board, part: &Part, rail_v: f64, corner: Corner) -> Derating {
+    if part.kind == PartKind::Measured {
+        return Derating { bias: 1.0, bias_source: BiasSource::None, temperature: 1.0, tolerance: 1.0 };
+    }
     let class = part.dielectric.as_deref().and_then(temperature_class);
     let (bias, bias_source) = match (&part.dc_bias, corner) {
         (Some(curve), _) => (curve_ratio(curve, rail_v), BiasSource::PartCurve),

@@ -4,6 +4,7 @@
 mod branch;
 pub mod coupling;
 pub mod derating;
+pub mod measured;
 pub mod mounting;
 
 pub use branch::{SeriesRlc, TWO_PI};
