@@ -161,6 +161,16 @@ impl App {
         self.doc.history.is_dirty()
     }
 
+    /// The selected rail's index.
+    pub fn selected_rail(&self) -> usize {
+        self.selected_rail
+    }
+
+    /// The finding marked on the plot: (rail index, index in that rail's findings).
+    pub fn selected_finding(&self) -> Option<(usize, usize)> {
+        self.selected_finding
+    }
+
     /// The file the board is saved to, if any.
     pub fn path(&self) -> Option<&Path> {
         self.doc.path.as_deref()
@@ -653,7 +663,7 @@ impl App {
 
     fn autosave(&mut self, ctx: &egui::Context) {
         let revision = self.doc.history.revision();
-        if !self.is_dirty() || revision == self.autosaved_revision {
+        if !self.store.keeps_files() || !self.is_dirty() || revision == self.autosaved_revision {
             return;
         }
         let now = ctx.input(|i| i.time);

@@ -72,6 +72,11 @@ impl Store {
         std::env::var_os("HUSHRAIL_DATA_DIR").map(PathBuf::from).or_else(|| eframe::storage_dir("hushrail"))
     }
 
+    /// True when this store keeps files (false for tests and benchmarks).
+    pub fn keeps_files(&self) -> bool {
+        self.dir.is_some()
+    }
+
     fn file(&self, name: &str) -> Option<PathBuf> {
         self.dir.as_ref().map(|d| d.join(name))
     }

@@ -89,7 +89,7 @@ fn finding_row(
     prefix: Option<&str>,
 ) -> bool {
     let (mark, color) = match finding.severity {
-        Severity::Fail => ("✖", pal.fail),
+        Severity::Fail => ("×", pal.fail),
         Severity::Note => ("•", pal.note),
     };
     let fill = if selected { ui.visuals().selection.bg_fill.gamma_multiply(0.4) } else { egui::Color32::TRANSPARENT };
@@ -163,7 +163,7 @@ impl App {
                         }
                     }
                     for c in cautions.iter().filter(|c| c.rail == self.selected_rail) {
-                        ui.label(RichText::new(format!("⚠ {}", c.text)).color(if c.serious {
+                        ui.label(RichText::new(format!("Caution: {}", c.text)).color(if c.serious {
                             pal.fail
                         } else {
                             pal.note
@@ -200,7 +200,7 @@ impl App {
                         ui.add_space(6.0);
                         ui.label(RichText::new("Cautions").strong());
                         for c in &cautions {
-                            ui.label(RichText::new(format!("⚠ {}", c.text)).color(if c.serious {
+                            ui.label(RichText::new(format!("Caution: {}", c.text)).color(if c.serious {
                                 pal.fail
                             } else {
                                 pal.note

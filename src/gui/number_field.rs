@@ -109,7 +109,7 @@ pub fn text_field(
         let response = ui.add(edit).labelled_by(labelled_by);
         if let Some(reason) = &error {
             ui.set_max_width(width.max(160.0));
-            ui.label(RichText::new(format!("⚠ {reason}")).color(fail).small());
+            ui.label(RichText::new(format!("Refused: {reason}")).color(fail).small());
         }
         response
     });

@@ -115,7 +115,7 @@ impl App {
         let at = self.selected_part;
         let key = format!("parts[{at}]");
         if let Some(reason) = self.fields.error(&key) {
-            ui.label(RichText::new(format!("⚠ {reason}")).color(pal.fail));
+            ui.label(RichText::new(format!("Refused: {reason}")).color(pal.fail));
         }
         let Some(part) = self.doc.board.parts.get(at).cloned() else { return };
         ui.separator();
@@ -128,7 +128,7 @@ impl App {
         });
         if part.kind.is_polarised() {
             ui.label(
-                RichText::new("⚠ Polarised: fit with the right DC direction; reversed, it can fail violently.")
+                RichText::new("Caution: polarised; fit with the right DC direction; reversed, it can fail violently.")
                     .color(pal.note),
             );
         }
@@ -142,13 +142,14 @@ impl App {
             });
             ui.end_row();
 
-            ui.label("Kind");
+            let kind_label = ui.label("Kind");
             let mut kind = part.kind;
-            egui::ComboBox::from_id_salt(("part-kind", at)).selected_text(kind.name()).show_ui(ui, |ui| {
+            let combo = egui::ComboBox::from_id_salt(("part-kind", at)).selected_text(kind.name()).show_ui(ui, |ui| {
                 for k in PartKind::ALL {
                     ui.selectable_value(&mut kind, k, k.name());
                 }
             });
+            let _ = combo.response.labelled_by(kind_label.id);
             if kind != part.kind {
                 let k = format!("{key}.kind");
                 if let Err(reason) =

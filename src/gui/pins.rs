@@ -66,7 +66,7 @@ impl App {
         let mut remove = None;
         ui.horizontal_wrapped(|ui| {
             if ui
-                .button("📌 Pin this curve")
+                .button("Pin this curve")
                 .on_hover_text("Keep the current curve on the plot to compare against")
                 .clicked()
             {
@@ -75,7 +75,9 @@ impl App {
             ui.checkbox(&mut self.show_group_curves, "each group's curve");
             for (i, pin) in self.pins.iter_mut().enumerate().filter(|(_, p)| p.rail == rail_name) {
                 ui.separator();
-                ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
+                let shown = ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
+                let show_label = format!("show {}", pin.name);
+                shown.widget_info(|| egui::WidgetInfo::selected(egui::Role::CheckBox, true, pin.visible, &show_label));
                 let (rect, _) = ui.allocate_exact_size(egui::vec2(14.0, 14.0), egui::Sense::hover());
                 ui.painter().rect_filled(rect, 3.0, pin.color);
                 ui.add(egui::TextEdit::singleline(&mut pin.name).desired_width(70.0)).on_hover_text(format!(
@@ -86,7 +88,7 @@ impl App {
                 ));
                 let verdict = if pin.meets { "meets" } else { "misses" };
                 ui.label(RichText::new(format!("{:+.1} dB, {verdict}", pin.margin_db)).small().color(pin.color));
-                let remove_button = ui.small_button("✕").on_hover_text("Remove this pin");
+                let remove_button = ui.small_button("×").on_hover_text("Remove this pin");
                 let label = format!("remove {}", pin.name);
                 remove_button.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &label));
                 if remove_button.clicked() {

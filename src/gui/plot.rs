@@ -110,8 +110,7 @@ impl App {
         let a = &result.analysis;
         ui.horizontal(|ui| {
             ui.label(RichText::new(&rail.name).heading().strong());
-            let (word, color) =
-                if a.meets_target { ("✔ meets target", pal.ok) } else { ("✖ misses target", pal.fail) };
+            let (word, color) = if a.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
             ui.label(RichText::new(word).heading().color(color));
             ui.label(RichText::new(format!("margin {:+.1} dB", a.margin_db)).strong().color(color));
         });
@@ -132,7 +131,7 @@ impl App {
             let better = if change_db >= 0.0 { "better" } else { "worse" };
             ui.label(
                 RichText::new(format!(
-                    "against pin “{}”: worst |Z| {} → {}, margin {:+.1} → {:+.1} dB ({:.1} dB {better})",
+                    "against pin “{}”: worst |Z| was {}, now {}; margin was {:+.1} dB, now {:+.1} dB ({:.1} dB {better})",
                     pin.name,
                     format(pin.worst_ohm, Unit::Ohm),
                     format(a.worst_ohm, Unit::Ohm),

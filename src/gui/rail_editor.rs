@@ -233,16 +233,18 @@ impl App {
                 ui.horizontal(|ui| {
                     ui.label(RichText::new(format!("{}.", gi + 1)).strong());
                     let mut part = g.part.clone();
-                    egui::ComboBox::from_id_salt(("group-part", i, gi)).width(150.0).selected_text(&part).show_ui(
-                        ui,
-                        |ui| {
+                    let combo = egui::ComboBox::from_id_salt(("group-part", i, gi))
+                        .width(150.0)
+                        .selected_text(&part)
+                        .show_ui(ui, |ui| {
                             for id in &part_ids {
                                 ui.selectable_value(&mut part, id.clone(), id);
                             }
-                        },
-                    );
+                        });
+                    let combo_label = format!("part of group {}", gi + 1);
+                    combo.response.widget_info(|| egui::WidgetInfo::labeled(egui::Role::ComboBox, true, &combo_label));
                     if part != g.part {
-                        let label = format!("group {} of {}: {} → {part}", gi + 1, rail.name, g.part);
+                        let label = format!("group {} of {}: {} to {part}", gi + 1, rail.name, g.part);
                         let result =
                             set_rail(&mut self.doc, i, &format!("{key}.part"), label, |r| r.decaps[gi].part = part);
                         self.report(&format!("{key}.part"), result);
@@ -266,10 +268,13 @@ impl App {
                 show_error(ui, &self.fields, &format!("{key}.count"), pal.fail);
                 ui.horizontal(|ui| {
                     let mut action = None;
-                    if ui.add_enabled(gi > 0, egui::Button::new("↑").small()).on_hover_text("Move up").clicked() {
+                    if ui.add_enabled(gi > 0, egui::Button::new("Up").small()).on_hover_text("Move up").clicked() {
                         action = Some(("move up", gi - 1));
                     }
-                    if ui.add_enabled(gi + 1 < n, egui::Button::new("↓").small()).on_hover_text("Move down").clicked()
+                    if ui
+                        .add_enabled(gi + 1 < n, egui::Button::new("Down").small())
+                        .on_hover_text("Move down")
+                        .clicked()
                     {
                         action = Some(("move down", gi + 1));
                     }
@@ -289,7 +294,7 @@ impl App {
                     }
                 });
                 for c in cautions.iter().filter(|c| c.rail == i && c.group == gi) {
-                    ui.label(RichText::new(format!("⚠ {}", c.text)).small().color(if c.serious {
+                    ui.label(RichText::new(format!("Caution: {}", c.text)).small().color(if c.serious {
                         pal.fail
                     } else {
                         pal.note
@@ -393,7 +398,7 @@ impl App {
 /// A refusal kept for a key that has no text field of its own (a checkbox, a button, a drag).
 fn show_error(ui: &mut Ui, fields: &Fields, key: &str, color: egui::Color32) {
     if let Some(reason) = fields.error(key) {
-        ui.label(RichText::new(format!("⚠ {reason}")).small().color(color));
+        ui.label(RichText::new(format!("Refused: {reason}")).small().color(color));
     }
 }
 
@@ -425,7 +430,7 @@ fn loads_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, 
                 })
             })
             .on_hover_text("10-90 % rise time; leave empty when not known");
-            let b = ui.small_button("✕").on_hover_text("Remove this load");
+            let b = ui.small_button("×").on_hover_text("Remove this load");
             let label = format!("remove load {}", load.name);
             b.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, rail.loads.len() > 1, &label));
             if b.clicked() {

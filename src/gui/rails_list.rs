@@ -65,10 +65,10 @@ impl App {
                     ui.label(RichText::new(volts).weak());
                     ui.with_layout(egui::Layout::right_to_left(egui::Align::Center), |ui| match &result {
                         Some(r) if r.analysis.meets_target => {
-                            ui.label(RichText::new("✔ meets").strong().color(pal.ok));
+                            ui.label(RichText::new("meets").strong().color(pal.ok));
                         }
                         Some(_) => {
-                            ui.label(RichText::new("✖ misses").strong().color(pal.fail));
+                            ui.label(RichText::new("misses").strong().color(pal.fail));
                         }
                         None => {
                             ui.label(RichText::new("not analysed").color(pal.note));
