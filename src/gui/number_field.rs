@@ -102,6 +102,9 @@ pub fn text_field(
     let fail = super::theme::palette(ui.visuals().dark_mode).fail;
 
     let inner = ui.vertical(|ui| {
+        // Inside a grid the cell's width comes from the last frame; claim the field's width so it is never
+        // squeezed to its column header.
+        ui.set_min_width(width);
         let mut edit = TextEdit::singleline(&mut text).id(id).desired_width(width);
         if error.is_some() {
             edit = edit.text_color(fail);

@@ -11,8 +11,7 @@ use crate::analysis::{AntiResonance, Severity};
 use crate::units::{Unit, format, format_sig};
 use egui::{RichText, Ui};
 use egui_plot::{
-    Corner, GridInput, GridMark, HoverPosition, Legend, Line, LineStyle, MarkerShape, Plot, PlotPoints, Points, Span,
-    VLine,
+    GridInput, GridMark, HoverPosition, Line, LineStyle, MarkerShape, Plot, PlotPoints, Points, Polygon, VLine,
 };
 use std::ops::RangeInclusive;
 
@@ -20,6 +19,12 @@ use std::ops::RangeInclusive;
 const TOTAL: &str = "|Z|";
 const PEAK_ABOVE: &str = "anti-resonance above target";
 const PEAK_UNDER: &str = "anti-resonance under target";
+
+/// A rectangle from x0 to x1 reaching far beyond any view vertically (log10 Ω from -30 to 30), used to shade a
+/// frequency range without the text label a plot span would draw over it.
+fn column(x0: f64, x1: f64) -> PlotPoints<'static> {
+    PlotPoints::from(vec![[x0, -30.0], [x1, -30.0], [x1, 30.0], [x0, 30.0]])
+}
 
 /// Grid marks for a log10 axis: every decade, and 2..9 within each decade when fewer than eight decades show.
 pub fn log_marks(input: GridInput) -> Vec<GridMark> {
@@ -46,9 +51,15 @@ pub fn log_marks(input: GridInput) -> Vec<GridMark> {
     marks
 }
 
-/// The label of a mark on a log10 axis: decades always, the 2..9 marks only when less than two decades show.
+/// The label of a mark on a log10 axis: decades always, the 2..9 marks only when less than two decades show; on
+/// the frequency axis, none at the very ends.
 pub fn log_label(mark: GridMark, range: &RangeInclusive<f64>, unit: Unit) -> String {
     let is_decade = (mark.value - mark.value.round()).abs() < 1e-9;
+    // A label centred on the very end of the axis would be cut in half by the plot's edge: leave it out.
+    let span = range.end() - range.start();
+    if unit == Unit::Hertz && (mark.value - range.start() < 0.02 * span || range.end() - mark.value < 0.02 * span) {
+        return String::new();
+    }
     if is_decade || range.end() - range.start() < 2.0 {
         format_sig(10f64.powf(mark.value), unit, 1)
     } else {
@@ -73,15 +84,20 @@ fn read_out(result: &RailResult, pos: &HoverPosition<'_>) -> Option<String> {
     let f = 10f64.powf(x);
     let z = 10f64.powf(y);
     let ratio = |z: f64| format!("{:.2}× target", z / a.target_ohm);
-    match name {
-        TOTAL => {
-            let mut text = format!("{}\n|Z| {} ({})", format(f, Unit::Hertz), format(z, Unit::Ohm), ratio(z));
-            // Near a peak, say which groups make it.
-            if let Some(p) = a.antiresonances.iter().find(|p| (p.freq_hz / f).log10().abs() < 0.06) {
-                text.push_str(&format!("\npeak: {}", peak_groups(p)));
-            }
-            Some(text)
+    // On the curve, or anywhere else over the plot: the curve's own sample nearest in frequency, so the read-out
+    // always gives the rail's |Z| there (the pointer's height is not a value of anything).
+    let on_curve = |x: f64| -> Option<String> {
+        let p = result.plot.total.iter().min_by(|a, b| (a[0] - x).abs().total_cmp(&(b[0] - x).abs()))?;
+        let (f, z) = (10f64.powf(p[0]), 10f64.powf(p[1]));
+        let mut text = format!("{}\n|Z| {} ({})", format(f, Unit::Hertz), format(z, Unit::Ohm), ratio(z));
+        // Near a peak, say which groups make it.
+        if let Some(peak) = a.antiresonances.iter().find(|p| (p.freq_hz / f).log10().abs() < 0.06) {
+            text.push_str(&format!("\npeak: {}", peak_groups(peak)));
         }
+        Some(text)
+    };
+    match name {
+        TOTAL | "" => on_curve(x).or_else(|| Some(format!("{}\n{}", format(f, Unit::Hertz), format(z, Unit::Ohm)))),
         PEAK_ABOVE | PEAK_UNDER => {
             let above = name == PEAK_ABOVE;
             let p = a.antiresonances.iter().filter(|p| p.above_target == above).nth(index)?;
@@ -93,7 +109,6 @@ fn read_out(result: &RailResult, pos: &HoverPosition<'_>) -> Option<String> {
                 peak_groups(p)
             ))
         }
-        "" => Some(format!("{}\n{}", format(f, Unit::Hertz), format(z, Unit::Ohm))),
         other => Some(format!("{other}\n{}\n|Z| {} ({})", format(f, Unit::Hertz), format(z, Unit::Ohm), ratio(z))),
     }
 }
@@ -161,9 +176,7 @@ impl App {
         let show_groups = self.show_group_curves;
         let hover_result = result.clone();
 
-        ui.horizontal(|ui| {
-            ui.weak("Scroll or drag to zoom and pan; double-click the plot to see the whole band again.");
-        });
+        self.plot_key(ui, &pal, a.target_ohm, &pins, !a.antiresonances.is_empty());
         Plot::new(("impedance", index))
             .default_x_bounds(v0, v1)
             .default_y_bounds(y0, y1)
@@ -175,22 +188,34 @@ impl App {
             .y_axis_label("|Z|")
             .y_axis_min_width(48.0)
             .label_formatter(move |pos| read_out(&hover_result, pos))
-            .legend(Legend::default().position(Corner::RightBottom))
             .show(ui, |pu| {
                 for v in &a.violations {
-                    pu.span(Span::new("above target", v.from_hz.log10()..=v.to_hz.log10()).fill(pal.violation_fill));
+                    pu.polygon(
+                        Polygon::new("above target", column(v.from_hz.log10(), v.to_hz.log10()))
+                            .fill_color(pal.violation_fill)
+                            .stroke(egui::Stroke::NONE)
+                            .allow_hover(false),
+                    );
                 }
                 if let Some(f) = selected {
                     let (f0, f1) = (f.range_hz[0].log10(), f.range_hz[1].log10());
-                    let width = if f1 - f0 < 0.01 { 0.01 } else { 0.0 };
-                    pu.span(
-                        Span::new("selected finding", (f0 - width)..=(f1 + width))
-                            .fill(pal.highlight)
-                            .border(egui::Stroke::new(1.5, pal.note)),
+                    // A single-frequency finding gets a narrow band so it can be seen.
+                    let half = if f1 - f0 < 0.01 { 0.01 } else { 0.0 };
+                    pu.polygon(
+                        Polygon::new("selected finding", column(f0 - half, f1 + half))
+                            .fill_color(pal.highlight)
+                            .stroke(egui::Stroke::new(1.5, pal.note))
+                            .allow_hover(false),
                     );
                 }
-                pu.vline(VLine::new("band edge", b0).color(pal.band_edge).style(LineStyle::dashed_dense()));
-                pu.vline(VLine::new("band edge", b1).color(pal.band_edge).style(LineStyle::dashed_dense()));
+                for edge in [b0, b1] {
+                    pu.vline(
+                        VLine::new("band edge", edge)
+                            .color(pal.band_edge)
+                            .style(LineStyle::dashed_dense())
+                            .allow_hover(false),
+                    );
+                }
                 if show_groups {
                     for b in &p.branches {
                         pu.line(
@@ -229,6 +254,72 @@ impl App {
             });
     }
 
+    /// The key to the plot, drawn above it rather than over it so that it never hides the curve.
+    fn plot_key(&self, ui: &mut Ui, pal: &theme::Palette, target_ohm: f64, pins: &[super::pins::Pin], peaks: bool) {
+        let swatch = |ui: &mut Ui, color: egui::Color32, kind: u8| {
+            let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 12.0), egui::Sense::hover());
+            let p = ui.painter();
+            match kind {
+                0 => {
+                    p.line_segment([rect.left_center(), rect.right_center()], egui::Stroke::new(2.5, color));
+                }
+                1 => {
+                    let c = rect.center();
+                    let r = 5.0;
+                    let pts = vec![
+                        c + egui::vec2(0.0, -r),
+                        c + egui::vec2(r, 0.0),
+                        c + egui::vec2(0.0, r),
+                        c + egui::vec2(-r, 0.0),
+                    ];
+                    p.add(egui::Shape::convex_polygon(pts, color, egui::Stroke::NONE));
+                }
+                _ => {
+                    p.rect_filled(rect, 2.0, color);
+                }
+            }
+        };
+        ui.horizontal_wrapped(|ui| {
+            ui.spacing_mut().item_spacing.x = 4.0;
+            // Each entry stays on one line; the row wraps between entries.
+            ui.style_mut().wrap_mode = Some(egui::TextWrapMode::Extend);
+            swatch(ui, pal.curve, 0);
+            ui.label(RichText::new("|Z|").small());
+            ui.add_space(8.0);
+            swatch(ui, pal.target, 0);
+            ui.label(RichText::new(format!("target {}, band edges dashed", format(target_ohm, Unit::Ohm))).small());
+            ui.add_space(8.0);
+            swatch(ui, pal.violation_fill.gamma_multiply(3.0), 2);
+            ui.label(RichText::new("above target").small());
+            if peaks {
+                ui.add_space(8.0);
+                swatch(ui, pal.fail, 1);
+                swatch(ui, pal.note, 1);
+                ui.label(RichText::new("anti-resonance above / under target").small());
+            }
+            if self.selected_finding.is_some() {
+                ui.add_space(8.0);
+                swatch(ui, pal.highlight.gamma_multiply(2.0), 2);
+                ui.label(RichText::new("selected finding").small());
+            }
+            for pin in pins {
+                ui.add_space(8.0);
+                swatch(ui, pin.color, 0);
+                ui.label(RichText::new(&pin.name).small());
+            }
+            if self.show_group_curves {
+                ui.add_space(8.0);
+                swatch(ui, pal.branch.gamma_multiply(2.5), 0);
+                ui.label(RichText::new("each group alone").small());
+            }
+        });
+        ui.label(
+            RichText::new("Hover for a read-out; scroll or drag to zoom and pan; double-click for the whole band.")
+                .small()
+                .weak(),
+        );
+    }
+
     /// Select a finding (or clear the selection when it is selected already).
     pub(super) fn toggle_finding(&mut self, rail: usize, index: usize) {
         if self.selected_finding == Some((rail, index)) {
@@ -259,6 +350,7 @@ mod tests {
         assert_eq!(decades, vec![3.0, 4.0, 5.0]);
         assert!(marks.iter().any(|m| (m.value - (3.0 + 2f64.log10())).abs() < 1e-12));
         let range = 2.5..=5.2;
+        assert_eq!(log_label(GridMark { value: 5.2, step_size: 1.0 }, &(2.2..=5.2), Unit::Hertz), "");
         assert_eq!(log_label(GridMark { value: 3.0, step_size: 1.0 }, &range, Unit::Hertz), "1 kHz");
         assert_eq!(log_label(GridMark { value: -2.0, step_size: 1.0 }, &range, Unit::Ohm), "10 mΩ");
         assert_eq!(log_label(GridMark { value: -4.0, step_size: 1.0 }, &range, Unit::Ohm), "100 µΩ");
