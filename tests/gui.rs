@@ -262,3 +262,26 @@ fn findings_are_the_engines_and_can_be_selected() {
     assert!(harness.query_by_label_contains("VDDR: meets target").is_some());
     assert!(harness.query_all(by().role(Role::Label).label_contains("misses target (")).count() >= 2);
 }
+
+#[test]
+fn work_left_by_a_crashed_session_is_offered_back() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut board = sample();
+    board.rails[0].decaps[0].count = 7;
+    // An autosave as a session that no longer runs leaves it (pid 4294967 is above Linux's pid limit).
+    let origin = dir.path().join("camera.json");
+    std::fs::write(dir.path().join("autosave-4294967.json"), hushrail::io::board_to_string(&board)).unwrap();
+    std::fs::write(dir.path().join("autosave-4294967.origin"), origin.display().to_string()).unwrap();
+
+    let store = hushrail::gui::files::Store::new(Some(dir.path().to_path_buf()));
+    let app = App::open(None, store);
+    let mut harness =
+        Harness::builder().with_size([1280.0, 800.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    assert!(harness.query_by_label("Unsaved work found").is_some());
+    click(&mut harness, "Restore");
+    assert_eq!(harness.state().board(), &board);
+    assert!(harness.state().is_dirty(), "restored work is unsaved until the user saves it");
+    assert_eq!(harness.state().path(), Some(origin.as_path()));
+    assert!(!dir.path().join("autosave-4294967.json").exists(), "the left-over copy is taken over");
+}

@@ -67,6 +67,8 @@ pub struct App {
     /// (rail, index into that rail's findings).
     pub(super) selected_finding: Option<(usize, usize)>,
     pub(super) pins: Vec<Pin>,
+    /// Each rail's home view on the plot, by rail index.
+    pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
     pub(super) next_pin: usize,
     pub(super) fields: Fields,
     pub(super) store: Store,
@@ -99,6 +101,7 @@ impl App {
             selected_rail: 0,
             selected_finding: None,
             pins: Vec::new(),
+            home_views: Default::default(),
             next_pin: 1,
             fields: Fields::default(),
             store: Store::new(None),
@@ -248,6 +251,7 @@ impl App {
                 self.results.clear();
                 self.fields.clear();
                 self.pins.clear();
+                self.home_views.clear();
                 self.selected_rail = 0;
                 self.selected_finding = None;
                 self.selected_part = 0;
@@ -489,6 +493,7 @@ impl App {
             self.results.clear();
             self.fields.clear();
             self.pins.clear();
+            self.home_views.clear();
             self.selected_rail = 0;
             self.selected_finding = None;
         }
@@ -644,6 +649,7 @@ impl App {
                 self.results.clear();
                 self.fields.clear();
                 self.pins.clear();
+                self.home_views.clear();
                 self.selected_rail = 0;
                 self.selected_finding = None;
                 self.store.forget_left_over(left);

@@ -123,9 +123,8 @@ pub fn text_field(
         e.text = text.clone();
     }
     if response.lost_focus() {
-        if ui.input(|i| i.key_pressed(egui::Key::Escape)) {
-            fields.forget(key);
-        } else if text == shown {
+        // Escape puts the board's value back; committing the text already shown changes nothing.
+        if ui.input(|i| i.key_pressed(egui::Key::Escape)) || text == shown {
             fields.forget(key);
         } else {
             match commit(&text) {

@@ -15,6 +15,18 @@ use egui_plot::{
 };
 use std::ops::RangeInclusive;
 
+/// Where a rail's plot starts and returns to on a double-click (log10 Hz and log10 Ω), and the band it was
+/// taken for.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HomeView {
+    /// The rail's band when the view was taken, Hz.
+    pub band: [f64; 2],
+    /// Horizontal range, log10 Hz.
+    pub x: [f64; 2],
+    /// Vertical range, log10 Ω.
+    pub y: [f64; 2],
+}
+
 /// Series names the hover read-out recognises.
 const TOTAL: &str = "|Z|";
 const PEAK_ABOVE: &str = "anti-resonance above target";
@@ -170,16 +182,27 @@ impl App {
         let t = a.target_ohm.log10();
         let (b0, b1) = (a.band_hz[0].log10(), a.band_hz[1].log10());
         let (v0, v1) = (p.view_hz[0].log10(), p.view_hz[1].log10());
-        let (y0, y1) = if p.home_y[0] < p.home_y[1] { (p.home_y[0], p.home_y[1]) } else { (-3.0, 1.0) };
+        // The view to start from and to come back to on a double-click. It is taken once per rail (and again
+        // when the band changes or the user double-clicks), not every frame, so that the view stands still
+        // while counts are dragged and the curve moves inside it.
+        let home = match self.home_views.get(&index) {
+            Some(h) if h.band == a.band_hz => *h,
+            _ => {
+                let y = if p.home_y[0] < p.home_y[1] { p.home_y } else { [-3.0, 1.0] };
+                let h = HomeView { band: a.band_hz, x: [v0, v1], y };
+                self.home_views.insert(index, h);
+                h
+            }
+        };
         let selected = self.selected_finding.filter(|(r, _)| *r == index).and_then(|(_, i)| result.findings.get(i));
         let pins: Vec<_> = self.pins.iter().filter(|p| p.visible && p.rail == rail.name).cloned().collect();
         let show_groups = self.show_group_curves;
         let hover_result = result.clone();
 
         self.plot_key(ui, &pal, a.target_ohm, &pins, !a.antiresonances.is_empty());
-        Plot::new(("impedance", index))
-            .default_x_bounds(v0, v1)
-            .default_y_bounds(y0, y1)
+        let shown = Plot::new(("impedance", index))
+            .default_x_bounds(home.x[0], home.x[1])
+            .default_y_bounds(home.y[0], home.y[1])
             .x_grid_spacer(log_marks)
             .y_grid_spacer(log_marks)
             .x_axis_formatter(|m, r| log_label(m, r, Unit::Hertz))
@@ -252,6 +275,10 @@ impl App {
                     Points::new(PEAK_UNDER, peaks(false)).shape(MarkerShape::Diamond).radius(5.0).color(pal.note),
                 );
             });
+        if shown.response.double_clicked() {
+            // Egui_plot has just gone back to the old home view; take a fresh one from the curve as it is now.
+            self.home_views.remove(&index);
+        }
     }
 
     /// The key to the plot, drawn above it rather than over it so that it never hides the curve.
@@ -350,7 +377,9 @@ mod tests {
         assert_eq!(decades, vec![3.0, 4.0, 5.0]);
         assert!(marks.iter().any(|m| (m.value - (3.0 + 2f64.log10())).abs() < 1e-12));
         let range = 2.5..=5.2;
-        assert_eq!(log_label(GridMark { value: 5.2, step_size: 1.0 }, &(2.2..=5.2), Unit::Hertz), "");
+        // A decade right at the end of the frequency axis is left unlabelled (it would be cut in half).
+        assert_eq!(log_label(GridMark { value: 5.0, step_size: 1.0 }, &(2.0..=5.02), Unit::Hertz), "");
+        assert_eq!(log_label(GridMark { value: 5.0, step_size: 1.0 }, &(2.0..=5.5), Unit::Hertz), "100 kHz");
         assert_eq!(log_label(GridMark { value: 3.0, step_size: 1.0 }, &range, Unit::Hertz), "1 kHz");
         assert_eq!(log_label(GridMark { value: -2.0, step_size: 1.0 }, &range, Unit::Ohm), "10 mΩ");
         assert_eq!(log_label(GridMark { value: -4.0, step_size: 1.0 }, &range, Unit::Ohm), "100 µΩ");
