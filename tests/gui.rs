@@ -221,6 +221,13 @@ fn removing_a_part_in_use_is_refused_and_names_the_groups() {
     click(&mut harness, "Remove part");
     assert_eq!(harness.state().board(), &board);
     assert!(harness.query_by_label_contains("still used by VCORE group 3").is_some());
+
+    // The board's name is edited on the same page, through the same history.
+    select_all_and_type(&mut harness, "Board name", "Camera rev B");
+    assert_eq!(harness.state().board().name, "Camera rev B");
+    select_all_and_type(&mut harness, "Board name", "  ");
+    assert_eq!(harness.state().board().name, "Camera rev B");
+    assert!(harness.query_by_label_contains("must not be empty").is_some());
 }
 
 #[test]
@@ -284,4 +291,38 @@ fn work_left_by_a_crashed_session_is_offered_back() {
     assert!(harness.state().is_dirty(), "restored work is unsaved until the user saves it");
     assert_eq!(harness.state().path(), Some(origin.as_path()));
     assert!(!dir.path().join("autosave-4294967.json").exists(), "the left-over copy is taken over");
+}
+
+#[test]
+fn dragging_a_count_moves_the_figures_at_every_step_and_undoes_in_one_step() {
+    let board = sample();
+    let group = board.rails[0].decaps.iter().position(|g| g.part == "mlcc-100n-0402").unwrap();
+    let mut harness = window(board.clone());
+    harness.get_by_label("count of mlcc-100n-0402").scroll_to_me();
+    harness.run();
+    let start = harness.get_by_label("count of mlcc-100n-0402").rect().center();
+
+    harness.hover_at(start);
+    harness.run();
+    harness.drag_at(start);
+    harness.run();
+    let mut seen = Vec::new();
+    for step in 1..=6 {
+        harness.hover_at(start + egui::vec2(step as f32 * 40.0, 0.0));
+        harness.run();
+        // At every step of the drag the window shows what the engine says for the count it has now.
+        let now = harness.state().board().clone();
+        assert_shows(&harness, &engine(&now, 0));
+        seen.push(now.rails[0].decaps[group].count);
+    }
+    harness.drop_at(start + egui::vec2(240.0, 0.0));
+    harness.run();
+    let end = harness.state().board().rails[0].decaps[group].count;
+    assert!(end > board.rails[0].decaps[group].count, "dragging right adds parts: {seen:?}");
+    assert!(seen.windows(2).any(|w| w[0] != w[1]), "the count changed during the drag: {seen:?}");
+
+    // The whole drag is one step of the history.
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board);
 }

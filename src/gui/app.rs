@@ -12,6 +12,10 @@ use crate::model::Board;
 use egui::{Key, KeyboardShortcut, Modifiers, RichText, Ui, ViewportCommand};
 use std::path::{Path, PathBuf};
 
+/// What the status line says when a file dialog comes back without a file.
+const NO_FILE_CHOSEN: &str = "No file chosen (if no dialog appeared, this desktop offers no file-dialog service: \
+                              drop a board file onto the window instead).";
+
 /// Seconds between autosaves of unsaved work.
 const AUTOSAVE_EVERY_S: f64 = 3.0;
 
@@ -226,11 +230,11 @@ impl App {
     fn perform(&mut self, action: Pending) {
         match action {
             Pending::Open(path) => self.open_now(&path),
-            Pending::OpenDialog => {
-                if let Some(path) = files::pick_open(self.doc.path.as_deref()) {
-                    self.open_now(&path);
-                }
-            }
+            Pending::OpenDialog => match files::pick_open(self.doc.path.as_deref()) {
+                Some(path) => self.open_now(&path),
+                // Also what a desktop without a file-dialog service answers: say so rather than do nothing.
+                None => self.status = Some((NO_FILE_CHOSEN.into(), false)),
+            },
             Pending::Close => {
                 self.allow_close = true;
                 self.store.remove_autosave();
@@ -281,7 +285,10 @@ impl App {
     pub fn save_as(&mut self) -> bool {
         match files::pick_save(self.doc.path.as_deref(), &self.doc.board.name) {
             Some(path) => self.save_to(&path),
-            None => false,
+            None => {
+                self.status = Some((NO_FILE_CHOSEN.into(), false));
+                false
+            }
         }
     }
 

@@ -60,6 +60,23 @@ impl App {
         if self.selected_part >= n {
             self.selected_part = n.saturating_sub(1);
         }
+        ui.horizontal(|ui| {
+            let l = ui.label("Board name");
+            let (fields, doc) = (&mut self.fields, &mut self.doc);
+            let old = doc.board.name.clone();
+            text_field(ui, fields, "name", l.id, &old, 220.0, |t| {
+                let name = t.trim().to_string();
+                doc.history
+                    .apply(
+                        &mut doc.board,
+                        Edit::SetBoardName { name: name.clone() },
+                        format!("rename board to {name}"),
+                        false,
+                    )
+                    .map_err(|p| refusal_text("name", &p))
+            });
+        });
+        ui.add_space(4.0);
         ui.label(RichText::new(format!("{n} parts on this board")).strong());
         egui::Grid::new("parts-table").striped(true).num_columns(5).spacing([10.0, 4.0]).show(ui, |ui| {
             for h in ["id", "kind", "C", "ESR", "ESL"] {
