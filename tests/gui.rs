@@ -92,11 +92,17 @@ fn selecting_a_rail_and_adding_a_part_moves_verdict_and_worst_impedance_as_the_e
     assert_shows(&harness, &before);
     assert!(!harness.state().is_dirty());
 
-    // Redo (Ctrl+Y) applies it again.
+    // Redo (Ctrl+Y) applies it again; Ctrl+Z and Ctrl+Shift+Z go back and forth once more.
     harness.key_press_modifiers(Modifiers::COMMAND, Key::Y);
     harness.run();
     assert_eq!(harness.state().board(), &changed);
     assert_shows(&harness, &after);
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board);
+    harness.key_press_modifiers(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &changed);
 }
 
 #[test]
@@ -325,4 +331,42 @@ fn dragging_a_count_moves_the_figures_at_every_step_and_undoes_in_one_step() {
     harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
     harness.run();
     assert_eq!(harness.state().board(), &board);
+}
+
+#[test]
+fn a_broken_file_named_on_the_command_line_opens_the_sample_with_its_errors() {
+    let broken = common::root().join("tests/bad_boards/syntax_trailing_comma.json");
+    let expected = hushrail::io::read_board(&broken).expect_err("the file is broken");
+    let app = App::open(Some(&broken), hushrail::gui::files::Store::new(None));
+    let mut harness =
+        Harness::builder().with_size([1280.0, 800.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    assert_eq!(harness.state().board(), &sample());
+    for line in expected.lines() {
+        assert!(harness.query_by_label(&line).is_some(), "the error line \"{line}\" is shown");
+    }
+}
+
+#[test]
+fn odd_but_valid_boards_do_not_upset_the_window() {
+    // No rails at all, and a rail with only a regulator and no parts on the board.
+    let texts = [
+        r#"{"format": "hushrail-board", "version": 1, "name": "empty", "parts": [], "rails": []}"#,
+        r#"{"format": "hushrail-board", "version": 1, "name": "bare", "parts": [], "rails": [
+            {"name": "R", "voltage_v": 1, "ripple_pct": 5, "band_hz": [1e3, 1e6],
+             "source": {"r_ohm": 0, "l_h": 0}, "loads": [{"name": "l", "step_a": 1}], "decaps": []}]}"#,
+    ];
+    for text in texts {
+        let board = hushrail::io::parse_board(text, "odd.json").expect("valid board");
+        let mut harness = window(board.clone());
+        for tab in ["Parts", "Help and cautions", "Rail inputs"] {
+            click(&mut harness, tab);
+        }
+        harness.get_by_label_contains("Whole board").click();
+        harness.run();
+        if harness.query_by_label("Pin this curve").is_some() {
+            click(&mut harness, "Pin this curve");
+        }
+        assert_eq!(harness.state().board(), &board);
+    }
 }

@@ -114,6 +114,16 @@ impl App {
         });
         ui.add_space(6.0);
 
+        // The groups come first: their counts are what the user changes most.
+        let groups_title = format!("Decap groups ({})", rail.decaps.len());
+        egui::CollapsingHeader::new(RichText::new(groups_title).strong())
+            .id_salt(("groups", i))
+            .default_open(true)
+            .show(ui, |ui| {
+                self.groups_editor(ui, i, &rail);
+            });
+
+        let (fields, doc) = (&mut self.fields, &mut self.doc);
         egui::CollapsingHeader::new(RichText::new("Regulator output (source)").strong())
             .id_salt(("source", i))
             .default_open(true)
@@ -206,14 +216,6 @@ impl App {
                 loads_editor(ui, fields, doc, i, &rail, pal.fail);
             },
         );
-
-        let groups_title = format!("Decap groups ({})", rail.decaps.len());
-        egui::CollapsingHeader::new(RichText::new(groups_title).strong())
-            .id_salt(("groups", i))
-            .default_open(true)
-            .show(ui, |ui| {
-                self.groups_editor(ui, i, &rail);
-            });
     }
 
     fn groups_editor(&mut self, ui: &mut Ui, i: usize, rail: &Rail) {
