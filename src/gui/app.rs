@@ -70,6 +70,8 @@ pub struct App {
     pub(super) selected_rail: usize,
     /// (rail, index into that rail's findings).
     pub(super) selected_finding: Option<(usize, usize)>,
+    /// The selection was made on the plot: bring it into view in the findings list.
+    pub(super) scroll_to_finding: bool,
     pub(super) pins: Vec<Pin>,
     /// Each rail's home view on the plot, by rail index.
     pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
@@ -104,6 +106,7 @@ impl App {
             results: Results::default(),
             selected_rail: 0,
             selected_finding: None,
+            scroll_to_finding: false,
             pins: Vec::new(),
             home_views: Default::default(),
             next_pin: 1,

@@ -83,6 +83,7 @@ pub fn cautions(board: &Board) -> Vec<Caution> {
 fn finding_row(
     ui: &mut Ui,
     id: egui::Id,
+    scroll_into_view: bool,
     pal: &Palette,
     finding: &Finding,
     selected: bool,
@@ -113,6 +114,9 @@ fn finding_row(
         });
     });
     let response = ui.interact(shown.response.rect, id, egui::Sense::click());
+    if selected && scroll_into_view {
+        response.scroll_to_me(Some(egui::Align::Center));
+    }
     response.on_hover_text("Click to mark this on the plot; click again to clear").clicked()
 }
 
@@ -154,6 +158,7 @@ impl App {
                         if finding_row(
                             ui,
                             egui::Id::unique(("finding", self.selected_rail, i)),
+                            self.scroll_to_finding,
                             &pal,
                             f,
                             selected,
@@ -187,6 +192,7 @@ impl App {
                             if finding_row(
                                 ui,
                                 egui::Id::unique(("board-finding", r, i)),
+                                self.scroll_to_finding,
                                 &pal,
                                 f,
                                 selected,
@@ -210,6 +216,7 @@ impl App {
                 }
             }
         });
+        self.scroll_to_finding = false;
         if let Some((r, i)) = clicked {
             self.toggle_finding(r, i);
         }

@@ -206,8 +206,15 @@ impl App {
 
             let l = ui.label("Unit cost");
             let k = format!("{key}.unit_cost");
-            optional_number_field(ui, fields, &k, l.id, part.unit_cost, Unit::None, 96.0, |v| {
-                set_part(doc, at, &k, format!("cost of {}", part.id), |p| p.unit_cost = v)
+            // Money reads better as a plain number (0.002) than with a prefix (2.00 m); "2m" is still accepted.
+            let shown = part.unit_cost.map(crate::units::full_precision).unwrap_or_default();
+            text_field(ui, fields, &k, l.id, &shown, 96.0, |t| {
+                let cost = if t.trim().is_empty() {
+                    None
+                } else {
+                    Some(crate::units::parse(t, Unit::None).map_err(|e| e.reason)?)
+                };
+                set_part(doc, at, &k, format!("cost of {}", part.id), |p| p.unit_cost = cost)
             });
             ui.end_row();
         });

@@ -275,6 +275,19 @@ impl App {
                     Points::new(PEAK_UNDER, peaks(false)).shape(MarkerShape::Diamond).radius(5.0).color(pal.note),
                 );
             });
+        // A click on the plot selects the finding at that frequency (a shaded range, or a marked peak), the same
+        // as clicking it in the list; a click elsewhere clears the selection.
+        if shown.response.clicked()
+            && let Some(pos) = shown.response.interact_pointer_pos()
+        {
+            let f = 10f64.powf(shown.transform.value_from_position(pos).x);
+            let hit = result.findings.iter().position(|fi| {
+                let [lo, hi] = fi.range_hz;
+                (f >= lo && f <= hi) || (f / lo).log10().abs() < 0.03 || (f / hi).log10().abs() < 0.03
+            });
+            self.selected_finding = hit.map(|i| (index, i));
+            self.scroll_to_finding = hit.is_some();
+        }
         if shown.response.double_clicked() {
             // Egui_plot has just gone back to the old home view; take a fresh one from the curve as it is now.
             self.home_views.remove(&index);
