@@ -83,7 +83,8 @@ pub fn log_label(mark: GridMark, range: &RangeInclusive<f64>, unit: Unit) -> Str
 fn peak_groups(a: &AntiResonance) -> String {
     let side =
         |b: &Option<crate::analysis::BranchRef>| b.as_ref().map(|b| b.label.clone()).unwrap_or_else(|| "—".into());
-    format!("{} (inductive) against {} (capacitive)", side(&a.inductive_side), side(&a.capacitive_side))
+    // Two short lines keep the read-out narrow enough to stay over the plot.
+    format!("peak between {} (inductive)\nand {} (capacitive)", side(&a.inductive_side), side(&a.capacitive_side))
 }
 
 /// The hover read-out for a point of the plot.
@@ -104,7 +105,7 @@ fn read_out(result: &RailResult, pos: &HoverPosition<'_>) -> Option<String> {
         let mut text = format!("{}\n|Z| {} ({})", format(f, Unit::Hertz), format(z, Unit::Ohm), ratio(z));
         // Near a peak, say which groups make it.
         if let Some(peak) = a.antiresonances.iter().find(|p| (p.freq_hz / f).log10().abs() < 0.06) {
-            text.push_str(&format!("\npeak: {}", peak_groups(peak)));
+            text.push_str(&format!("\n{}", peak_groups(peak)));
         }
         Some(text)
     };
