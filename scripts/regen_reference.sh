@@ -7,12 +7,21 @@ cargo build --quiet
 bin=target/debug/hushrail
 work=$(mktemp -d)
 trap 'rm -rf "$work"' EXIT
+# One line per rail: its name, and "die" when it gives a package (then the die view is written too).
+rails() {
+  python3 -c 'import json,sys
+for r in json.load(open(sys.argv[1]))["rails"]:
+    print(r["name"], "die" if "package" in r else "")' "$1"
+}
 for board in sample_boards/*.json tests/networks/*.json; do
   stem=$(basename "$board" .json)
-  for rail in $(python3 -c 'import json,sys; print("\n".join(r["name"] for r in json.load(open(sys.argv[1]))["rails"]))' "$board"); do
-    "$bin" netlist "$board" --rail "$rail" --from 1k --to 1G --per-decade 20 --data out.txt -o "$work/net.cir"
-    (cd "$work" && rm -f out.txt && ngspice -b net.cir >/dev/null 2>&1)
-    cp "$work/out.txt" "tests/reference/${stem}__${rail}.txt"
-    echo "tests/reference/${stem}__${rail}.txt"
-  done
+  while read -r rail die; do
+    for view in board $die; do
+      suffix=""; [ "$view" = die ] && suffix="__die"
+      "$bin" netlist "$board" --rail "$rail" --view "$view" --from 1k --to 1G --per-decade 20 --data out.txt -o "$work/net.cir"
+      (cd "$work" && rm -f out.txt && ngspice -b net.cir >/dev/null 2>&1)
+      cp "$work/out.txt" "tests/reference/${stem}__${rail}${suffix}.txt"
+      echo "tests/reference/${stem}__${rail}${suffix}.txt"
+    done
+  done < <(rails "$board")
 done

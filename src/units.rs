@@ -229,11 +229,17 @@ fn round_sig(value: f64, digits: usize, exp: i32) -> f64 {
     if r.is_finite() { r } else { value }
 }
 
-/// Write an f64 for machines: the shortest text that reads back to the same f64, in plain notation for ordinary
-/// magnitudes and in exponent notation for very small or very large ones.
+/// Write an f64 for machines: the shortest text that reads back to the same f64 ("0.025", "1e-10", "1000.0").
 pub fn full_precision(value: f64) -> String {
-    let mag = value.abs();
-    if value == 0.0 || (1e-4..1e15).contains(&mag) { format!("{value}") } else { format!("{value:e}") }
+    let mut out = String::new();
+    push_full_precision(&mut out, value);
+    out
+}
+
+/// Append [`full_precision`] text to `out` without an allocation of its own (for long CSV output).
+pub fn push_full_precision(out: &mut String, value: f64) {
+    let mut buffer = zmij::Buffer::new();
+    out.push_str(buffer.format(value));
 }
 
 #[cfg(test)]

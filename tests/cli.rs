@@ -112,7 +112,7 @@ fn sweep_defaults_to_the_band_and_1000_points() {
     let (code, stdout, _) = run(&["sweep", "sample_boards/edge_camera.json", "--rail", "VCORE"]);
     assert_eq!(code, 0);
     let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
-    let band = board.rail("VCORE").unwrap().band_hz;
+    let band = board.rail("VCORE").unwrap().band_hz.unwrap();
     let lines: Vec<&str> = stdout.lines().collect();
     assert_eq!(lines.len(), 1001);
     assert_eq!(lines[1].split(',').next().unwrap().parse::<f64>().unwrap(), band[0]);
@@ -138,7 +138,7 @@ fn bad_arguments_exit_2_with_a_reason() {
 
 #[test]
 fn every_subcommand_has_help() {
-    for sub in ["check", "sweep", "netlist"] {
+    for sub in ["check", "sweep", "netlist", "droop", "mounting", "coupling"] {
         let (code, stdout, _) = run(&[sub, "--help"]);
         assert_eq!(code, 0);
         assert!(stdout.contains("Usage"), "{sub}: {stdout}");
@@ -211,4 +211,27 @@ fn save_is_atomic_and_stable() {
     let bad = dir.path().join("missing/b.json");
     let e = hushrail::io::write_board(&bad, &board).unwrap_err();
     assert!(e.to_string().contains("missing/b.json"));
+}
+
+/// With a package the verdict is taken at the die and the board view is reported beside it; both corners are in
+/// the JSON, and `--corner worst` moves the verdict to the worst corner.
+#[test]
+fn check_reports_both_views_and_both_corners() {
+    let (_, stdout, _) = run(&["check", "sample_boards/sensor_hub.json", "--json"]);
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    let core = &v["rails"][0];
+    assert_eq!(core["view"], "die");
+    let views: Vec<&str> = core["views"].as_array().unwrap().iter().map(|x| x["view"].as_str().unwrap()).collect();
+    assert_eq!(views, ["die", "board"]);
+    let corners: Vec<&str> =
+        core["corners"].as_array().unwrap().iter().map(|x| x["corner"].as_str().unwrap()).collect();
+    assert_eq!(corners, ["nominal", "worst"]);
+    let (code, stdout, _) = run(&["check", "sample_boards/motor_drive.json", "--json", "--corner", "worst"]);
+    let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+    assert_eq!(v["rails"][0]["corner"], "worst");
+    let meets = v["meets_target"].as_bool().unwrap();
+    assert_eq!(code, if meets { 0 } else { 1 });
+    let (nominal_code, _, _) = run(&["check", "sample_boards/motor_drive.json"]);
+    assert_eq!(nominal_code, 0, "the motor-drive board meets target nominally");
+    assert_eq!(code, 1, "and misses in the worst corner (the gate-driver rail)");
 }

@@ -1,21 +1,11 @@
 //! The engine against published formulas and textbook results. Each check names its source.
 
 use hushrail::analysis::{AnalysisOptions, Network, analyze_rail, target_impedance};
-use hushrail::model::{Board, DecapGroup, Load, Part, PartKind, Rail};
+use hushrail::model::{Board, Combine, DecapGroup, Load, Part, PartKind, Rail};
 use hushrail::physics::{SeriesRlc, TWO_PI};
 
 fn part(id: &str, c: f64, esr: f64, esl: f64) -> Part {
-    Part {
-        id: id.into(),
-        kind: PartKind::Ceramic,
-        capacitance_f: c,
-        esr_ohm: esr,
-        esl_h: esl,
-        rated_voltage_v: None,
-        case: None,
-        dielectric: None,
-        unit_cost: None,
-    }
+    Part::new(id, PartKind::Ceramic, c, esr, esl)
 }
 
 fn rail(name: &str, groups: Vec<DecapGroup>, band: [f64; 2]) -> Rail {
@@ -23,16 +13,19 @@ fn rail(name: &str, groups: Vec<DecapGroup>, band: [f64; 2]) -> Rail {
         name: name.into(),
         voltage_v: 1.0,
         ripple_pct: 5.0,
-        band_hz: band,
+        band_hz: Some(band),
+        combine: Combine::Sum,
         source: None,
         plane: None,
+        package: None,
+        die: None,
         loads: vec![Load { name: "load".into(), step_a: 10.0, rise_time_s: None }],
         decaps: groups,
     }
 }
 
 fn group(part: &str, count: u32, mounting_h: f64) -> DecapGroup {
-    DecapGroup { part: part.into(), count, mounting_h }
+    DecapGroup::new(part, count, mounting_h)
 }
 
 /// Target impedance Z_t = V × ripple / ΔI (Smith et al., "Power distribution system design methodology and
@@ -50,10 +43,9 @@ fn target_impedance_smith_1999() {
 fn series_resonance_is_esr_at_f0() {
     let (c, esr, esl, mount) = (1e-7, 0.02, 4e-10, 6e-10);
     let board = Board {
-        name: "t".into(),
-        description: None,
         parts: vec![part("c", c, esr, esl)],
         rails: vec![rail("R", vec![group("c", 4, mount)], [1e4, 1e9])],
+        ..Board::named("t")
     };
     let f0 = 1.0 / (TWO_PI * ((esl + mount) * c).sqrt());
     let a = analyze_rail(&board, 0, &AnalysisOptions::default()).unwrap();
@@ -72,10 +64,9 @@ fn series_resonance_is_esr_at_f0() {
 fn n_identical_parts_are_one_scaled_part() {
     let (c, esr, esl, mount, n) = (2.2e-6, 0.008, 5e-10, 3e-10, 7u32);
     let many = Board {
-        name: "many".into(),
-        description: None,
         parts: vec![part("c", c, esr, esl)],
         rails: vec![rail("R", vec![group("c", n, mount)], [1e3, 1e9])],
+        ..Board::named("many")
     };
     let nf = n as f64;
     let one = SeriesRlc { r_ohm: esr / nf, l_h: (esl + mount) / nf, c_f: Some(c * nf) };
@@ -93,10 +84,9 @@ fn antiresonance_of_big_and_small_groups() {
     let (c_big, l_big) = (4.7e-5, 1.5e-9);
     let (c_small, l_small) = (1e-8, 5e-10);
     let board = Board {
-        name: "t".into(),
-        description: None,
         parts: vec![part("big", c_big, 0.003, 1e-9), part("small", c_small, 0.005, 3e-10)],
         rails: vec![rail("R", vec![group("big", 1, l_big - 1e-9), group("small", 1, l_small - 3e-10)], [1e4, 5e8])],
+        ..Board::named("t")
     };
     let a = analyze_rail(&board, 0, &AnalysisOptions::default()).unwrap();
     assert_eq!(a.antiresonances.len(), 1, "{:?}", a.antiresonances);

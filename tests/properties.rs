@@ -1,8 +1,12 @@
 //! Properties that must hold for every input, checked on random ones (proptest).
 
-use hushrail::analysis::{AnalysisOptions, Network, analyze_rail};
+use hushrail::analysis::{AnalysisOptions, Network, View, analyze_rail};
 use hushrail::io::{board_to_string, parse_board};
-use hushrail::model::{Board, DecapGroup, Load, Part, PartKind, Plane, Rail, Source, validate_board};
+use hushrail::model::{
+    Board, Combine, DecapGroup, Die, Load, MountingGeometry, Package, Part, PartKind, Plane, Rail, Source,
+    validate_board,
+};
+use hushrail::physics::Corner;
 use hushrail::units::{Unit, format, format_sig, parse};
 use proptest::prelude::*;
 
@@ -16,30 +20,67 @@ fn zero_or(s: impl Strategy<Value = f64>) -> impl Strategy<Value = f64> {
 }
 
 fn part_strategy(i: usize) -> impl Strategy<Value = Part> {
-    (log_value(-12.0, -1.0), zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-12.0, -7.0))).prop_map(
-        move |(c, esr, esl)| Part {
-            id: format!("p{i}"),
-            kind: PartKind::ALL[i % PartKind::ALL.len()],
-            capacitance_f: c,
-            esr_ohm: esr,
-            esl_h: esl,
-            rated_voltage_v: None,
-            case: None,
-            dielectric: None,
-            unit_cost: Some(0.01),
+    let bias = proptest::option::of(proptest::collection::vec((log_value(-1.0, 1.5), 0.05f64..1.0), 1..4).prop_map(
+        |mut pts| {
+            pts.sort_by(|a, b| a.0.total_cmp(&b.0));
+            pts.dedup_by(|a, b| a.0 == b.0);
+            pts.into_iter().map(|(v, r)| [v, r]).collect::<Vec<_>>()
+        },
+    ));
+    let extras = (
+        proptest::option::of(0.0f64..50.0),
+        bias,
+        proptest::option::of(prop_oneof![Just("X7R"), Just("X5R"), Just("C0G"), Just("Y5V"), Just("ABC")]),
+        proptest::option::of(prop_oneof![Just("0201"), Just("0402"), Just("1206"), Just("7343")]),
+        proptest::option::of(log_value(0.0, 2.0)),
+    );
+    (log_value(-12.0, -1.0), zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-12.0, -7.0)), extras).prop_map(
+        move |(c, esr, esl, (tol, bias, dielectric, case, rated))| {
+            let mut p = Part::new(format!("p{i}"), PartKind::ALL[i % PartKind::ALL.len()], c, esr, esl);
+            p.unit_cost = Some(0.01);
+            p.tolerance_pct = tol;
+            p.dc_bias = bias;
+            p.dielectric = dielectric.map(String::from);
+            p.case = case.map(String::from);
+            p.rated_voltage_v = rated;
+            p
         },
     )
+}
+
+fn geometry_strategy() -> impl Strategy<Value = MountingGeometry> {
+    (
+        zero_or(log_value(-4.0, -2.0)),
+        log_value(-4.5, -3.0),
+        log_value(-4.5, -3.5),
+        log_value(-4.3, -3.5),
+        0.1f64..0.9,
+        1u32..4,
+        log_value(-4.0, -2.5),
+    )
+        .prop_map(|(len, w, h, d, pitch_over, n, via_len)| MountingGeometry {
+            trace_length_m: len,
+            trace_width_m: w,
+            trace_height_m: h,
+            via_drill_m: d,
+            via_length_m: via_len,
+            via_pitch_m: d / pitch_over,
+            vias_per_pad: n,
+        })
 }
 
 fn board_strategy() -> impl Strategy<Value = Board> {
     let parts = (1usize..6).prop_flat_map(|n| (0..n).map(part_strategy).collect::<Vec<_>>());
     parts.prop_flat_map(|parts| {
         let n = parts.len();
-        let group = (0..n, 0u32..50, zero_or(log_value(-11.0, -8.0))).prop_map(|(p, count, m)| DecapGroup {
-            part: format!("p{p}"),
-            count,
-            mounting_h: m,
-        });
+        let group =
+            (0..n, 0u32..50, zero_or(log_value(-11.0, -8.0)), proptest::option::weighted(0.3, geometry_strategy()))
+                .prop_map(|(p, count, m, geometry)| DecapGroup {
+                    part: format!("p{p}"),
+                    count,
+                    mounting_h: if geometry.is_some() { 0.0 } else { m },
+                    mounting: geometry,
+                });
         let source = proptest::option::of(
             (zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-10.0, -6.0)))
                 .prop_map(|(r, l)| Source { r_ohm: r, l_h: l }),
@@ -48,40 +89,59 @@ fn board_strategy() -> impl Strategy<Value = Board> {
             (log_value(-11.0, -7.0), zero_or(log_value(-5.0, -1.0)), zero_or(log_value(-13.0, -10.0)))
                 .prop_map(|(c, r, l)| Plane { capacitance_f: c, esr_ohm: r, esl_h: l }),
         );
+        let package = proptest::option::of(
+            (
+                zero_or(log_value(-5.0, -2.0)),
+                zero_or(log_value(-12.0, -9.0)),
+                proptest::option::of((log_value(-10.0, -6.0), zero_or(log_value(-5.0, -2.0)))),
+            )
+                .prop_map(|(r, l, die)| {
+                    (Package { r_ohm: r, l_h: l }, die.map(|(c, esr)| Die { capacitance_f: c, esr_ohm: esr }))
+                }),
+        );
         let rail = (
-            log_value(-1.0, 1.5),
-            0.1f64..50.0,
-            log_value(0.0, 6.0),
-            log_value(0.1, 4.0),
+            (log_value(-1.0, 1.5), 0.1f64..50.0),
+            proptest::option::weighted(0.8, (log_value(0.0, 6.0), log_value(0.1, 4.0))),
+            any::<bool>(),
             source,
             plane,
+            package,
             proptest::collection::vec(group, 0..8),
-            proptest::collection::vec(log_value(-3.0, 2.0), 1..4),
+            proptest::collection::vec((log_value(-3.0, 2.0), proptest::option::of(log_value(-10.0, -7.0))), 1..4),
         )
-            .prop_map(|(v, ripple, lo, span, source, plane, mut decaps, steps)| {
+            .prop_map(|((v, ripple), band, rss, source, plane, package, mut decaps, mut steps)| {
                 if source.is_none() && plane.is_none() && decaps.iter().all(|g| g.count == 0) {
-                    decaps.push(DecapGroup { part: "p0".into(), count: 1, mounting_h: 0.0 });
+                    decaps.push(DecapGroup::new("p0", 1, 0.0));
+                }
+                // Without a band, some load must give a rise time for the band to follow from.
+                if band.is_none() {
+                    steps[0].1 = Some(steps[0].1.unwrap_or(1e-9));
                 }
                 Rail {
                     name: "R".into(),
                     voltage_v: v,
                     ripple_pct: ripple,
-                    band_hz: [lo, lo * span],
+                    band_hz: band.map(|(lo, span)| [lo, lo * span]),
+                    combine: if rss { Combine::Rss } else { Combine::Sum },
                     source,
                     plane,
+                    package: package.map(|p| p.0),
+                    die: package.and_then(|p| p.1),
                     loads: steps
                         .into_iter()
                         .enumerate()
-                        .map(|(i, s)| Load { name: format!("L{i}"), step_a: s, rise_time_s: Some(1e-9) })
+                        .map(|(i, (s, t))| Load { name: format!("L{i}"), step_a: s, rise_time_s: t })
                         .collect(),
                     decaps,
                 }
             });
-        rail.prop_map(move |rail| Board {
-            name: "random".into(),
-            description: None,
+        let temperature = proptest::option::of((-60.0f64..20.0, 30.0f64..160.0).prop_map(|(a, b)| [a, b]));
+        (rail, temperature, proptest::option::of(any::<bool>())).prop_map(move |(rail, temperature_c, generic)| Board {
             parts: parts.clone(),
             rails: vec![rail],
+            temperature_c,
+            generic_dc_bias: generic,
+            ..Board::named("random")
         })
     })
 }
@@ -95,15 +155,25 @@ proptest! {
     fn valid_boards_give_finite_passive_impedance(board in board_strategy()) {
         prop_assert!(validate_board(&board).is_empty(), "{:?}", validate_board(&board));
         let rail = &board.rails[0];
-        let net = Network::of_rail(&board, rail);
-        for f in hushrail::analysis::log_grid(1.0, 1e10, 200) {
-            let z = net.impedance(f);
-            prop_assert!(z.re.is_finite() && z.im.is_finite(), "Z({f}) = {z}");
-            prop_assert!(z.re >= -1e-12 * z.norm(), "Re Z({f}) = {} < 0", z.re);
+        for corner in [Corner::Nominal, Corner::Worst] {
+            let net = Network::of_rail_in(&board, rail, corner);
+            for view in [View::Board, View::Die] {
+                for f in hushrail::analysis::log_grid(1.0, 1e10, 200) {
+                    let z = net.impedance_in(f, view);
+                    prop_assert!(z.re.is_finite() && z.im.is_finite(), "Z({f}) = {z}");
+                    prop_assert!(z.re >= -1e-12 * z.norm(), "Re Z({f}) = {} < 0", z.re);
+                }
+            }
         }
         let a = analyze_rail(&board, 0, &AnalysisOptions { band_points: 200, ..Default::default() }).unwrap();
+        let band = rail.band().unwrap().hz;
         prop_assert!(a.worst_ohm.is_finite() && a.worst_ohm >= 0.0);
-        prop_assert!(a.worst_hz >= rail.band_hz[0] && a.worst_hz <= rail.band_hz[1]);
+        prop_assert!(a.worst_hz >= band[0] && a.worst_hz <= band[1]);
+        // The worst corner never has more capacitance than the nominal one.
+        let w = analyze_rail(&board, 0, &AnalysisOptions { band_points: 50, corner: Corner::Worst, ..Default::default() }).unwrap();
+        for (gw, gn) in w.groups.iter().zip(&a.groups) {
+            prop_assert!(gw.effective_c_f <= gn.effective_c_f * (1.0 + 1e-12));
+        }
         prop_assert_eq!(a.meets_target, a.violations.is_empty());
         for w in a.antiresonances.windows(2) { prop_assert!(w[0].freq_hz < w[1].freq_hz); }
         for w in a.violations.windows(2) { prop_assert!(w[0].to_hz <= w[1].from_hz); }

@@ -3,7 +3,9 @@
 
 use super::network::BranchKind;
 use super::rail::{AntiResonance, BranchRef, RailAnalysis};
-use crate::model::{Board, Rail};
+use crate::model::{Band, BandEdge, Board, Rail};
+use crate::physics::Corner;
+use crate::physics::derating::{BiasSource, temperature_class};
 use crate::units::{Unit, format};
 
 /// How much a finding matters.
@@ -70,6 +72,77 @@ pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Findi
         });
     }
     out.sort_by(|a, b| a.range_hz[0].total_cmp(&b.range_hz[0]));
+    out.extend(derating_notes(board, rail, analysis));
+    out
+}
+
+/// Where each edge of a band comes from, in words: [low, high].
+pub fn explain_band(band: &Band) -> [String; 2] {
+    let word = |edge: &BandEdge, f: f64, which: &str| match edge {
+        BandEdge::Given => format!("{which} edge {} as given", hz(f)),
+        BandEdge::Default => {
+            format!("{which} edge {} by default (the regulator's loop holds the rail below it)", hz(f))
+        }
+        BandEdge::RiseTime { load, rise_s } => {
+            format!("{which} edge {} = 0.35 / the {} rise of {load}", hz(f), format(*rise_s, Unit::Second))
+        }
+    };
+    [word(&band.low, band.hz[0], "lower"), word(&band.high, band.hz[1], "upper")]
+}
+
+/// In the worst corner: how much capacitance each part keeps and why; and dielectrics asked to work outside
+/// their temperature class.
+fn derating_notes(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Finding> {
+    let mut out = Vec::new();
+    let [lo, hi] = analysis.band_hz;
+    if analysis.corner == Corner::Worst {
+        for g in &analysis.groups {
+            let Some(d) = &g.derating else { continue };
+            if d.ratio() >= 0.999 {
+                continue;
+            }
+            let bias = match d.bias_source {
+                BiasSource::None => String::new(),
+                BiasSource::PartCurve => format!("DC bias ×{:.2} from the part's curve, ", d.bias),
+                BiasSource::Generic => format!(
+                    "DC bias ×{:.2} from the generic model (typical, recalled: give the part's own dc_bias curve), ",
+                    d.bias
+                ),
+            };
+            out.push(Finding {
+                severity: Severity::Note,
+                range_hz: [lo, hi],
+                text: format!(
+                    "{} keeps {:.0} % of its capacitance in the worst corner ({}): {bias}temperature ×{:.2}, \
+                     tolerance ×{:.2}.",
+                    g.part,
+                    d.ratio() * 100.0,
+                    format(g.effective_c_f, Unit::Farad),
+                    d.temperature,
+                    d.tolerance
+                ),
+                hint: "Check the part's own derating data; a larger case or a higher rating loses less to DC bias."
+                    .into(),
+            });
+        }
+    }
+    if let Some([t_lo, t_hi]) = board.temperature_c {
+        for g in &rail.decaps {
+            let Some(part) = board.part(&g.part) else { continue };
+            let Some(class) = part.dielectric.as_deref().and_then(temperature_class) else { continue };
+            if t_lo < class.min_c || t_hi > class.max_c {
+                out.push(Finding {
+                    severity: Severity::Note,
+                    range_hz: [lo, hi],
+                    text: format!(
+                        "{} is {}, rated {} °C to {} °C, but the board works from {t_lo} °C to {t_hi} °C.",
+                        part.id, class.code, class.min_c, class.max_c
+                    ),
+                    hint: "Choose a dielectric class rated for the board's range.".into(),
+                });
+            }
+        }
+    }
     out
 }
 
@@ -87,6 +160,8 @@ fn inductive_words(b: &Option<BranchRef>) -> String {
         Some(b) => match b.kind {
             BranchKind::Source => "the regulator's output inductance".to_string(),
             BranchKind::Plane => "the plane's inductance".to_string(),
+            BranchKind::Package => "the package inductance".to_string(),
+            BranchKind::Die => "the die".to_string(),
             BranchKind::Group(_) => {
                 format!("the inductance of {} (past its self-resonance at {})", b.label, hz(b.resonance_hz))
             }
@@ -101,6 +176,8 @@ fn capacitive_words(b: &Option<BranchRef>) -> String {
         Some(b) => match b.kind {
             BranchKind::Source => "the regulator".to_string(),
             BranchKind::Plane => "the plane capacitance".to_string(),
+            BranchKind::Package => "the package".to_string(),
+            BranchKind::Die => "the die capacitance".to_string(),
             BranchKind::Group(_) if b.resonance_hz.is_finite() => {
                 format!("the capacitance of {} (below its self-resonance at {})", b.label, hz(b.resonance_hz))
             }
@@ -141,6 +218,20 @@ fn peak_hint(board: &Board, rail: &Rail, a: &AntiResonance) -> String {
             tips.push(format!("fit more of {}", name.unwrap_or_default()))
         }
         Some(BranchKind::Plane) => tips.push("add small parts that stay capacitive past this frequency".into()),
+        Some(BranchKind::Die) => {
+            tips.push(
+                "lower the inductance the die sees through the package: more small parts with low mounting \
+                 inductance, self-resonant near or above this frequency"
+                    .into(),
+            );
+            if matches!(a.inductive_side.as_ref().map(|b| b.kind), Some(BranchKind::Package)) {
+                tips.push(
+                    "the package's own inductance sets this peak: more die capacitance or a package with \
+                           less inductance moves it"
+                        .into(),
+                );
+            }
+        }
         _ => {}
     }
     if matches!(a.inductive_side.as_ref().map(|b| b.kind), Some(BranchKind::Source)) {

@@ -6,7 +6,6 @@
 //! than 0.1 %. Local minima (series resonances) are refined the same way so that a narrow dip below target splits
 //! a violation band as it should.
 
-use super::network::Network;
 use num_complex::Complex64;
 
 /// Relative width (in f) at which a golden-section search stops: far below the promised 0.1 %.
@@ -51,13 +50,14 @@ pub struct Scan {
     pub violations: Vec<ViolationBand>,
 }
 
-/// Scan `network` over the closed band [lo, hi] with `points` log-spaced samples (at least 3 are used).
-pub fn scan(network: &Network, band_hz: [f64; 2], points: usize, target_ohm: f64) -> Scan {
+/// Scan an impedance `z_at(f)` over the closed band [lo, hi] with `points` log-spaced samples (at least 3 are
+/// used).
+pub fn scan(z_at: &dyn Fn(f64) -> Complex64, band_hz: [f64; 2], points: usize, target_ohm: f64) -> Scan {
     let [lo, hi] = band_hz;
     let freq_hz = super::grid::log_grid(lo, hi, points.max(3));
-    let z: Vec<Complex64> = freq_hz.iter().map(|&f| network.impedance(f)).collect();
+    let z: Vec<Complex64> = freq_hz.iter().map(|&f| z_at(f)).collect();
     let mag: Vec<f64> = z.iter().map(|z| z.norm()).collect();
-    let mag_at = |f: f64| network.magnitude(f);
+    let mag_at = |f: f64| z_at(f).norm();
 
     let peaks = refine_extrema(&freq_hz, &z, &mag, true, &mag_at);
     let dips = refine_extrema(&freq_hz, &z, &mag, false, &mag_at);

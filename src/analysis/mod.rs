@@ -2,16 +2,18 @@
 //! no window, no command line.
 
 mod advice;
+mod droop;
 mod findings;
 mod grid;
 mod network;
 mod rail;
 
-pub use advice::{Finding, Severity, explain};
+pub use advice::{Finding, Severity, explain, explain_band};
+pub use droop::{Droop, DroopError, DroopOptions, NodeDroop, PatternResponse, Pulse, droop, pattern_response};
 pub use findings::{Extremum, ViolationBand};
 pub use grid::log_grid;
-pub use network::{Branch, BranchKind, Network, magnitude_phase};
+pub use network::{Branch, BranchKind, Network, View, magnitude_phase};
 pub use rail::{
     AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, sweep,
-    target_impedance,
+    sweep_in, target_impedance,
 };

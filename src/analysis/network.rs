@@ -1,7 +1,15 @@
-//! A rail's network: every branch in parallel between the rail node and ground, summed as admittances.
+//! A rail's network: every branch in parallel between the rail node and ground, summed as admittances; and, when
+//! the rail gives a package, the die node behind it.
+//!
+//! ```text
+//!   board node --+-- source (R-L to the supply) --+-- package (R-L) -- die node --+
+//!                +-- plane (R-L-C)                                              die (R-C)
+//!                +-- each group (R-L-C)/n                                          |
+//!   ground ------+--------------------------------------------------------------+
+//! ```
 
 use crate::model::{Board, Rail};
-use crate::physics::SeriesRlc;
+use crate::physics::{Corner, SeriesRlc, derate, mounting::group_mounting_h};
 use num_complex::Complex64;
 
 /// Which input a branch comes from.
@@ -13,6 +21,30 @@ pub enum BranchKind {
     Plane,
     /// A decap group, by its index in the rail's `decaps`.
     Group(usize),
+    /// The package between the board and the die (series R-L).
+    Package,
+    /// The on-die capacitance.
+    Die,
+}
+
+/// Where the impedance is seen from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum View {
+    /// At the board's rail node.
+    #[default]
+    Board,
+    /// At the die, through the package.
+    Die,
+}
+
+impl View {
+    /// The word used on the command line and in JSON.
+    pub fn name(self) -> &'static str {
+        match self {
+            View::Board => "board",
+            View::Die => "die",
+        }
+    }
 }
 
 /// One branch of the network, with `count` identical parts already folded into one R-L-C.
@@ -25,22 +57,31 @@ pub struct Branch {
     /// The branch as one series R-L-C (for a group: one part with its mounting, divided by the count).
     pub rlc: SeriesRlc,
     /// The part's own self-resonance (independent of count), used to say which branches bracket a peak. The
-    /// source counts as resonating at 0 Hz (it is inductive at every frequency), a branch with no inductance at
-    /// infinity (capacitive at every frequency).
+    /// source and the package count as resonating at 0 Hz (inductive at every frequency), a branch with no
+    /// inductance at infinity (capacitive at every frequency).
     pub resonance_hz: f64,
 }
 
-/// The parallel network of one rail, ready to evaluate at any frequency.
+/// The network of one rail, ready to evaluate at any frequency and from either view.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Network {
-    /// The branches, in the order source, plane, groups.
+    /// The branches at the board node, in the order source, plane, groups.
     pub branches: Vec<Branch>,
+    /// The package path to the die, when the rail gives one.
+    pub package: Option<Branch>,
+    /// The die capacitance behind the package, when the rail gives one.
+    pub die: Option<Branch>,
 }
 
 impl Network {
-    /// Build a rail's network. Groups with count 0, or naming a part the board lacks, are left out (a validated
-    /// board has no such reference).
+    /// Build a rail's network with the part values as given (the nominal corner). Groups with count 0, or
+    /// naming a part the board lacks, are left out (a validated board has no such reference).
     pub fn of_rail(board: &Board, rail: &Rail) -> Network {
+        Network::of_rail_in(board, rail, Corner::Nominal)
+    }
+
+    /// Build a rail's network with each part's capacitance derated for `corner`.
+    pub fn of_rail_in(board: &Board, rail: &Rail, corner: Corner) -> Network {
         let mut branches = Vec::new();
         if let Some(s) = rail.source {
             branches.push(Branch {
@@ -60,14 +101,12 @@ impl Network {
             });
         }
         for (i, group) in rail.decaps.iter().enumerate() {
-            let Some(part) = board.part(&group.part) else {
-                continue;
-            };
+            let Some(part) = board.part(&group.part) else { continue };
             if group.count == 0 {
                 continue;
             }
-            let one =
-                SeriesRlc { r_ohm: part.esr_ohm, l_h: part.esl_h + group.mounting_h, c_f: Some(part.capacitance_f) };
+            let c = part.capacitance_f * derate(board, part, rail.voltage_v, corner).ratio();
+            let one = SeriesRlc { r_ohm: part.esr_ohm, l_h: part.esl_h + group_mounting_h(group), c_f: Some(c) };
             branches.push(Branch {
                 kind: BranchKind::Group(i),
                 label: format!("{} ×{}", part.id, group.count),
@@ -75,48 +114,126 @@ impl Network {
                 resonance_hz: one.self_resonance_hz().unwrap_or(f64::INFINITY),
             });
         }
-        Network { branches }
+        let package = rail.package.map(|p| Branch {
+            kind: BranchKind::Package,
+            label: "package".into(),
+            rlc: SeriesRlc { r_ohm: p.r_ohm, l_h: p.l_h, c_f: None },
+            resonance_hz: 0.0,
+        });
+        let die = rail.die.filter(|_| package.is_some()).map(|d| Branch {
+            kind: BranchKind::Die,
+            label: "die".into(),
+            rlc: SeriesRlc { r_ohm: d.esr_ohm, l_h: 0.0, c_f: Some(d.capacitance_f) },
+            resonance_hz: f64::INFINITY,
+        });
+        Network { branches, package, die }
     }
 
-    /// The impedance seen from the rail node at `f_hz`: Z = 1 / Σ 1/Z_branch. A branch of exactly zero impedance
-    /// shorts the node (Z = 0); a network with no branch is open (infinite).
+    /// True when the rail has a die node to look from.
+    pub fn has_die_view(&self) -> bool {
+        self.package.is_some()
+    }
+
+    /// The view a verdict is taken in: at the die when the rail gives a package, else at the board.
+    pub fn verdict_view(&self) -> View {
+        if self.has_die_view() { View::Die } else { View::Board }
+    }
+
+    /// The impedance at the board node (every board branch, and the package-and-die path hanging off it).
     pub fn impedance(&self, f_hz: f64) -> Complex64 {
-        let mut y = Complex64::new(0.0, 0.0);
-        for b in &self.branches {
-            let z = b.rlc.impedance(f_hz);
-            let d = z.norm_sqr();
-            if d == 0.0 {
-                return Complex64::new(0.0, 0.0);
-            }
-            // 1/z = conj(z)/|z|², cheaper than a general complex division.
-            y += Complex64::new(z.re / d, -z.im / d);
-        }
-        let d = y.norm_sqr();
-        if d == 0.0 { Complex64::new(f64::INFINITY, 0.0) } else { Complex64::new(y.re / d, -y.im / d) }
+        self.impedance_in(f_hz, View::Board)
     }
 
-    /// |Z(f)|.
+    /// The impedance seen from `view` at `f_hz`. The die view of a rail without package is the board view.
+    pub fn impedance_in(&self, f_hz: f64, view: View) -> Complex64 {
+        let board_y = admittance(self.branches.iter().map(|b| b.rlc.impedance(f_hz)));
+        let package = self.package.as_ref().map(|p| p.rlc.impedance(f_hz));
+        let die = self.die.as_ref().map(|d| d.rlc.impedance(f_hz));
+        match (view, package) {
+            (View::Die, Some(zp)) => {
+                // The die sees its own capacitance in parallel with the package in series with the board.
+                let behind = invert(board_y) + zp;
+                invert(admittance([behind].into_iter().chain(die)))
+            }
+            _ => {
+                // The board sees its branches in parallel with the package in series with the die (an open end
+                // when the rail gives a package without a die).
+                let path = match (package, die) {
+                    (Some(zp), Some(zd)) => Some(zp + zd),
+                    _ => None,
+                };
+                match path {
+                    Some(z) => invert(board_y + admittance([z])),
+                    None => invert(board_y),
+                }
+            }
+        }
+    }
+
+    /// |Z(f)| at the board node.
     pub fn magnitude(&self, f_hz: f64) -> f64 {
         self.impedance(f_hz).norm()
     }
 
-    /// The branches that bracket a frequency: the one with the highest self-resonance below it (already
-    /// inductive) and the one with the lowest above it (still capacitive). Indices into `branches`.
-    pub fn bracketing(&self, f_hz: f64) -> (Option<usize>, Option<usize>) {
-        let mut below: Option<usize> = None;
-        let mut above: Option<usize> = None;
-        for (i, b) in self.branches.iter().enumerate() {
-            let r = b.resonance_hz;
-            if r < f_hz {
-                if below.is_none_or(|j| r > self.branches[j].resonance_hz) {
-                    below = Some(i);
-                }
-            } else if r > f_hz && above.is_none_or(|j| r < self.branches[j].resonance_hz) {
-                above = Some(i);
+    /// The branches that bracket a peak at `f_hz` in `view`: the one already inductive just below it and the
+    /// one still capacitive just above it. At the board these are the branches with the nearest self-resonances
+    /// below and above. At the die, a peak where the path behind the die (package plus board) is inductive is
+    /// that path against the die capacitance; its inductive side is the package when the package's reactance
+    /// exceeds the board's, else the board's inductive branch.
+    pub fn bracketing(&self, f_hz: f64, view: View) -> (Option<&Branch>, Option<&Branch>) {
+        let (below, above) = self.board_bracketing(f_hz);
+        if view == View::Die
+            && let (Some(p), Some(d)) = (&self.package, &self.die)
+        {
+            let board_z = invert(admittance(self.branches.iter().map(|b| b.rlc.impedance(f_hz))));
+            let package_z = p.rlc.impedance(f_hz);
+            if (board_z + package_z).im > 0.0 {
+                let inductive = if package_z.im > board_z.im { Some(p) } else { below };
+                return (inductive, Some(d));
             }
         }
         (below, above)
     }
+
+    /// The board branches with the nearest self-resonances below and above `f_hz`.
+    fn board_bracketing(&self, f_hz: f64) -> (Option<&Branch>, Option<&Branch>) {
+        let mut below: Option<&Branch> = None;
+        let mut above: Option<&Branch> = None;
+        for b in &self.branches {
+            let r = b.resonance_hz;
+            if r < f_hz {
+                if below.is_none_or(|x| r > x.resonance_hz) {
+                    below = Some(b);
+                }
+            } else if r > f_hz && above.is_none_or(|x| r < x.resonance_hz) {
+                above = Some(b);
+            }
+        }
+        (below, above)
+    }
+}
+
+/// Σ 1/Z over some impedances. A branch of exactly zero impedance shorts the node: the admittance is infinite.
+fn admittance(zs: impl IntoIterator<Item = Complex64>) -> Complex64 {
+    let mut y = Complex64::new(0.0, 0.0);
+    for z in zs {
+        let d = z.norm_sqr();
+        if d == 0.0 {
+            return Complex64::new(f64::INFINITY, 0.0);
+        }
+        // 1/z = conj(z)/|z|², cheaper than a general complex division.
+        y += Complex64::new(z.re / d, -z.im / d);
+    }
+    y
+}
+
+/// 1/y, with an infinite admittance giving 0 (a short) and a zero admittance an infinite impedance (open).
+fn invert(y: Complex64) -> Complex64 {
+    if y.re.is_infinite() || y.im.is_infinite() {
+        return Complex64::new(0.0, 0.0);
+    }
+    let d = y.norm_sqr();
+    if d == 0.0 { Complex64::new(f64::INFINITY, 0.0) } else { Complex64::new(y.re / d, -y.im / d) }
 }
 
 /// Magnitude in Ω and phase in degrees in (-180, 180], positive when inductive.

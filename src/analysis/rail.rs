@@ -3,8 +3,9 @@
 
 use super::findings::{self, Extremum, ViolationBand};
 use super::grid::log_grid;
-use super::network::{BranchKind, Network};
-use crate::model::{Board, Rail};
+use super::network::{Branch, BranchKind, Network, View};
+use crate::model::{Band, Board, Rail};
+use crate::physics::{Corner, Derating, SeriesRlc, derate, mounting::group_mounting_h};
 use num_complex::Complex64;
 
 /// How densely to look, and what curves to keep.
@@ -16,18 +17,22 @@ pub struct AnalysisOptions {
     pub curve: Option<(f64, f64, usize)>,
     /// Keep each branch's own |Z| along the display sweep (for drawing them faintly beneath the total).
     pub branch_curves: bool,
+    /// Where to look from; `None` takes the verdict view (the die when the rail gives a package).
+    pub view: Option<View>,
+    /// Which corner of the parts' derating.
+    pub corner: Corner,
 }
 
 impl Default for AnalysisOptions {
     fn default() -> Self {
-        AnalysisOptions { band_points: 1000, curve: None, branch_curves: false }
+        AnalysisOptions { band_points: 1000, curve: None, branch_curves: false, view: None, corner: Corner::Nominal }
     }
 }
 
 /// The target impedance of a rail: V × ripple / ΔI, with ΔI the sum of the loads' steps (the worst case, every
 /// step at once). Ω.
 pub fn target_impedance(rail: &Rail) -> f64 {
-    rail.voltage_v * rail.ripple_pct / 100.0 / rail.total_step_a()
+    rail.voltage_v * rail.ripple_pct / (100.0 * rail.total_step_a())
 }
 
 /// A branch named in a finding.
@@ -50,7 +55,7 @@ pub struct AntiResonance {
     pub z_ohm: f64,
     /// True when the peak is above target.
     pub above_target: bool,
-    /// The branch already inductive just below the peak (highest self-resonance below it).
+    /// The branch already inductive just below the peak (highest self-resonance below it, or the package).
     pub inductive_side: Option<BranchRef>,
     /// The branch still capacitive just above the peak (lowest self-resonance above it).
     pub capacitive_side: Option<BranchRef>,
@@ -65,8 +70,15 @@ pub struct GroupInfo {
     pub part: String,
     /// Count fitted.
     pub count: u32,
-    /// Self-resonance of one part with its mounting, Hz (`None` with no inductance or no such part).
+    /// Self-resonance of one part with its mounting, Hz (`None` with no inductance or no such part), in the
+    /// analysed corner.
     pub self_resonance_hz: Option<f64>,
+    /// Mounting inductance of one part (given, or computed from the geometry), H.
+    pub mounting_h: f64,
+    /// The part's capacitance in the analysed corner, F.
+    pub effective_c_f: f64,
+    /// How the capacitance was derated in the analysed corner.
+    pub derating: Option<Derating>,
 }
 
 /// A frequency sweep of the total impedance and, on request, of each branch.
@@ -85,10 +97,18 @@ pub struct Curve {
 pub struct RailAnalysis {
     /// The rail's name.
     pub rail: String,
+    /// Where the impedance is seen from.
+    pub view: View,
+    /// Which derating corner.
+    pub corner: Corner,
     /// Target impedance, Ω.
     pub target_ohm: f64,
+    /// The rail's ΔI under its combine rule, A.
+    pub step_a: f64,
     /// The band the target applies over, Hz.
     pub band_hz: [f64; 2],
+    /// The band with where each edge came from.
+    pub band: Band,
     /// The highest |Z| over the closed band, Ω.
     pub worst_ohm: f64,
     /// Where it is, Hz.
@@ -116,19 +136,22 @@ pub struct RailAnalysis {
 /// Analyse rail `rail_index` of a (validated) board.
 pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<RailAnalysis> {
     let rail = board.rails.get(rail_index)?;
-    let network = Network::of_rail(board, rail);
-    let target_ohm = target_impedance(rail);
-    let scan = findings::scan(&network, rail.band_hz, options.band_points, target_ohm);
-
-    let branch_ref = |i: usize| {
-        let b = &network.branches[i];
-        BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz }
+    let band = rail.band()?;
+    let network = Network::of_rail_in(board, rail, options.corner);
+    let view = match options.view {
+        Some(View::Die) if network.has_die_view() => View::Die,
+        Some(_) => View::Board,
+        None => network.verdict_view(),
     };
+    let z_at = |f: f64| network.impedance_in(f, view);
+    let target_ohm = target_impedance(rail);
+    let scan = findings::scan(&z_at, band.hz, options.band_points, target_ohm);
+
     let antiresonances = scan
         .peaks
         .iter()
         .map(|p| {
-            let (below, above) = network.bracketing(p.freq_hz);
+            let (below, above) = network.bracketing(p.freq_hz, view);
             AntiResonance {
                 freq_hz: p.freq_hz,
                 z_ohm: p.z_ohm,
@@ -143,23 +166,38 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
         .decaps
         .iter()
         .enumerate()
-        .map(|(index, g)| GroupInfo {
-            index,
-            part: g.part.clone(),
-            count: g.count,
-            self_resonance_hz: board.part(&g.part).and_then(|p| {
-                crate::physics::SeriesRlc { r_ohm: p.esr_ohm, l_h: p.esl_h + g.mounting_h, c_f: Some(p.capacitance_f) }
-                    .self_resonance_hz()
-            }),
+        .map(|(index, g)| {
+            let mounting_h = group_mounting_h(g);
+            let part = board.part(&g.part);
+            let derating = part.map(|p| derate(board, p, rail.voltage_v, options.corner));
+            let effective_c_f = match (part, &derating) {
+                (Some(p), Some(d)) => p.capacitance_f * d.ratio(),
+                _ => f64::NAN,
+            };
+            GroupInfo {
+                index,
+                part: g.part.clone(),
+                count: g.count,
+                self_resonance_hz: part.and_then(|p| {
+                    SeriesRlc { r_ohm: p.esr_ohm, l_h: p.esl_h + mounting_h, c_f: Some(effective_c_f) }
+                        .self_resonance_hz()
+                }),
+                mounting_h,
+                effective_c_f,
+                derating,
+            }
         })
         .collect();
 
     let curve = options.curve.map(|(from, to, n)| {
         let freq_hz = log_grid(from, to, n);
-        let z = freq_hz.iter().map(|&f| network.impedance(f)).collect();
+        let z = freq_hz.iter().map(|&f| z_at(f)).collect();
         let branches = if options.branch_curves {
-            (0..network.branches.len())
-                .map(|i| (branch_ref(i), freq_hz.iter().map(|&f| network.branches[i].rlc.impedance(f)).collect()))
+            network
+                .branches
+                .iter()
+                .chain(&network.die)
+                .map(|b| (branch_ref(b), freq_hz.iter().map(|&f| b.rlc.impedance(f)).collect()))
                 .collect()
         } else {
             Vec::new()
@@ -171,8 +209,12 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
     let margin_ratio = target_ohm / worst.z_ohm;
     Some(RailAnalysis {
         rail: rail.name.clone(),
+        view,
+        corner: options.corner,
         target_ohm,
-        band_hz: rail.band_hz,
+        step_a: rail.total_step_a(),
+        band_hz: band.hz,
+        band,
         worst_ohm: worst.z_ohm,
         worst_hz: worst.freq_hz,
         margin_ratio,
@@ -187,13 +229,22 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
     })
 }
 
+fn branch_ref(b: &Branch) -> BranchRef {
+    BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz }
+}
+
 /// Analyse every rail of a (validated) board with the same options.
 pub fn analyze_board(board: &Board, options: &AnalysisOptions) -> Vec<RailAnalysis> {
     (0..board.rails.len()).filter_map(|i| analyze_rail(board, i, options)).collect()
 }
 
-/// The total impedance of a rail at each of `freq_hz` (for sweeps and exports).
+/// The total impedance of a rail at each of `freq_hz` seen from the board (for sweeps and exports).
 pub fn sweep(board: &Board, rail: &Rail, freq_hz: &[f64]) -> Vec<Complex64> {
-    let network = Network::of_rail(board, rail);
-    freq_hz.iter().map(|&f| network.impedance(f)).collect()
+    sweep_in(board, rail, freq_hz, View::Board, Corner::Nominal)
+}
+
+/// The impedance of a rail at each of `freq_hz`, seen from `view`, in `corner`.
+pub fn sweep_in(board: &Board, rail: &Rail, freq_hz: &[f64], view: View, corner: Corner) -> Vec<Complex64> {
+    let network = Network::of_rail_in(board, rail, corner);
+    freq_hz.iter().map(|&f| network.impedance_in(f, view)).collect()
 }

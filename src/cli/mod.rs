@@ -2,6 +2,9 @@
 //! exit 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
 
 mod check;
+mod coupling;
+mod droop;
+mod mounting;
 mod netlist;
 mod sweep;
 
@@ -40,6 +43,14 @@ pub enum Command {
     Check(check::CheckArgs),
     /// Print |Z(f)| of one rail as CSV: freq_hz,z_mag_ohm,z_phase_deg,target_ohm.
     Sweep(sweep::SweepArgs),
+    /// The rail's voltage after a load-current step, and the worst case over on/off load patterns.
+    ///
+    /// Exit status: 0 when the step's droop stays within voltage × ripple, 1 when not, 2 on bad input.
+    Droop(droop::DroopArgs),
+    /// The mounting inductance of a capacitor from its pad, trace and via geometry, term by term.
+    Mounting(mounting::MountingArgs),
+    /// Size a series coupling capacitor for the lowest frequency it must pass.
+    Coupling(coupling::CouplingArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
     Netlist(netlist::NetlistArgs),
 }
@@ -50,6 +61,9 @@ pub fn run(command: Command) -> i32 {
         Command::Check(args) => check::run(&args),
         Command::Sweep(args) => sweep::run(&args),
         Command::Netlist(args) => netlist::run(&args),
+        Command::Droop(args) => droop::run(&args),
+        Command::Mounting(args) => mounting::run(&args),
+        Command::Coupling(args) => coupling::run(&args),
     };
     match result {
         Ok(code) => code,
@@ -67,6 +81,44 @@ fn load_board(path: Option<&PathBuf>) -> Result<(Board, String), String> {
         None => crate::samples::default_board()
             .map(|b| (b, format!("built-in sample \"{}\"", crate::samples::DEFAULT_SAMPLE_NAME)))
             .map_err(|e| e.to_string()),
+    }
+}
+
+/// Where to look from, as the command line spells it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum ViewArg {
+    /// At the board's rail node.
+    Board,
+    /// At the die, through the package (the rail must give one).
+    Die,
+}
+
+impl ViewArg {
+    /// The library's view, or a message when the rail has no die to look from.
+    fn resolve(self, rail: &crate::model::Rail) -> Result<crate::analysis::View, String> {
+        match self {
+            ViewArg::Board => Ok(crate::analysis::View::Board),
+            ViewArg::Die if rail.package.is_some() => Ok(crate::analysis::View::Die),
+            ViewArg::Die => Err(format!("rail {} gives no package, so it has no die view", rail.name)),
+        }
+    }
+}
+
+/// Which derating corner, as the command line spells it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum CornerArg {
+    /// Part values as given (with a part's own DC-bias curve at the rail voltage).
+    Nominal,
+    /// Lowest effective capacitance: DC bias, temperature class limit and tolerance.
+    Worst,
+}
+
+impl From<CornerArg> for crate::physics::Corner {
+    fn from(c: CornerArg) -> Self {
+        match c {
+            CornerArg::Nominal => crate::physics::Corner::Nominal,
+            CornerArg::Worst => crate::physics::Corner::Worst,
+        }
     }
 }
 

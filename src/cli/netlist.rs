@@ -1,7 +1,8 @@
 //! `hushrail netlist`: one rail's network as a SPICE netlist that ngspice runs to the same |Z|.
 
 use super::{EXIT_PASS, emit, load_board};
-use crate::io::{AcSweep, rail_netlist, write_atomically};
+use crate::analysis::{DroopOptions, droop};
+use crate::io::{AcSweep, Transient, rail_netlist, rail_tran_netlist, write_atomically};
 use crate::units::{Unit, parse};
 use clap::Args;
 use std::path::PathBuf;
@@ -24,8 +25,24 @@ pub struct NetlistArgs {
     #[arg(long, default_value_t = 20)]
     pub per_decade: usize,
     /// File the netlist's control block writes the results to (frequency, Re V, Im V).
-    #[arg(long, default_value = "hushrail_ac.txt")]
+    #[arg(long, default_value = "hushrail_out.txt")]
     pub data: String,
+    /// Where the AC sweep drives and reads the network.
+    #[arg(long, value_enum, default_value = "board")]
+    pub view: super::ViewArg,
+    /// Write a transient of the load step instead of the AC sweep: the same stimulus, window and time step that
+    /// `hushrail droop` uses (with its --step, --rise and --window).
+    #[arg(long)]
+    pub droop: bool,
+    /// With --droop: the current step [default: the rail's total ΔI].
+    #[arg(long, requires = "droop")]
+    pub step: Option<String>,
+    /// With --droop: the rise time [default: the fastest load's, or 1 ns].
+    #[arg(long, requires = "droop")]
+    pub rise: Option<String>,
+    /// With --droop: the simulated time [default: as `hushrail droop`].
+    #[arg(long, requires = "droop")]
+    pub window: Option<String>,
     /// Write the netlist to this file instead of stdout.
     #[arg(short, long)]
     pub output: Option<PathBuf>,
@@ -35,6 +52,26 @@ pub struct NetlistArgs {
 pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
+    if args.droop {
+        let value = |opt: &Option<String>, unit: Unit, flag: &str| -> Result<Option<f64>, String> {
+            opt.as_ref().map(|t| parse(t, unit).map_err(|e| format!("--{flag}: {e}"))).transpose()
+        };
+        let options = DroopOptions {
+            step_a: value(&args.step, Unit::Ampere, "step")?,
+            rise_s: value(&args.rise, Unit::Second, "rise")?,
+            window_s: value(&args.window, Unit::Second, "window")?,
+            points: Some(2),
+        };
+        let index = board.rail_index(&rail.name).unwrap_or(0);
+        let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
+        let tran = Transient {
+            load: vec![(0.0, 0.0), (d.rise_s, d.step_a)],
+            step_s: d.dt_s,
+            stop_s: d.window_s,
+            max_step_s: d.dt_s,
+        };
+        return write_out(args, &rail_tran_netlist(&board, rail, &tran, &args.data));
+    }
     let from = parse(&args.from, Unit::Hertz).map_err(|e| format!("--from: {e}"))?;
     let to = parse(&args.to, Unit::Hertz).map_err(|e| format!("--to: {e}"))?;
     if !(from > 0.0 && to > from) {
@@ -43,17 +80,18 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     if args.per_decade == 0 {
         return Err("--per-decade must be at least 1".into());
     }
-    let text = rail_netlist(
-        &board,
-        rail,
-        &AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade },
-        &args.data,
-    );
+    let view = args.view.resolve(rail)?;
+    let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade };
+    let text = rail_netlist(&board, rail, &sweep, view, &args.data);
+    write_out(args, &text)
+}
+
+fn write_out(args: &NetlistArgs, text: &str) -> Result<i32, String> {
     match &args.output {
         Some(path) => {
             write_atomically(path, text.as_bytes()).map_err(|e| format!("{}: cannot write: {e}", path.display()))?
         }
-        None => emit(&text),
+        None => emit(text),
     }
     Ok(EXIT_PASS)
 }

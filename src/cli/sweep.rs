@@ -1,10 +1,9 @@
 //! `hushrail sweep`: one rail's |Z(f)| as CSV.
 
 use super::{EXIT_PASS, emit, load_board};
-use crate::analysis::{log_grid, magnitude_phase, sweep, target_impedance};
-use crate::units::{Unit, full_precision, parse};
+use crate::analysis::{log_grid, magnitude_phase, sweep_in, target_impedance};
+use crate::units::{Unit, full_precision, parse, push_full_precision};
 use clap::Args;
-use std::fmt::Write;
 use std::path::PathBuf;
 
 /// Options of `hushrail sweep`.
@@ -21,6 +20,12 @@ pub struct SweepArgs {
     /// Highest frequency, in engineering notation ("1G", "200meg") [default: the rail's band].
     #[arg(long)]
     pub to: Option<String>,
+    /// Where to look from: the board's rail node or the die (through the package).
+    #[arg(long, value_enum, default_value = "board")]
+    pub view: super::ViewArg,
+    /// Which derating corner of the parts' capacitance.
+    #[arg(long, value_enum, default_value = "nominal")]
+    pub corner: super::CornerArg,
     /// Number of log-spaced points, both ends included.
     #[arg(long, default_value_t = 1000)]
     pub points: usize,
@@ -40,8 +45,9 @@ pub fn run(args: &SweepArgs) -> Result<i32, String> {
             },
         }
     };
-    let from = freq(&args.from, rail.band_hz[0], "from")?;
-    let to = freq(&args.to, rail.band_hz[1], "to")?;
+    let band = rail.band_hz_or_default();
+    let from = freq(&args.from, band[0], "from")?;
+    let to = freq(&args.to, band[1], "to")?;
     if to <= from {
         return Err(format!("--to ({to} Hz) must be above --from ({from} Hz)"));
     }
@@ -50,14 +56,19 @@ pub fn run(args: &SweepArgs) -> Result<i32, String> {
     }
     let target = target_impedance(rail);
     let grid = log_grid(from, to, args.points);
-    let z = sweep(&board, rail, &grid);
+    let view = args.view.resolve(rail)?;
+    let z = sweep_in(&board, rail, &grid, view, args.corner.into());
     let mut text = String::with_capacity(64 * grid.len() + 64);
     text.push_str("freq_hz,z_mag_ohm,z_phase_deg,target_ohm\n");
     let target_text = full_precision(target);
     for (f, z) in grid.iter().zip(&z) {
         let (mag, phase) = magnitude_phase(*z);
-        let _ =
-            writeln!(text, "{},{},{},{}", full_precision(*f), full_precision(mag), full_precision(phase), target_text);
+        for x in [*f, mag, phase] {
+            push_full_precision(&mut text, x);
+            text.push(',');
+        }
+        text.push_str(&target_text);
+        text.push('\n');
     }
     emit(&text);
     Ok(EXIT_PASS)

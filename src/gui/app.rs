@@ -718,20 +718,20 @@ fn human_duration(secs: u64) -> String {
 
 /// A minimal valid board, used only if the built-in sample could not be read (which the tests rule out).
 fn fallback_board() -> Board {
-    use crate::model::{Load, Rail, Source};
-    Board {
-        name: "Empty board".into(),
-        description: None,
-        parts: Vec::new(),
-        rails: vec![Rail {
-            name: "RAIL".into(),
-            voltage_v: 1.0,
-            ripple_pct: 5.0,
-            band_hz: [1e3, 1e8],
-            source: Some(Source { r_ohm: 1e-3, l_h: 1e-8 }),
-            plane: None,
-            loads: vec![Load { name: "load".into(), step_a: 1.0, rise_time_s: None }],
-            decaps: Vec::new(),
-        }],
-    }
+    use crate::model::{Combine, Load, Rail, Source};
+    let mut board = Board::named("Empty board");
+    board.rails.push(Rail {
+        name: "RAIL".into(),
+        voltage_v: 1.0,
+        ripple_pct: 5.0,
+        band_hz: Some([1e3, 1e8]),
+        combine: Combine::Sum,
+        source: Some(Source { r_ohm: 1e-3, l_h: 1e-8 }),
+        plane: None,
+        package: None,
+        die: None,
+        loads: vec![Load { name: "load".into(), step_a: 1.0, rise_time_s: None }],
+        decaps: Vec::new(),
+    });
+    board
 }

@@ -11,17 +11,7 @@ use egui::{RichText, Ui};
 
 /// A new part's values: an invented generic 100 nF ceramic for the user to replace with their part's data.
 fn new_part(id: String) -> Part {
-    Part {
-        id,
-        kind: PartKind::Ceramic,
-        capacitance_f: 100e-9,
-        esr_ohm: 0.02,
-        esl_h: 0.4e-9,
-        rated_voltage_v: None,
-        case: None,
-        dielectric: None,
-        unit_cost: None,
-    }
+    Part::new(id, PartKind::Ceramic, 100e-9, 0.02, 0.4e-9)
 }
 
 /// Replace part `at` with a changed copy, through the history.
@@ -183,6 +173,13 @@ impl App {
             part_number(ui, fields, doc, at, &part, "ESR", "esr_ohm", part.esr_ohm, Unit::Ohm, |p, v| p.esr_ohm = v);
             part_number(ui, fields, doc, at, &part, "ESL", "esl_h", part.esl_h, Unit::Henry, |p, v| p.esl_h = v);
 
+            let l = ui.label("Tolerance ±%");
+            let k = format!("{key}.tolerance_pct");
+            optional_number_field(ui, fields, &k, l.id, part.tolerance_pct, Unit::None, 96.0, |v| {
+                set_part(doc, at, &k, format!("tolerance of {}", part.id), |p| p.tolerance_pct = v)
+            });
+            ui.end_row();
+
             let l = ui.label("Rated voltage");
             let k = format!("{key}.rated_voltage_v");
             optional_number_field(ui, fields, &k, l.id, part.rated_voltage_v, Unit::Volt, 96.0, |v| {
@@ -218,6 +215,15 @@ impl App {
             });
             ui.end_row();
         });
+        if let Some(curve) = &part.dc_bias {
+            ui.label(
+                RichText::new(format!(
+                    "DC-bias curve from the board file: {} points (used in the worst corner).",
+                    curve.len()
+                ))
+                .small(),
+            );
+        }
         ui.label(
             RichText::new("Values are the part's own data at the rail's voltage and temperature: take them from its data, not from memory.")
                 .small()

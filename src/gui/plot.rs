@@ -141,6 +141,10 @@ impl App {
             let (word, color) = if a.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
             ui.label(RichText::new(word).heading().color(color));
             ui.label(RichText::new(format!("margin {:+.1} dB", a.margin_db)).strong().color(color));
+            if a.view == crate::analysis::View::Die {
+                // With a package the verdict is taken at the die, as the check takes it; say so.
+                ui.label(RichText::new("seen at the die, through the package").weak());
+            }
         });
         ui.horizontal_wrapped(|ui| {
             ui.label(format!(

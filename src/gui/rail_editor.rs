@@ -5,7 +5,7 @@ use super::app::{App, Document, SideTab};
 use super::history::Edit;
 use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
 use super::theme;
-use crate::model::{DecapGroup, Load, Plane, Rail, Source};
+use crate::model::{Combine, DecapGroup, Load, Plane, Rail, Source};
 use crate::units::{Unit, format};
 use egui::{RichText, Ui};
 use std::cell::RefCell;
@@ -98,11 +98,14 @@ impl App {
             rail_number(ui, fields, doc, i, "Ripple %", "ripple_pct", rail.ripple_pct, Unit::None, |r, v| {
                 r.ripple_pct = v
             });
-            rail_number(ui, fields, doc, i, "Band from", "band_hz[0]", rail.band_hz[0], Unit::Hertz, |r, v| {
-                r.band_hz[0] = v
+            // Typing an edge fixes the band (both edges) where it is shown; a band taken from the loads can be
+            // brought back below.
+            let band = rail.band_hz_or_default();
+            rail_number(ui, fields, doc, i, "Band from", "band_hz[0]", band[0], Unit::Hertz, move |r, v| {
+                r.band_hz = Some([v, band[1]])
             });
-            rail_number(ui, fields, doc, i, "Band to", "band_hz[1]", rail.band_hz[1], Unit::Hertz, |r, v| {
-                r.band_hz[1] = v
+            rail_number(ui, fields, doc, i, "Band to", "band_hz[1]", band[1], Unit::Hertz, move |r, v| {
+                r.band_hz = Some([band[0], v])
             });
             ui.label("Target");
             ui.label(format!(
@@ -112,6 +115,30 @@ impl App {
             ));
             ui.end_row();
         });
+        match (&rail.band_hz, rail.band()) {
+            (None, Some(band)) => {
+                // The engine's own words for where each edge came from.
+                for line in crate::analysis::explain_band(&band) {
+                    ui.label(RichText::new(line).small().weak());
+                }
+            }
+            (Some(_), _) => {
+                let key = format!("rails[{i}].band_hz");
+                let from_loads = ui
+                    .small_button("Take the band from the loads' rise times")
+                    .on_hover_text("Upper edge 0.35 / the fastest rise time; lower edge the default");
+                if from_loads.clicked() {
+                    let result =
+                        set_rail(doc, i, &key, format!("band of {} from its loads", rail.name), |r| r.band_hz = None);
+                    match result {
+                        Ok(()) => fields.forget(&key),
+                        Err(reason) => fields.set_error(&key, String::new(), reason),
+                    }
+                }
+                show_error(ui, fields, &key, pal.fail);
+            }
+            (None, None) => {}
+        }
         ui.add_space(6.0);
 
         // The groups come first: their counts are what the user changes most.
@@ -263,9 +290,32 @@ impl App {
                     let (fields, doc) = (&mut self.fields, &mut self.doc);
                     let mkey = format!("{key}.mounting_h");
                     let label = format!("mounting of group {} of {}", gi + 1, rail.name);
-                    number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
-                        set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting_h = v)
-                    });
+                    if g.mounting.is_some() {
+                        // The file gives the mounting as geometry; the engine computes the inductance from it.
+                        let computed = self
+                            .results
+                            .get(i)
+                            .and_then(|r| r.analysis.groups.get(gi))
+                            .map(|g| g.mounting_h)
+                            .unwrap_or(g.mounting_h);
+                        ui.label(format!("{} from geometry", format(computed, Unit::Henry)))
+                            .on_hover_text("Computed from the pad, trace and via geometry in the board file");
+                        if ui.small_button("use a value").on_hover_text("Replace the geometry by this value").clicked()
+                        {
+                            let result = set_rail(doc, i, &mkey, label, |r| {
+                                r.decaps[gi].mounting = None;
+                                r.decaps[gi].mounting_h = computed;
+                            });
+                            match result {
+                                Ok(()) => fields.forget(&mkey),
+                                Err(reason) => fields.set_error(&mkey, String::new(), reason),
+                            }
+                        }
+                    } else {
+                        number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
+                            set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting_h = v)
+                        });
+                    }
                 });
                 show_error(ui, &self.fields, &format!("{key}.count"), pal.fail);
                 ui.horizontal(|ui| {
@@ -318,9 +368,8 @@ impl App {
                 part_ids.iter().find(|id| !rail.decaps.iter().any(|g| &g.part == *id)).unwrap_or(&part_ids[0]).clone();
             let label = format!("add group of {part} to {}", rail.name);
             let key = format!("rails[{i}].decaps");
-            let result = set_rail(&mut self.doc, i, &key, label, |r| {
-                r.decaps.push(DecapGroup { part, count: 1, mounting_h: NEW_MOUNTING_H })
-            });
+            let result =
+                set_rail(&mut self.doc, i, &key, label, |r| r.decaps.push(DecapGroup::new(part, 1, NEW_MOUNTING_H)));
             self.report(&key, result);
         }
     }
@@ -405,6 +454,27 @@ fn show_error(ui: &mut Ui, fields: &Fields, key: &str, color: egui::Color32) {
 }
 
 fn loads_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, rail: &Rail, fail: egui::Color32) {
+    ui.horizontal(|ui| {
+        let l = ui.label("steps add up as");
+        let mut combine = rail.combine;
+        let combo = egui::ComboBox::from_id_salt(("combine", i))
+            .selected_text(match combine {
+                Combine::Sum => "sum (all at once)",
+                Combine::Rss => "rss (uncorrelated)",
+            })
+            .show_ui(ui, |ui| {
+                ui.selectable_value(&mut combine, Combine::Sum, "sum (all at once, the worst case)");
+                ui.selectable_value(&mut combine, Combine::Rss, "rss (uncorrelated loads, common practice)");
+            });
+        let _ = combo.response.labelled_by(l.id);
+        if combine != rail.combine {
+            let key = format!("rails[{i}].combine");
+            let label = format!("steps of {} add up as {}", rail.name, combine.name());
+            if let Err(reason) = set_rail(doc, i, &key, label, |r| r.combine = combine) {
+                fields.set_error(&key, String::new(), reason);
+            }
+        }
+    });
     let mut remove = None;
     egui::Grid::new(("loads-grid", i)).num_columns(4).spacing([6.0, 4.0]).show(ui, |ui| {
         let name_h = ui.weak("name");

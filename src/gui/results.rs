@@ -102,12 +102,16 @@ impl Results {
 /// Analyse one rail and prepare its plot data.
 pub fn compute(board: &Board, index: usize) -> Option<RailResult> {
     let rail = board.rails.get(index)?;
-    let [lo, hi] = rail.band_hz;
+    // The band as the engine will take it (given, or from the loads' rise times).
+    let [lo, hi] = rail.band()?.hz;
     let view_hz = [lo / VIEW_MARGIN, hi * VIEW_MARGIN];
+    // The verdict's own view (the die when the rail gives a package) and the nominal corner, as the check takes
+    // them; only the density and the curves to keep are the window's.
     let options = AnalysisOptions {
         band_points: BAND_POINTS,
         curve: Some((view_hz[0], view_hz[1], CURVE_POINTS)),
         branch_curves: true,
+        ..AnalysisOptions::default()
     };
     let analysis = analyze_rail(board, index, &options)?;
     let findings = explain(board, rail, &analysis);

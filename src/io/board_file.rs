@@ -6,7 +6,10 @@
 //! never ignored.
 
 use super::{BoardError, Place, write_atomically};
-use crate::model::{Board, DecapGroup, Load, Part, PartKind, Plane, Problem, Rail, Source, validate_board};
+use crate::model::{
+    Board, Combine, DecapGroup, Die, Load, MountingGeometry, Package, Part, PartKind, Plane, Problem, Rail, Source,
+    validate_board,
+};
 use serde::Serialize;
 use serde_json::{Map, Value};
 use std::path::Path;
@@ -192,10 +195,14 @@ impl Decoder {
     fn board(&mut self, value: &Value) -> Board {
         let empty = Map::new();
         let f = self
-            .object(value, "", &["format", "version", "name", "description", "parts", "rails"])
+            .object(
+                value,
+                "",
+                &["format", "version", "name", "description", "temperature_c", "generic_dc_bias", "parts", "rails"],
+            )
             .unwrap_or(Fields { map: &empty, path: String::new(), known: &[] });
         if !value.is_object() {
-            return Board { name: String::new(), description: None, parts: Vec::new(), rails: Vec::new() };
+            return Board::named("");
         }
         match f.map.get("format") {
             Some(Value::String(s)) if s == FORMAT_TAG => {}
@@ -214,9 +221,19 @@ impl Decoder {
             Some(other) => self.problem("version", format!("must be a whole number, not {}", kind_of(other))),
             None => self.problem("version", "missing required field"),
         }
+        let generic_dc_bias = match f.map.get("generic_dc_bias") {
+            None => None,
+            Some(Value::Bool(b)) => Some(*b),
+            Some(other) => {
+                self.problem("generic_dc_bias", format!("must be true or false, not {}", kind_of(other)));
+                None
+            }
+        };
         Board {
             name: self.string(&f, "name"),
             description: self.opt_string(&f, "description"),
+            temperature_c: f.map.get("temperature_c").map(|v| self.pair(v, "temperature_c", "[min_c, max_c]")),
+            generic_dc_bias,
             parts: self.array(&f, "parts", |d, v, p| d.part(v, p)),
             rails: self.array(&f, "rails", |d, v, p| d.rail(v, p)),
         }
@@ -224,25 +241,28 @@ impl Decoder {
 
     fn part(&mut self, value: &Value, path: &str) -> Part {
         let empty = Map::new();
-        let f = self
-            .object(
-                value,
-                path,
-                &[
-                    "id",
-                    "kind",
-                    "capacitance_f",
-                    "esr_ohm",
-                    "esl_h",
-                    "rated_voltage_v",
-                    "case",
-                    "dielectric",
-                    "unit_cost",
-                ],
-            )
-            .unwrap_or(Fields { map: &empty, path: path.to_string(), known: &[] });
+        let f = self.sub_object(
+            value,
+            path,
+            &[
+                "id",
+                "kind",
+                "capacitance_f",
+                "esr_ohm",
+                "esl_h",
+                "rated_voltage_v",
+                "case",
+                "dielectric",
+                "unit_cost",
+                "tolerance_pct",
+                "dc_bias",
+            ],
+            &empty,
+        );
+        if f.known.is_empty() {
+            return Part::new("", PartKind::Other, f64::NAN, f64::NAN, f64::NAN);
+        }
         let kind = match f.map.get("kind") {
-            _ if f.known.is_empty() => PartKind::Other,
             None => {
                 self.problem(join(path, "kind"), "missing required field");
                 PartKind::Other
@@ -256,19 +276,20 @@ impl Decoder {
                 }),
             },
         };
-        if f.known.is_empty() {
-            return Part {
-                id: String::new(),
-                kind,
-                capacitance_f: f64::NAN,
-                esr_ohm: f64::NAN,
-                esl_h: f64::NAN,
-                rated_voltage_v: None,
-                case: None,
-                dielectric: None,
-                unit_cost: None,
-            };
-        }
+        let dc_bias = f.map.get("dc_bias").map(|v| {
+            let bias_path = join(path, "dc_bias");
+            match v.as_array() {
+                Some(points) => points
+                    .iter()
+                    .enumerate()
+                    .map(|(i, p)| self.pair(p, &format!("{bias_path}[{i}]"), "[volts, ratio]"))
+                    .collect(),
+                None => {
+                    self.problem(bias_path, "must be an array of [volts, ratio] pairs");
+                    Vec::new()
+                }
+            }
+        });
         Part {
             id: self.string(&f, "id"),
             kind,
@@ -279,52 +300,91 @@ impl Decoder {
             case: self.opt_string(&f, "case"),
             dielectric: self.opt_string(&f, "dielectric"),
             unit_cost: self.opt_number(&f, "unit_cost"),
+            tolerance_pct: self.opt_number(&f, "tolerance_pct"),
+            dc_bias,
         }
     }
 
     fn rail(&mut self, value: &Value, path: &str) -> Rail {
         let empty = Map::new();
-        let stand_in = Fields { map: &empty, path: path.to_string(), known: &[] };
-        let f = self
-            .object(value, path, &["name", "voltage_v", "ripple_pct", "band_hz", "source", "plane", "loads", "decaps"])
-            .unwrap_or(stand_in);
+        let f = self.sub_object(
+            value,
+            path,
+            &[
+                "name",
+                "voltage_v",
+                "ripple_pct",
+                "band_hz",
+                "combine",
+                "source",
+                "plane",
+                "package",
+                "die",
+                "loads",
+                "decaps",
+            ],
+            &empty,
+        );
         if f.known.is_empty() {
             return Rail {
                 name: String::new(),
                 voltage_v: f64::NAN,
                 ripple_pct: f64::NAN,
-                band_hz: [f64::NAN; 2],
+                band_hz: Some([f64::NAN; 2]),
+                combine: Combine::Sum,
                 source: None,
                 plane: None,
+                package: None,
+                die: None,
                 loads: Vec::new(),
                 decaps: Vec::new(),
             };
         }
+        let combine = match f.map.get("combine") {
+            None => Combine::Sum,
+            Some(v) => match self.string_at(v, &join(path, "combine")).as_deref() {
+                Some("sum") | None => Combine::Sum,
+                Some("rss") => Combine::Rss,
+                Some(other) => {
+                    self.problem(join(path, "combine"), format!("must be \"sum\" or \"rss\", not \"{other}\""));
+                    Combine::Sum
+                }
+            },
+        };
         Rail {
             name: self.string(&f, "name"),
             voltage_v: self.number(&f, "voltage_v"),
             ripple_pct: self.number(&f, "ripple_pct"),
-            band_hz: self.band(&f),
-            source: f.map.get("source").map(|v| self.source(v, &join(path, "source"))),
+            band_hz: f.map.get("band_hz").map(|v| self.pair(v, &join(path, "band_hz"), "[low_hz, high_hz]")),
+            combine,
+            source: f.map.get("source").map(|v| {
+                let [r_ohm, l_h] = self.record(v, &join(path, "source"), &["r_ohm", "l_h"]);
+                Source { r_ohm, l_h }
+            }),
             plane: f.map.get("plane").map(|v| self.plane(v, &join(path, "plane"))),
+            package: f.map.get("package").map(|v| {
+                let [r_ohm, l_h] = self.record(v, &join(path, "package"), &["r_ohm", "l_h"]);
+                Package { r_ohm, l_h }
+            }),
+            die: f.map.get("die").map(|v| {
+                let [capacitance_f, esr_ohm] = self.record(v, &join(path, "die"), &["capacitance_f", "esr_ohm"]);
+                Die { capacitance_f, esr_ohm }
+            }),
             loads: self.array(&f, "loads", |d, v, p| d.load(v, p)),
             decaps: self.array(&f, "decaps", |d, v, p| d.decap(v, p)),
         }
     }
 
-    fn band(&mut self, f: &Fields) -> [f64; 2] {
-        let path = join(&f.path, "band_hz");
-        let Some(v) = self.required(f, "band_hz") else {
-            return [f64::NAN; 2];
-        };
+    /// A pair of numbers written as a two-element array; NaN stands in for what could not be read.
+    fn pair(&mut self, v: &Value, path: &str, shape: &str) -> [f64; 2] {
         match v.as_array() {
             Some(items) if items.len() == 2 => {
-                let lo = self.number_at(&items[0], &format!("{path}[0]"));
-                let hi = self.number_at(&items[1], &format!("{path}[1]"));
-                [lo.unwrap_or(f64::NAN), hi.unwrap_or(f64::NAN)]
+                let a = self.number_at(&items[0], &format!("{path}[0]"));
+                let b = self.number_at(&items[1], &format!("{path}[1]"));
+                [a.unwrap_or(f64::NAN), b.unwrap_or(f64::NAN)]
             }
             _ => {
-                self.problem(path, "must be [low_hz, high_hz]: an array of two numbers");
+                self.problem(path, format!("must be {shape}: an array of two numbers"));
                 [f64::NAN; 2]
             }
         }
@@ -341,24 +401,21 @@ impl Decoder {
         self.object(value, path, known).unwrap_or(Fields { map: empty, path: path.to_string(), known: &[] })
     }
 
-    /// Read the required numbers of a sub-object; a stand-in reads as NaN without further problems.
-    fn numbers<const N: usize>(&mut self, f: &Fields, keys: [&str; N]) -> [f64; N] {
-        keys.map(|k| if f.known.is_empty() { f64::NAN } else { self.number(f, k) })
-    }
-
-    fn source(&mut self, value: &Value, path: &str) -> Source {
+    /// An object of exactly these required numbers (and nothing else); a stand-in reads as NaN.
+    fn record<const N: usize>(&mut self, value: &Value, path: &str, keys: &'static [&'static str; N]) -> [f64; N] {
         let empty = Map::new();
-        let f = self.sub_object(value, path, &["r_ohm", "l_h"], &empty);
-        let [r_ohm, l_h] = self.numbers(&f, ["r_ohm", "l_h"]);
-        Source { r_ohm, l_h }
+        let f = self.sub_object(value, path, keys, &empty);
+        keys.map(|k| if f.known.is_empty() { f64::NAN } else { self.number(&f, k) })
     }
 
     fn plane(&mut self, value: &Value, path: &str) -> Plane {
         let empty = Map::new();
         let f = self.sub_object(value, path, &["capacitance_f", "esr_ohm", "esl_h"], &empty);
-        let [capacitance_f] = self.numbers(&f, ["capacitance_f"]);
+        if f.known.is_empty() {
+            return Plane { capacitance_f: f64::NAN, esr_ohm: 0.0, esl_h: 0.0 };
+        }
         Plane {
-            capacitance_f,
+            capacitance_f: self.number(&f, "capacitance_f"),
             esr_ohm: self.opt_number(&f, "esr_ohm").unwrap_or(0.0),
             esl_h: self.opt_number(&f, "esl_h").unwrap_or(0.0),
         }
@@ -379,15 +436,72 @@ impl Decoder {
 
     fn decap(&mut self, value: &Value, path: &str) -> DecapGroup {
         let empty = Map::new();
-        let f = self.sub_object(value, path, &["part", "count", "mounting_h"], &empty);
+        let f = self.sub_object(value, path, &["part", "count", "mounting_h", "mounting"], &empty);
+        // A stand-in count of 1 keeps the rail's "nothing to ground" rule from firing on a count already reported.
         if f.known.is_empty() {
-            return DecapGroup { part: String::new(), count: 1, mounting_h: f64::NAN };
+            return DecapGroup::new("", 1, 0.0);
         }
-        let count = self
-            .required(&f, "count") // A stand-in of 1 keeps the rail's "nothing to ground" rule from firing on a count already reported.
-            .and_then(|v| self.count(v, &join(path, "count")))
-            .unwrap_or(1);
-        DecapGroup { part: self.string(&f, "part"), count, mounting_h: self.number(&f, "mounting_h") }
+        let count = self.required(&f, "count").and_then(|v| self.count(v, &join(path, "count"))).unwrap_or(1);
+        let part = self.string(&f, "part");
+        match (f.map.get("mounting_h"), f.map.get("mounting")) {
+            (Some(_), Some(_)) => {
+                self.problem(join(path, "mounting"), "give mounting_h or mounting (the geometry), not both");
+                DecapGroup::new(part, count, 0.0)
+            }
+            (None, None) => {
+                self.problem(
+                    join(path, "mounting_h"),
+                    "missing: give mounting_h (the mounting inductance) or mounting (its geometry)",
+                );
+                DecapGroup::new(part, count, 0.0)
+            }
+            (Some(_), None) => DecapGroup::new(part, count, self.number(&f, "mounting_h")),
+            (None, Some(g)) => {
+                let mounting = self.geometry(g, &join(path, "mounting"));
+                DecapGroup { part, count, mounting_h: 0.0, mounting }
+            }
+        }
+    }
+
+    /// A mounting geometry; `None` (with the problem recorded) when it is not an object of the right fields.
+    fn geometry(&mut self, value: &Value, path: &str) -> Option<MountingGeometry> {
+        const LENGTHS: [&str; 6] =
+            ["trace_length_m", "trace_width_m", "trace_height_m", "via_drill_m", "via_length_m", "via_pitch_m"];
+        let before = self.problems.len();
+        let empty = Map::new();
+        let f = self.sub_object(
+            value,
+            path,
+            &[
+                "trace_length_m",
+                "trace_width_m",
+                "trace_height_m",
+                "via_drill_m",
+                "via_length_m",
+                "via_pitch_m",
+                "vias_per_pad",
+            ],
+            &empty,
+        );
+        if f.known.is_empty() {
+            return None;
+        }
+        let [trace_length_m, trace_width_m, trace_height_m, via_drill_m, via_length_m, via_pitch_m] =
+            LENGTHS.map(|k| self.number(&f, k));
+        // One via per pad unless the file says more.
+        let vias_per_pad = match f.map.get("vias_per_pad") {
+            None => 1,
+            Some(v) => self.count(v, &join(path, "vias_per_pad")).unwrap_or(1),
+        };
+        (self.problems.len() == before).then_some(MountingGeometry {
+            trace_length_m,
+            trace_width_m,
+            trace_height_m,
+            via_drill_m,
+            via_length_m,
+            via_pitch_m,
+            vias_per_pad,
+        })
     }
 
     /// A count: a whole number >= 0 (written as 3 or 3.0), within u32.

@@ -4,7 +4,7 @@ mod board_file;
 mod netlist;
 
 pub use board_file::{FORMAT_TAG, FORMAT_VERSION, board_to_string, parse_board, read_board, write_board};
-pub use netlist::{AcSweep, RAIL_NODE, parse_wrdata, rail_netlist};
+pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
 
 use crate::model::Problem;
 use std::fmt;

@@ -1,9 +1,12 @@
 //! A SPICE netlist of one rail's network, for ngspice (or any SPICE) to check our numbers against.
 //!
-//! A 1 A AC current source drives the rail node, so the node voltage equals the rail impedance. Zero-valued
-//! resistors and inductors are left out (the nodes are joined instead), since SPICE refuses or warns on them.
+//! The network is the same for both analyses: the source's R-L ends at an ideal supply at the rail voltage (an AC
+//! short), the plane and each group are series R-L-C to ground. An AC sweep drives the rail node with 1 A, so the
+//! node voltage equals the rail impedance; a transient draws a piecewise-linear load current from the node.
+//! Zero-valued resistors and inductors are left out (the nodes are joined instead), since SPICE refuses or warns
+//! on them.
 
-use crate::analysis::{BranchKind, Network};
+use crate::analysis::{BranchKind, Network, View};
 use crate::model::{Board, Rail};
 use crate::units::full_precision;
 use std::fmt::Write;
@@ -19,25 +22,77 @@ pub struct AcSweep {
     pub points_per_decade: usize,
 }
 
+/// A transient run: the load current as (t, A) corners, and the time steps.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Transient {
+    /// Corners of the piecewise-linear load current drawn from the rail node, (s, A), by time.
+    pub load: Vec<(f64, f64)>,
+    /// Print step, s.
+    pub step_s: f64,
+    /// End time, s.
+    pub stop_s: f64,
+    /// Largest internal step, s.
+    pub max_step_s: f64,
+}
+
 /// The rail node's name in the netlist.
 pub const RAIL_NODE: &str = "rail";
+/// The die node's name in the netlist (present when the rail gives a package).
+pub const DIE_NODE: &str = "die";
 
-/// The netlist text: the network, an `.ac` sweep, and a control block that writes frequency, Re V(rail) and
-/// Im V(rail) to `data_file` with 15 digits, then quits (for `ngspice -b`).
-pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, data_file: &str) -> String {
+/// The netlist text for an AC sweep seen from `view`: frequency, Re V and Im V of the view's node go to
+/// `data_file` with 15 digits.
+pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, view: View, data_file: &str) -> String {
+    let node = if view == View::Die && rail.package.is_some() { DIE_NODE } else { RAIL_NODE };
+    let mut t = network_text(board, rail, &format!("1 A AC into node {node}, so V({node}) = Z seen there"));
+    let _ = writeln!(t, "Idrive 0 {node} DC 0 AC 1");
+    let _ = writeln!(
+        t,
+        ".ac dec {} {} {}",
+        sweep.points_per_decade,
+        full_precision(sweep.from_hz),
+        full_precision(sweep.to_hz)
+    );
+    t.push_str(&control_block(data_file, node));
+    t
+}
+
+/// The netlist text for a transient from the DC operating point. The load draws its current at the die when the
+/// rail gives a package (else at the rail node); time and that node's voltage go to `data_file`.
+pub fn rail_tran_netlist(board: &Board, rail: &Rail, tran: &Transient, data_file: &str) -> String {
+    let node = if rail.package.is_some() { DIE_NODE } else { RAIL_NODE };
+    let mut t = network_text(board, rail, &format!("a piecewise-linear load current drawn from node {node}"));
+    let corners: Vec<String> =
+        tran.load.iter().map(|(time, i)| format!("{} {}", full_precision(*time), full_precision(*i))).collect();
+    let _ = writeln!(t, "Iload {node} 0 PWL({})", corners.join(" "));
+    let _ = writeln!(t, ".options reltol=1e-6 abstol=1e-12 vntol=1e-9");
+    let _ = writeln!(
+        t,
+        ".tran {} {} 0 {}",
+        full_precision(tran.step_s),
+        full_precision(tran.stop_s),
+        full_precision(tran.max_step_s)
+    );
+    t.push_str(&control_block(data_file, node));
+    t
+}
+
+/// The branches of the rail, the supply, and a heading.
+fn network_text(board: &Board, rail: &Rail, drive: &str) -> String {
     let network = Network::of_rail(board, rail);
     let mut t = String::new();
     let _ = writeln!(t, "* hushrail: rail {} of board {}", rail.name, board.name);
-    let _ = writeln!(t, "* 1 A AC into the rail node, so V({RAIL_NODE}) = Z of the rail");
-    let _ = writeln!(t, "Idrive 0 {RAIL_NODE} DC 0 AC 1");
-    for (i, b) in network.branches.iter().enumerate() {
-        let tag = match b.kind {
-            BranchKind::Source => "src".to_string(),
-            BranchKind::Plane => "plane".to_string(),
-            BranchKind::Group(g) => format!("g{g}"),
+    let _ = writeln!(t, "* {drive}");
+    let _ = writeln!(t, "Vsupply supply 0 DC {}", full_precision(rail.voltage_v));
+    for (i, b) in network.branches.iter().chain(&network.package).chain(&network.die).enumerate() {
+        let (tag, start, end) = match b.kind {
+            BranchKind::Source => ("src".to_string(), RAIL_NODE, "supply"),
+            BranchKind::Plane => ("plane".to_string(), RAIL_NODE, "0"),
+            BranchKind::Group(g) => (format!("g{g}"), RAIL_NODE, "0"),
+            BranchKind::Package => ("pkg".to_string(), RAIL_NODE, DIE_NODE),
+            BranchKind::Die => ("die".to_string(), DIE_NODE, "0"),
         };
         let _ = writeln!(t, "* branch {i}: {}", b.label);
-        let mut node = RAIL_NODE.to_string();
         let mut elements: Vec<(char, f64)> = Vec::new();
         if b.rlc.r_ohm > 0.0 {
             elements.push(('R', b.rlc.r_ohm));
@@ -53,46 +108,35 @@ pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, data_file: &str
             elements.push(('R', 1e-15));
         }
         let last = elements.len() - 1;
+        let mut node = start.to_string();
         for (k, (letter, value)) in elements.into_iter().enumerate() {
-            let next = if k == last { "0".to_string() } else { format!("{tag}_{k}") };
+            let next = if k == last { end.to_string() } else { format!("{tag}_{k}") };
             let _ = writeln!(t, "{letter}{tag}_{k} {node} {next} {}", full_precision(value));
             node = next;
         }
     }
-    let _ = writeln!(
-        t,
-        ".ac dec {} {} {}",
-        sweep.points_per_decade,
-        full_precision(sweep.from_hz),
-        full_precision(sweep.to_hz)
-    );
-    let _ = writeln!(t, ".control");
-    let _ = writeln!(t, "set wr_singlescale");
-    let _ = writeln!(t, "set wr_vecnames");
-    let _ = writeln!(t, "set numdgt=15");
-    let _ = writeln!(t, "run");
-    let _ = writeln!(t, "wrdata {data_file} v({RAIL_NODE})");
-    let _ = writeln!(t, "quit");
-    let _ = writeln!(t, ".endc");
-    let _ = writeln!(t, ".end");
     t
 }
 
-/// Read what `wrdata` wrote for one complex vector: rows of frequency, real, imaginary after a header line.
-/// Returns (f, re, im) triples, or a message naming the line that could not be read.
-pub fn parse_wrdata(text: &str) -> Result<Vec<(f64, f64, f64)>, String> {
+fn control_block(data_file: &str, node: &str) -> String {
+    format!(
+        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} v({node})\nquit\n.endc\n.end\n"
+    )
+}
+
+/// Read what `wrdata` wrote: rows of numbers after an optional header line. Returns the rows, or a message naming
+/// the line that could not be read.
+pub fn parse_wrdata(text: &str) -> Result<Vec<Vec<f64>>, String> {
     let mut rows = Vec::new();
     for (i, line) in text.lines().enumerate() {
         let cols: Vec<&str> = line.split_whitespace().collect();
-        if cols.is_empty() || (i == 0 && cols[0] == "frequency") {
+        if cols.is_empty() || (i == 0 && cols[0].parse::<f64>().is_err()) {
             continue;
         }
         let nums: Result<Vec<f64>, _> = cols.iter().map(|c| c.parse::<f64>()).collect();
         match nums {
-            Ok(n) if n.len() >= 3 => rows.push((n[0], n[1], n[2])),
-            _ => {
-                return Err(format!("line {}: expected frequency, real, imaginary: {line:?}", i + 1));
-            }
+            Ok(n) => rows.push(n),
+            Err(_) => return Err(format!("line {}: not a row of numbers: {line:?}", i + 1)),
         }
     }
     Ok(rows)

@@ -7,7 +7,8 @@ mod validate;
 
 pub use validate::{Problem, validate_board, validate_part, validate_rail};
 
-use serde::Serialize;
+use serde::ser::SerializeStruct;
+use serde::{Serialize, Serializer};
 
 /// The document: parts plus rails.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -19,6 +20,14 @@ pub struct Board {
     pub description: Option<String>,
     /// Capacitor models the rails' decap groups refer to by id.
     pub parts: Vec<Part>,
+    /// Operating temperature range of the board, °C: [min, max]. Used for the temperature derating of ceramic
+    /// parts in the worst-case corner.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub temperature_c: Option<[f64; 2]>,
+    /// Whether class II ceramic parts without a DC-bias curve get the generic (typical, recalled) DC-bias model in
+    /// the worst-case corner. Absent means yes.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub generic_dc_bias: Option<bool>,
     /// Supply nets.
     pub rails: Vec<Rail>,
 }
@@ -100,6 +109,32 @@ pub struct Part {
     /// Cost of one part, in the board's currency.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub unit_cost: Option<f64>,
+    /// Capacitance tolerance, ± percent.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tolerance_pct: Option<f64>,
+    /// Capacitance ratio against applied DC voltage, [[volts, ratio], ...] by volts; linear between points, ratio
+    /// 1 at 0 V, the last ratio held beyond the last point.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dc_bias: Option<Vec<[f64; 2]>>,
+}
+
+impl Part {
+    /// A part with its electrical values and nothing optional.
+    pub fn new(id: impl Into<String>, kind: PartKind, capacitance_f: f64, esr_ohm: f64, esl_h: f64) -> Part {
+        Part {
+            id: id.into(),
+            kind,
+            capacitance_f,
+            esr_ohm,
+            esl_h,
+            rated_voltage_v: None,
+            case: None,
+            dielectric: None,
+            unit_cost: None,
+            tolerance_pct: None,
+            dc_bias: None,
+        }
+    }
 }
 
 /// One supply net and everything that loads and decouples it.
@@ -111,14 +146,25 @@ pub struct Rail {
     pub voltage_v: f64,
     /// Allowed ripple, percent of the voltage.
     pub ripple_pct: f64,
-    /// Frequency range where the target applies, Hz: [low, high].
-    pub band_hz: [f64; 2],
+    /// Frequency range where the target applies, Hz: [low, high]. Absent: the band follows from the loads'
+    /// rise times (see [`Rail::band`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub band_hz: Option<[f64; 2]>,
+    /// How the loads' steps add up to the rail's ΔI.
+    #[serde(skip_serializing_if = "Combine::is_sum")]
+    pub combine: Combine,
     /// The regulator's output model.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub source: Option<Source>,
     /// The power/ground plane pair.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub plane: Option<Plane>,
+    /// The package between the board and the die (series R-L).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub package: Option<Package>,
+    /// The on-die capacitance at the die node.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub die: Option<Die>,
     /// Current steps drawn from the rail.
     pub loads: Vec<Load>,
     /// Decoupling capacitor groups.
@@ -145,6 +191,70 @@ pub struct Plane {
     pub esl_h: f64,
 }
 
+/// How a rail's load steps combine into its ΔI.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Combine {
+    /// Every step at once: ΔI = Σ steps (the worst case).
+    #[default]
+    Sum,
+    /// Uncorrelated steps: ΔI = √(Σ steps²) (common practice for independent loads).
+    Rss,
+}
+
+impl Combine {
+    /// True for the default, so files that do not say keep not saying.
+    pub fn is_sum(&self) -> bool {
+        *self == Combine::Sum
+    }
+
+    /// The word used in board files.
+    pub fn name(self) -> &'static str {
+        match self {
+            Combine::Sum => "sum",
+            Combine::Rss => "rss",
+        }
+    }
+}
+
+/// The package path from the board's rail node to the die: a series R-L.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Package {
+    /// Series resistance, Ω.
+    pub r_ohm: f64,
+    /// Series inductance (package planes, bumps, balls), H.
+    pub l_h: f64,
+}
+
+/// The on-die decoupling at the die node: a capacitance with its series resistance.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Die {
+    /// Capacitance, F.
+    pub capacitance_f: f64,
+    /// Series resistance, Ω.
+    pub esr_ohm: f64,
+}
+
+/// How each part of a decap group is mounted: the geometry its loop inductance is computed from (all lengths in
+/// metres).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct MountingGeometry {
+    /// Length of the trace from each pad to its via, m (0 for via-in-pad).
+    pub trace_length_m: f64,
+    /// Width of that trace, m.
+    pub trace_width_m: f64,
+    /// Height of the trace above its reference plane, m.
+    pub trace_height_m: f64,
+    /// Via drill diameter, m.
+    pub via_drill_m: f64,
+    /// Via length from the surface to the power/ground plane pair, m.
+    pub via_length_m: f64,
+    /// Centre distance between the power via and the ground via, m.
+    pub via_pitch_m: f64,
+    /// Vias per pad (each pad has this many vias in parallel).
+    pub vias_per_pad: u32,
+}
+
 /// One chip's (or block's) current step.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Load {
@@ -158,17 +268,53 @@ pub struct Load {
 }
 
 /// N identical parts of one kind on a rail, with the inductance of how each is mounted.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct DecapGroup {
     /// The part's id.
     pub part: String,
     /// How many are fitted; 0 means the group is out of the network.
     pub count: u32,
-    /// Mounting inductance of one part (pads, traces, vias), H.
+    /// Mounting inductance of one part (pads, traces, vias), H. Used when `mounting` is `None`.
     pub mounting_h: f64,
+    /// The mounting geometry; when given, the mounting inductance is computed from it and `mounting_h` is not
+    /// used (nor written).
+    pub mounting: Option<MountingGeometry>,
+}
+
+impl DecapGroup {
+    /// A group with a given mounting inductance.
+    pub fn new(part: impl Into<String>, count: u32, mounting_h: f64) -> DecapGroup {
+        DecapGroup { part: part.into(), count, mounting_h, mounting: None }
+    }
+}
+
+impl Serialize for DecapGroup {
+    /// Writes `mounting` when the geometry is given, else `mounting_h`: a file holds one or the other.
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let mut s = serializer.serialize_struct("DecapGroup", 3)?;
+        s.serialize_field("part", &self.part)?;
+        s.serialize_field("count", &self.count)?;
+        match &self.mounting {
+            Some(g) => s.serialize_field("mounting", g)?,
+            None => s.serialize_field("mounting_h", &self.mounting_h)?,
+        }
+        s.end()
+    }
 }
 
 impl Board {
+    /// An empty board with a name.
+    pub fn named(name: impl Into<String>) -> Board {
+        Board {
+            name: name.into(),
+            description: None,
+            parts: Vec::new(),
+            rails: Vec::new(),
+            temperature_c: None,
+            generic_dc_bias: None,
+        }
+    }
+
     /// The part with this id.
     pub fn part(&self, id: &str) -> Option<&Part> {
         self.parts.iter().find(|p| p.id == id)
@@ -198,10 +344,66 @@ impl Board {
     }
 }
 
+/// Where an edge of a rail's band comes from.
+#[derive(Debug, Clone, PartialEq)]
+pub enum BandEdge {
+    /// Given in the board file.
+    Given,
+    /// From the fastest load's rise time: 0.35 / t_r (the bandwidth of a single-pole 10-90 % edge, common
+    /// practice).
+    RiseTime {
+        /// The load it comes from.
+        load: String,
+        /// Its rise time, s.
+        rise_s: f64,
+    },
+    /// The documented default lower edge, [`DEFAULT_BAND_LOW_HZ`].
+    Default,
+}
+
+/// The lower band edge used when a rail gives no band: below about 1 kHz the regulator's control loop holds the
+/// rail (common practice for switching regulators; set `band_hz` when yours is slower).
+pub const DEFAULT_BAND_LOW_HZ: f64 = 1e3;
+
+/// A rail's band and where each edge came from.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Band {
+    /// [low, high], Hz.
+    pub hz: [f64; 2],
+    /// Where the low edge came from.
+    pub low: BandEdge,
+    /// Where the high edge came from.
+    pub high: BandEdge,
+}
+
 impl Rail {
-    /// Sum of the loads' current steps, A (the worst case: all steps at once).
+    /// The rail's ΔI from its loads' steps under its combine rule, A.
     pub fn total_step_a(&self) -> f64 {
-        self.loads.iter().map(|l| l.step_a).sum()
+        match self.combine {
+            Combine::Sum => self.loads.iter().map(|l| l.step_a).sum(),
+            Combine::Rss => self.loads.iter().map(|l| l.step_a * l.step_a).sum::<f64>().sqrt(),
+        }
+    }
+
+    /// The band the target applies over: `band_hz` when given; otherwise [`DEFAULT_BAND_LOW_HZ`] up to
+    /// 0.35 / (the fastest load's rise time). `None` when neither is available (validation reports it).
+    pub fn band(&self) -> Option<Band> {
+        if let Some(hz) = self.band_hz {
+            return Some(Band { hz, low: BandEdge::Given, high: BandEdge::Given });
+        }
+        let fastest =
+            self.loads.iter().filter_map(|l| l.rise_time_s.map(|t| (l, t))).min_by(|a, b| a.1.total_cmp(&b.1))?;
+        let high = 0.35 / fastest.1;
+        Some(Band {
+            hz: [DEFAULT_BAND_LOW_HZ, high],
+            low: BandEdge::Default,
+            high: BandEdge::RiseTime { load: fastest.0.name.clone(), rise_s: fastest.1 },
+        })
+    }
+
+    /// The band in Hz, or [1 kHz, 1 GHz] as a harmless stand-in on a rail that cannot say (never on a valid one).
+    pub fn band_hz_or_default(&self) -> [f64; 2] {
+        self.band().map_or([DEFAULT_BAND_LOW_HZ, 1e9], |b| b.hz)
     }
 
     /// The fastest load's rise time, if any load gives one.

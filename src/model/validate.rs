@@ -1,7 +1,8 @@
 //! The rules a board must keep before it is analysed. Every rule reports where (a JSON path such as
 //! `rails[1].decaps[0].part`) and why, and all problems are reported at once.
 
-use super::{Board, DecapGroup, Load, Part, Plane, Rail, Source};
+use super::{Board, DecapGroup, Die, Load, Package, Part, Plane, Rail, Source};
+use crate::physics::mounting::geometry_problems;
 use crate::units::full_precision as num;
 use std::collections::HashSet;
 use std::fmt;
@@ -67,6 +68,14 @@ impl Checker<'_> {
 pub fn validate_board(board: &Board) -> Vec<Problem> {
     let mut problems = Vec::new();
     let mut c = Checker { problems: &mut problems };
+    if let Some([lo, hi]) = board.temperature_c
+        && (!lo.is_finite() || !hi.is_finite() || lo >= hi || lo < -273.15)
+    {
+        c.push(
+            "temperature_c".to_string(),
+            format!("must be [min, max] in °C with min < max, not [{}, {}]", num(lo), num(hi)),
+        );
+    }
     let mut ids = HashSet::new();
     for (i, part) in board.parts.iter().enumerate() {
         let path = format!("parts[{i}]");
@@ -102,6 +111,25 @@ pub fn validate_rail(board: &Board, rail: &Rail, path: &str) -> Vec<Problem> {
 }
 
 fn check_part(c: &mut Checker, path: &str, part: &Part) {
+    if let Some(t) = part.tolerance_pct
+        && (!t.is_finite() || !(0.0..100.0).contains(&t))
+    {
+        c.push(format!("{path}.tolerance_pct"), format!("must be from 0 to under 100, not {}", num(t)));
+    }
+    if let Some(curve) = &part.dc_bias {
+        let mut last_v = 0.0;
+        for (i, [v, r]) in curve.iter().enumerate() {
+            let pp = format!("{path}.dc_bias[{i}]");
+            if !v.is_finite() || *v <= last_v {
+                c.push(format!("{pp}[0]"), format!("volts must be finite, above 0 and increasing, not {}", num(*v)));
+            } else {
+                last_v = *v;
+            }
+            if !r.is_finite() || *r <= 0.0 || *r > 1.0 {
+                c.push(format!("{pp}[1]"), format!("the ratio must be above 0 and at most 1, not {}", num(*r)));
+            }
+        }
+    }
     c.name(format!("{path}.id"), &part.id, "part id");
     c.positive(format!("{path}.capacitance_f"), part.capacitance_f);
     c.non_negative(format!("{path}.esr_ohm"), part.esr_ohm);
@@ -121,16 +149,50 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
     if !ripple.is_finite() || ripple <= 0.0 || ripple >= 100.0 {
         c.push(format!("{path}.ripple_pct"), format!("must be between 0 and 100 (exclusive), not {}", num(ripple)));
     }
-    let [lo, hi] = rail.band_hz;
-    if !lo.is_finite() || !hi.is_finite() || lo <= 0.0 || hi <= lo {
-        c.push(
-            format!("{path}.band_hz"),
-            format!("must be [low, high] with 0 < low < high, not [{}, {}]", num(lo), num(hi)),
-        );
+    match rail.band_hz {
+        Some([lo, hi]) => {
+            if !lo.is_finite() || !hi.is_finite() || lo <= 0.0 || hi <= lo {
+                c.push(
+                    format!("{path}.band_hz"),
+                    format!("must be [low, high] with 0 < low < high, not [{}, {}]", num(lo), num(hi)),
+                );
+            }
+        }
+        None => {
+            if !rail.loads.is_empty() && rail.fastest_rise_s().is_none() {
+                c.push(
+                    format!("{path}.band_hz"),
+                    "missing: give band_hz, or a rise_time_s on a load so the band can follow from it",
+                );
+            } else if let Some(b) = rail.band()
+                && b.hz[1] <= b.hz[0]
+            {
+                c.push(
+                    format!("{path}.band_hz"),
+                    format!(
+                        "missing, and the fastest rise time gives an upper edge ({} Hz) below the default lower edge \
+                         ({} Hz): give band_hz",
+                        num(b.hz[1]),
+                        num(b.hz[0])
+                    ),
+                );
+            }
+        }
     }
     if let Some(Source { r_ohm, l_h }) = rail.source {
         c.non_negative(format!("{path}.source.r_ohm"), r_ohm);
         c.non_negative(format!("{path}.source.l_h"), l_h);
+    }
+    if let Some(Package { r_ohm, l_h }) = rail.package {
+        c.non_negative(format!("{path}.package.r_ohm"), r_ohm);
+        c.non_negative(format!("{path}.package.l_h"), l_h);
+    }
+    if let Some(Die { capacitance_f, esr_ohm }) = rail.die {
+        c.positive(format!("{path}.die.capacitance_f"), capacitance_f);
+        c.non_negative(format!("{path}.die.esr_ohm"), esr_ohm);
+        if rail.package.is_none() {
+            c.push(format!("{path}.die"), "a die needs a package to connect it to the board: give package");
+        }
     }
     if let Some(Plane { capacitance_f, esr_ohm, esl_h }) = rail.plane {
         c.positive(format!("{path}.plane.capacitance_f"), capacitance_f);
@@ -148,12 +210,19 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
             c.positive(format!("{lp}.rise_time_s"), *t);
         }
     }
-    for (i, DecapGroup { part, mounting_h, .. }) in rail.decaps.iter().enumerate() {
+    for (i, DecapGroup { part, mounting_h, mounting, .. }) in rail.decaps.iter().enumerate() {
         let gp = format!("{path}.decaps[{i}]");
         if !part_ids.contains(part.as_str()) {
             c.push(format!("{gp}.part"), format!("no part has the id \"{part}\""));
         }
-        c.non_negative(format!("{gp}.mounting_h"), *mounting_h);
+        match mounting {
+            None => c.non_negative(format!("{gp}.mounting_h"), *mounting_h),
+            Some(g) => {
+                for (field, reason) in geometry_problems(g) {
+                    c.push(format!("{gp}.mounting.{field}"), reason);
+                }
+            }
+        }
     }
     let has_branch = rail.source.is_some() || rail.plane.is_some() || rail.decaps.iter().any(|g| g.count > 0);
     if !has_branch {

@@ -1,5 +1,11 @@
-//! The physics of one branch: the impedance of a series R-L-C (or R-L) at a frequency.
+//! The physics of the parts: one branch's impedance, the inductance of how a part is mounted, and how much
+//! capacitance a part really has under bias, temperature and tolerance.
 
 mod branch;
+pub mod coupling;
+pub mod derating;
+pub mod mounting;
 
 pub use branch::{SeriesRlc, TWO_PI};
+pub use derating::{Corner, Derating, derate};
+pub use mounting::{MountingBreakdown, mounting_breakdown};

@@ -28,9 +28,13 @@ pub fn reference_boards() -> Vec<(String, PathBuf, Board)> {
     out
 }
 
-/// The committed ngspice output for one rail.
-pub fn reference_file(stem: &str, rail: &str) -> PathBuf {
-    root().join("tests/reference").join(format!("{stem}__{rail}.txt"))
+/// The committed ngspice output for one rail seen from `view` (the die view carries a `__die` suffix).
+pub fn reference_file(stem: &str, rail: &str, view: hushrail::analysis::View) -> PathBuf {
+    let suffix = match view {
+        hushrail::analysis::View::Board => "",
+        hushrail::analysis::View::Die => "__die",
+    };
+    root().join("tests/reference").join(format!("{stem}__{rail}{suffix}.txt"))
 }
 
 /// True when ngspice can be run. Under CI (CI=true) a missing ngspice is a failure, not a skip.
