@@ -53,6 +53,12 @@ fn click(harness: &mut Harness<'_, App>, label: &str) {
     harness.run();
 }
 
+/// Select a rail in the rails list (its name is also the heading of the selected rail).
+fn select_rail(harness: &mut Harness<'_, App>, name: &str) {
+    harness.get(by().label(name).predicate(|n| n.role() != Role::Label)).click();
+    harness.run();
+}
+
 fn select_all_and_type(harness: &mut Harness<'_, App>, label: &str, text: &str) {
     harness.get_by_label(label).scroll_to_me();
     harness.run();
@@ -72,7 +78,7 @@ fn selecting_a_rail_and_adding_a_part_moves_verdict_and_worst_impedance_as_the_e
     let before = engine(&board, rail);
     let mut harness = window(board.clone());
 
-    click(&mut harness, "V3V3_IO");
+    select_rail(&mut harness, "V3V3_IO");
     assert_shows(&harness, &before);
 
     click(&mut harness, "one more mlcc-10u-0603");
@@ -369,4 +375,33 @@ fn odd_but_valid_boards_do_not_upset_the_window() {
         }
         assert_eq!(harness.state().board(), &board);
     }
+}
+
+#[test]
+fn a_band_from_the_loads_can_be_fixed_and_taken_back_and_the_die_view_is_named() {
+    let path = common::root().join("sample_boards/sensor_hub.json");
+    let board = hushrail::io::read_board(&path).unwrap();
+    let radio = board.rail_index("VRADIO").unwrap();
+    assert_eq!(board.rails[radio].band_hz, None, "the sample's radio rail takes its band from its loads");
+    let core = board.rail_index("VCCINT").unwrap();
+    assert!(board.rails[core].package.is_some());
+    let mut harness = window(board.clone());
+
+    // A rail with a package: its verdict is taken at the die, as the check does, and the window says so.
+    select_rail(&mut harness, "VCCINT");
+    assert_shows(&harness, &engine(&board, core));
+    assert!(harness.query_by_label("seen at the die, through the package").is_some());
+
+    // The engine's words for where the band's edges come from.
+    select_rail(&mut harness, "VRADIO");
+    let band = board.rails[radio].band().unwrap();
+    for line in hushrail::analysis::explain_band(&band) {
+        assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
+    }
+    // Typing an edge fixes the band where it is; the button gives it back to the loads.
+    select_all_and_type(&mut harness, "Band to", "100M");
+    assert_eq!(harness.state().board().rails[radio].band_hz, Some([band.hz[0], 100e6]));
+    assert_shows(&harness, &engine(harness.state().board(), radio));
+    click(&mut harness, "Take the band from the loads' rise times");
+    assert_eq!(harness.state().board(), &board);
 }
