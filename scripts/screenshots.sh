@@ -25,7 +25,7 @@ shot "$out/sample.png"
 
 # Pin the curve, add two of the 10 µF parts, select the first finding, point at the curve.
 x mousemove 322 90 click 1; sleep 1
-x mousemove 1014 385 click 1; sleep 0.5; x click 1; sleep 1
+x mousemove 1014 403 click 1; sleep 0.5; x click 1; sleep 1
 x mousemove 560 632 click 1; sleep 1
 x mousemove 568 307; sleep 1.5
 shot "$out/pin_finding.png"
