@@ -7,7 +7,7 @@ fn main() {
     let cli = Cli::parse();
     let code = match cli.command {
         Some(command) => run(command),
-        None => hushrail::cli::check_default(cli.board.as_ref()),
+        None => hushrail::gui::run(cli.board),
     };
     std::process::exit(code);
 }

@@ -163,9 +163,3 @@ fn emit(text: &str) {
     let mut out = std::io::stdout().lock();
     let _ = out.write_all(text.as_bytes()).and_then(|_| out.flush());
 }
-
-/// What `hushrail` with no subcommand does until the window is built: the check of BOARD, or of the built-in
-/// sample board.
-pub fn check_default(board: Option<&PathBuf>) -> i32 {
-    run(Command::Check(check::CheckArgs { board: board.cloned(), json: false, corner: CornerArg::Nominal }))
-}

@@ -1,0 +1,737 @@
+//! The planner window's state and the order of one frame's work: input and shortcuts, analysis, panels, dialogs,
+//! title and autosave. Each panel lives in its own file as a method of [`App`].
+
+use super::files::{self, LeftOver, Prefs, Store};
+use super::history::{Edit, History, Refusal};
+use super::number_field::Fields;
+use super::pins::Pin;
+use super::results::Results;
+use super::theme;
+use crate::io::{BoardError, read_board, write_board};
+use crate::model::Board;
+use egui::{Key, KeyboardShortcut, Modifiers, RichText, Ui, ViewportCommand};
+use std::path::{Path, PathBuf};
+
+/// What the status line says when a file dialog comes back without a file.
+const NO_FILE_CHOSEN: &str = "No file chosen (if no dialog appeared, this desktop offers no file-dialog service: \
+                              drop a board file onto the window instead).";
+
+/// Seconds between autosaves of unsaved work.
+const AUTOSAVE_EVERY_S: f64 = 3.0;
+
+/// The board being planned and where it came from.
+#[derive(Debug, Clone)]
+pub struct Document {
+    /// The board.
+    pub board: Board,
+    /// The file it was read from or last saved to; `None` for the built-in sample or restored new work.
+    pub path: Option<PathBuf>,
+    /// How the document is named in the title.
+    pub label: String,
+    /// Its edits, for undo/redo and the unsaved-changes mark.
+    pub history: History,
+}
+
+/// Which page the side panel shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SideTab {
+    /// The selected rail's inputs.
+    Rail,
+    /// The board's parts.
+    Parts,
+    /// The method in brief and the cautions.
+    Help,
+}
+
+/// Which findings the findings list shows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FindingsTab {
+    /// The selected rail's.
+    Rail,
+    /// Every rail's.
+    Board,
+}
+
+/// Something the user asked for that would discard unsaved changes, waiting for their answer.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Pending {
+    /// Open this file.
+    Open(PathBuf),
+    /// Ask for a file to open.
+    OpenDialog,
+    /// Close the window.
+    Close,
+}
+
+/// The planner window.
+pub struct App {
+    pub(super) doc: Document,
+    pub(super) results: Results,
+    pub(super) selected_rail: usize,
+    /// (rail, index into that rail's findings).
+    pub(super) selected_finding: Option<(usize, usize)>,
+    /// The selection was made on the plot: bring it into view in the findings list.
+    pub(super) scroll_to_finding: bool,
+    pub(super) pins: Vec<Pin>,
+    /// Each rail's home view on the plot, by rail index.
+    pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
+    pub(super) next_pin: usize,
+    pub(super) fields: Fields,
+    pub(super) store: Store,
+    pub(super) prefs: Prefs,
+    pub(super) show_group_curves: bool,
+    pub(super) side_tab: SideTab,
+    pub(super) findings_tab: FindingsTab,
+    pub(super) selected_part: usize,
+    /// A board file that could not be opened, shown until dismissed.
+    pub(super) load_error: Option<BoardError>,
+    /// The last thing that happened, for the status line (text, is an error).
+    pub(super) status: Option<(String, bool)>,
+    pub(super) pending: Option<Pending>,
+    pub(super) left_over: Option<LeftOver>,
+    allow_close: bool,
+    /// A count drag has started and has not made its first step yet.
+    pub(super) drag_fresh: bool,
+    autosaved_revision: u64,
+    last_autosave_s: f64,
+    title: String,
+    theme_applied: Option<bool>,
+}
+
+impl App {
+    /// A window on `board`, keeping nothing on disk (no recent files, no autosave): for tests and benchmarks.
+    pub fn new_with_board(board: Board, label: impl Into<String>, path: Option<PathBuf>) -> App {
+        App {
+            doc: Document { board, path, label: label.into(), history: History::new() },
+            results: Results::default(),
+            selected_rail: 0,
+            selected_finding: None,
+            scroll_to_finding: false,
+            pins: Vec::new(),
+            home_views: Default::default(),
+            next_pin: 1,
+            fields: Fields::default(),
+            store: Store::new(None),
+            prefs: Prefs::default(),
+            show_group_curves: false,
+            side_tab: SideTab::Rail,
+            findings_tab: FindingsTab::Rail,
+            selected_part: 0,
+            load_error: None,
+            status: None,
+            pending: None,
+            left_over: None,
+            allow_close: false,
+            drag_fresh: false,
+            autosaved_revision: 0,
+            last_autosave_s: 0.0,
+            title: String::new(),
+            theme_applied: None,
+        }
+    }
+
+    /// The window as the program opens it: on `path` (or the built-in sample when `None` or when the file is
+    /// broken, with its errors shown), with recent files, theme and autosave kept in `store`.
+    pub fn open(path: Option<&Path>, store: Store) -> App {
+        let sample = || match crate::samples::default_board() {
+            Ok(b) => b,
+            // The built-in sample is checked by the tests; should it ever fail, start from an empty-looking but
+            // valid board rather than panic.
+            Err(_) => fallback_board(),
+        };
+        let sample_label = format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME);
+        let mut app = match path {
+            None => App::new_with_board(sample(), sample_label, None),
+            Some(p) => match read_board(p) {
+                Ok(board) => App::new_with_board(board, file_label(p), Some(p.to_path_buf())),
+                Err(e) => {
+                    let mut app = App::new_with_board(sample(), sample_label, None);
+                    app.load_error = Some(e);
+                    app
+                }
+            },
+        };
+        app.prefs = store.load_prefs();
+        if let Some(p) = path.filter(|_| app.load_error.is_none()) {
+            app.prefs.add_recent(p);
+            let _ = store.save_prefs(&app.prefs);
+        }
+        app.left_over = store.find_left_over();
+        app.store = store;
+        app
+    }
+
+    /// The board as it stands.
+    pub fn board(&self) -> &Board {
+        &self.doc.board
+    }
+
+    /// True when the board has changes not yet saved.
+    pub fn is_dirty(&self) -> bool {
+        self.doc.history.is_dirty()
+    }
+
+    /// The selected rail's index.
+    pub fn selected_rail(&self) -> usize {
+        self.selected_rail
+    }
+
+    /// The finding marked on the plot: (rail index, index in that rail's findings).
+    pub fn selected_finding(&self) -> Option<(usize, usize)> {
+        self.selected_finding
+    }
+
+    /// The file the board is saved to, if any.
+    pub fn path(&self) -> Option<&Path> {
+        self.doc.path.as_deref()
+    }
+
+    /// The window title: unsaved mark, file, board name.
+    pub fn title(&self) -> String {
+        let mark = if self.is_dirty() { "* " } else { "" };
+        format!("{mark}{} — {} — hushrail", self.doc.label, self.doc.board.name)
+    }
+
+    /// Apply an edit through the history (the one path every change takes). On refusal the board is untouched.
+    pub fn edit(&mut self, edit: Edit, label: impl Into<String>, merge: bool) -> Result<(), Refusal> {
+        self.doc.history.apply(&mut self.doc.board, edit, label, merge)?;
+        self.status = None;
+        Ok(())
+    }
+
+    /// Undo the last edit.
+    pub fn undo(&mut self) {
+        match self.doc.history.undo(&mut self.doc.board) {
+            Some(label) => self.after_history(format!("Undone: {label}")),
+            None => self.status = Some(("Nothing to undo.".into(), false)),
+        }
+    }
+
+    /// Redo the last undone edit.
+    pub fn redo(&mut self) {
+        match self.doc.history.redo(&mut self.doc.board) {
+            Some(label) => self.after_history(format!("Redone: {label}")),
+            None => self.status = Some(("Nothing to redo.".into(), false)),
+        }
+    }
+
+    fn after_history(&mut self, message: String) {
+        // Typed texts belonged to the values before; show the board's values again.
+        self.fields.clear();
+        self.status = Some((message, false));
+    }
+
+    /// Ask to open a file; asks first when there are unsaved changes.
+    pub fn request(&mut self, action: Pending) {
+        if self.is_dirty() && action != Pending::Close {
+            self.pending = Some(action);
+        } else {
+            self.perform(action);
+        }
+    }
+
+    fn perform(&mut self, action: Pending) {
+        match action {
+            Pending::Open(path) => self.open_now(&path),
+            Pending::OpenDialog => match files::pick_open(self.doc.path.as_deref()) {
+                Some(path) => self.open_now(&path),
+                // Also what a desktop without a file-dialog service answers: say so rather than do nothing.
+                None => self.status = Some((NO_FILE_CHOSEN.into(), false)),
+            },
+            Pending::Close => {
+                self.allow_close = true;
+                self.store.remove_autosave();
+            }
+        }
+    }
+
+    /// Open a board file now. A broken file is shown with its errors and the current board stays.
+    pub fn open_now(&mut self, path: &Path) {
+        match read_board(path) {
+            Ok(board) => {
+                self.doc = Document {
+                    board,
+                    path: Some(path.to_path_buf()),
+                    label: file_label(path),
+                    history: History::new(),
+                };
+                self.results.clear();
+                self.fields.clear();
+                self.pins.clear();
+                self.home_views.clear();
+                self.selected_rail = 0;
+                self.selected_finding = None;
+                self.selected_part = 0;
+                self.load_error = None;
+                self.store.remove_autosave();
+                self.autosaved_revision = self.doc.history.revision();
+                self.prefs.add_recent(path);
+                self.save_prefs();
+                self.status = Some((format!("Opened {}.", path.display()), false));
+            }
+            Err(e) => {
+                self.status = Some((format!("Could not open {}; the current board is kept.", path.display()), true));
+                self.load_error = Some(e);
+            }
+        }
+    }
+
+    /// Save to the board's file, or ask where when it has none. Returns true when saved.
+    pub fn save(&mut self) -> bool {
+        match self.doc.path.clone() {
+            Some(path) => self.save_to(&path),
+            None => self.save_as(),
+        }
+    }
+
+    /// Ask where to save, then save there. Returns true when saved.
+    pub fn save_as(&mut self) -> bool {
+        match files::pick_save(self.doc.path.as_deref(), &self.doc.board.name) {
+            Some(path) => self.save_to(&path),
+            None => {
+                self.status = Some((NO_FILE_CHOSEN.into(), false));
+                false
+            }
+        }
+    }
+
+    /// Save to `path` (atomically). Returns true when saved.
+    pub fn save_to(&mut self, path: &Path) -> bool {
+        match write_board(path, &self.doc.board) {
+            Ok(()) => {
+                self.doc.path = Some(path.to_path_buf());
+                self.doc.label = file_label(path);
+                self.doc.history.mark_saved();
+                self.store.remove_autosave();
+                self.prefs.add_recent(path);
+                self.save_prefs();
+                self.status = Some((format!("Saved {}.", path.display()), false));
+                true
+            }
+            Err(e) => {
+                self.status = Some((e.lines().join("; "), true));
+                false
+            }
+        }
+    }
+
+    fn save_prefs(&mut self) {
+        if let Err(e) = self.store.save_prefs(&self.prefs) {
+            self.status = Some((format!("Could not keep the preferences: {e}"), true));
+        }
+    }
+
+    /// Switch between the dark and light themes.
+    pub fn set_dark(&mut self, dark: bool) {
+        self.prefs.dark = dark;
+        self.save_prefs();
+    }
+
+    /// Draw the whole window and handle this frame's input.
+    pub fn show(&mut self, ui: &mut Ui) {
+        let ctx = ui.ctx().clone();
+        if self.theme_applied != Some(self.prefs.dark) {
+            theme::apply(&ctx, self.prefs.dark);
+            self.theme_applied = Some(self.prefs.dark);
+        }
+        self.handle_input(&ctx);
+        self.results.refresh(&self.doc.board);
+        if self.selected_rail >= self.doc.board.rails.len() {
+            self.selected_rail = self.doc.board.rails.len().saturating_sub(1);
+        }
+        if let Some((r, i)) = self.selected_finding
+            && self.results.get(r).is_none_or(|res| i >= res.findings.len())
+        {
+            self.selected_finding = None;
+        }
+
+        egui::Panel::top("menu").show(ui, |ui| self.menu_bar(ui));
+        egui::Panel::bottom("status").show(ui, |ui| self.status_bar(ui));
+        egui::Panel::left("rails")
+            .resizable(true)
+            .default_size(270.0)
+            .size_range(220.0..=420.0)
+            .show(ui, |ui| self.rails_list(ui));
+        egui::Panel::right("side")
+            .resizable(true)
+            .default_size(390.0)
+            .size_range(330.0..=620.0)
+            .show(ui, |ui| self.side_panel(ui));
+        egui::CentralPanel::default().show(ui, |ui| {
+            if self.load_error.is_some() {
+                self.load_error_box(ui);
+            }
+            self.rail_header(ui);
+            self.pins_bar(ui);
+            egui::Panel::bottom("findings")
+                .resizable(true)
+                .default_size(190.0)
+                .size_range(90.0..=500.0)
+                .show(ui, |ui| self.findings_panel(ui));
+            egui::CentralPanel::no_frame().show(ui, |ui| self.plot(ui));
+        });
+
+        self.dialogs(&ctx);
+        self.update_title(&ctx);
+        self.autosave(&ctx);
+    }
+
+    fn handle_input(&mut self, ctx: &egui::Context) {
+        // A file dropped onto the window opens (asking first if there are unsaved changes).
+        let dropped: Vec<PathBuf> = ctx.input(|i| i.raw.dropped_files.iter().map(|f| f.path().to_path_buf()).collect());
+        if let Some(path) = dropped.into_iter().next() {
+            self.request(Pending::Open(path));
+        }
+
+        // Shortcuts. While a text field has the keyboard, Ctrl+Z belongs to the field's own text.
+        let typing = ctx.egui_wants_keyboard_input();
+        let shortcut = |m: Modifiers, k: Key| KeyboardShortcut::new(m, k);
+        let (redo, redo_y, undo, open, save_as, save) = ctx.input_mut(|i| {
+            // Longer combinations first: Ctrl+Shift+Z must not be taken as Ctrl+Z.
+            let redo = !typing && i.consume_shortcut(&shortcut(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z));
+            let redo_y = !typing && i.consume_shortcut(&shortcut(Modifiers::COMMAND, Key::Y));
+            let undo = !typing && i.consume_shortcut(&shortcut(Modifiers::COMMAND, Key::Z));
+            let open = i.consume_shortcut(&shortcut(Modifiers::COMMAND, Key::O));
+            let save_as = i.consume_shortcut(&shortcut(Modifiers::COMMAND | Modifiers::SHIFT, Key::S));
+            let save = i.consume_shortcut(&shortcut(Modifiers::COMMAND, Key::S));
+            (redo, redo_y, undo, open, save_as, save)
+        });
+        if redo || redo_y {
+            self.redo();
+        }
+        if undo {
+            self.undo();
+        }
+        if open {
+            self.request(Pending::OpenDialog);
+        }
+        if save_as {
+            self.save_as();
+        } else if save {
+            self.save();
+        }
+
+        // Closing with unsaved changes asks first.
+        if ctx.input(|i| i.viewport().close_requested()) && !self.allow_close {
+            if self.is_dirty() {
+                ctx.send_viewport_cmd(ViewportCommand::CancelClose);
+                self.pending = Some(Pending::Close);
+            } else {
+                self.store.remove_autosave();
+            }
+        }
+    }
+
+    fn menu_bar(&mut self, ui: &mut Ui) {
+        egui::MenuBar::new().ui(ui, |ui| {
+            ui.menu_button("File", |ui| {
+                if ui.add(egui::Button::new("Open…").shortcut_text("Ctrl+O")).clicked() {
+                    self.request(Pending::OpenDialog);
+                    ui.close();
+                }
+                ui.menu_button("Open recent", |ui| {
+                    if self.prefs.recent.is_empty() {
+                        ui.weak("No recent files yet.");
+                    }
+                    for path in self.prefs.recent.clone() {
+                        if ui.button(path.display().to_string()).clicked() {
+                            self.request(Pending::Open(path));
+                            ui.close();
+                        }
+                    }
+                });
+                if ui.button("Open the built-in sample").clicked() {
+                    ui.close();
+                    self.open_sample();
+                }
+                ui.separator();
+                if ui.add(egui::Button::new("Save").shortcut_text("Ctrl+S")).clicked() {
+                    ui.close();
+                    self.save();
+                }
+                if ui.add(egui::Button::new("Save as…").shortcut_text("Ctrl+Shift+S")).clicked() {
+                    ui.close();
+                    self.save_as();
+                }
+                ui.separator();
+                if ui.button("Quit").clicked() {
+                    ui.close();
+                    ui.ctx().send_viewport_cmd(ViewportCommand::Close);
+                }
+            });
+            ui.menu_button("Edit", |ui| {
+                let undo = self.doc.history.undo_label().map(|l| format!("Undo: {l}"));
+                let redo = self.doc.history.redo_label().map(|l| format!("Redo: {l}"));
+                let undo_button = egui::Button::new(undo.unwrap_or_else(|| "Undo".into())).shortcut_text("Ctrl+Z");
+                if ui.add_enabled(self.doc.history.undo_label().is_some(), undo_button).clicked() {
+                    self.undo();
+                    ui.close();
+                }
+                let redo_button = egui::Button::new(redo.unwrap_or_else(|| "Redo".into())).shortcut_text("Ctrl+Y");
+                if ui.add_enabled(self.doc.history.redo_label().is_some(), redo_button).clicked() {
+                    self.redo();
+                    ui.close();
+                }
+            });
+            ui.menu_button("View", |ui| {
+                ui.checkbox(&mut self.show_group_curves, "Each group's own curve");
+                let mut dark = self.prefs.dark;
+                if ui.radio_value(&mut dark, true, "Dark theme").clicked()
+                    || ui.radio_value(&mut dark, false, "Light theme").clicked()
+                {
+                    self.set_dark(dark);
+                }
+            });
+            if ui.button("Help").clicked() {
+                self.side_tab = SideTab::Help;
+            }
+        });
+    }
+
+    fn open_sample(&mut self) {
+        if self.is_dirty() {
+            self.status = Some(("Save or undo the changes first: the sample would replace this board.".into(), true));
+            return;
+        }
+        if let Ok(board) = crate::samples::default_board() {
+            self.doc = Document {
+                board,
+                path: None,
+                label: format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME),
+                history: History::new(),
+            };
+            self.results.clear();
+            self.fields.clear();
+            self.pins.clear();
+            self.home_views.clear();
+            self.selected_rail = 0;
+            self.selected_finding = None;
+        }
+    }
+
+    fn status_bar(&mut self, ui: &mut Ui) {
+        let pal = theme::palette(ui.visuals().dark_mode);
+        ui.horizontal(|ui| {
+            let dirty = if self.is_dirty() { "unsaved changes" } else { "saved" };
+            ui.label(RichText::new(format!("{} · {dirty}", self.doc.label)).small());
+            ui.separator();
+            match &self.status {
+                Some((text, true)) => {
+                    ui.label(RichText::new(text).small().color(pal.fail));
+                }
+                Some((text, false)) => {
+                    ui.label(RichText::new(text).small());
+                }
+                None => {
+                    ui.label(
+                        RichText::new("A lumped, idealised model: check against the parts' data and a measurement.")
+                            .small()
+                            .weak(),
+                    );
+                }
+            }
+        });
+    }
+
+    fn load_error_box(&mut self, ui: &mut Ui) {
+        let Some(err) = &self.load_error else { return };
+        let pal = theme::palette(ui.visuals().dark_mode);
+        let mut dismiss = false;
+        egui::Frame::group(ui.style()).stroke(egui::Stroke::new(1.5, pal.fail)).show(ui, |ui| {
+            ui.horizontal(|ui| {
+                ui.label(RichText::new(format!("Could not open {}", err.file)).strong().color(pal.fail));
+                ui.with_layout(egui::Layout::right_to_left(egui::Align::Center), |ui| {
+                    dismiss = ui.button("Dismiss").clicked();
+                });
+            });
+            ui.label("The board on screen is unchanged. Problems found (file:place: reason):");
+            egui::ScrollArea::vertical().max_height(110.0).id_salt("load-errors").show(ui, |ui| {
+                for line in err.lines() {
+                    ui.label(RichText::new(line).monospace().color(pal.fail));
+                }
+            });
+        });
+        if dismiss {
+            self.load_error = None;
+        }
+    }
+
+    fn dialogs(&mut self, ctx: &egui::Context) {
+        if let Some(pending) = self.pending.clone() {
+            let what = match &pending {
+                Pending::Open(p) => format!("Open {} instead?", p.display()),
+                Pending::OpenDialog => "Open another board instead?".into(),
+                Pending::Close => "Close the window?".into(),
+            };
+            let mut choice = None;
+            egui::Modal::new(egui::Id::unique("discard-changes")).show(ctx, |ui| {
+                ui.set_max_width(420.0);
+                ui.heading("Unsaved changes");
+                ui.label(format!("The board \"{}\" has changes that are not saved. {what}", self.doc.board.name));
+                ui.add_space(8.0);
+                ui.horizontal(|ui| {
+                    if ui.button("Save them").clicked() {
+                        choice = Some(0);
+                    }
+                    if ui.button("Discard them").clicked() {
+                        choice = Some(1);
+                    }
+                    if ui.button("Cancel").clicked() {
+                        choice = Some(2);
+                    }
+                });
+            });
+            match choice {
+                Some(0) => {
+                    self.pending = None;
+                    if self.save() {
+                        self.finish_pending(ctx, pending);
+                    }
+                }
+                Some(1) => {
+                    self.pending = None;
+                    self.finish_pending(ctx, pending);
+                }
+                Some(_) => self.pending = None,
+                None => {}
+            }
+        } else if let Some(left) = self.left_over.clone() {
+            let mut choice = None;
+            egui::Modal::new(egui::Id::unique("left-over")).show(ctx, |ui| {
+                ui.set_max_width(460.0);
+                ui.heading("Unsaved work found");
+                let from = match &left.origin {
+                    Some(p) => format!("opened from {}", p.display()),
+                    None => "not saved to any file".into(),
+                };
+                let when = left
+                    .modified
+                    .and_then(|t| t.elapsed().ok())
+                    .map(|d| format!(", autosaved {} ago", human_duration(d.as_secs())))
+                    .unwrap_or_default();
+                ui.label(format!(
+                    "An earlier session ended without saving its work (the board was {from}{when}). Restore it?"
+                ));
+                ui.horizontal(|ui| {
+                    if ui.button("Restore").clicked() {
+                        choice = Some(0);
+                    }
+                    if ui.button("Discard it").clicked() {
+                        choice = Some(1);
+                    }
+                    if ui.button("Decide later").clicked() {
+                        choice = Some(2);
+                    }
+                });
+            });
+            match choice {
+                Some(0) => {
+                    self.left_over = None;
+                    self.restore(&left);
+                }
+                Some(1) => {
+                    self.left_over = None;
+                    self.store.forget_left_over(&left);
+                }
+                Some(_) => self.left_over = None,
+                None => {}
+            }
+        }
+    }
+
+    fn finish_pending(&mut self, ctx: &egui::Context, pending: Pending) {
+        let close = pending == Pending::Close;
+        self.perform(pending);
+        if close {
+            ctx.send_viewport_cmd(ViewportCommand::Close);
+        }
+    }
+
+    /// Bring back work autosaved by an earlier session, as unsaved changes to the file it came from.
+    fn restore(&mut self, left: &LeftOver) {
+        match read_board(&left.board_file) {
+            Ok(board) => {
+                let label = match &left.origin {
+                    Some(p) => format!("{} (restored)", file_label(p)),
+                    None => "restored work".into(),
+                };
+                self.doc = Document { board, path: left.origin.clone(), label, history: History::new_unsaved() };
+                self.results.clear();
+                self.fields.clear();
+                self.pins.clear();
+                self.home_views.clear();
+                self.selected_rail = 0;
+                self.selected_finding = None;
+                self.store.forget_left_over(left);
+                self.status = Some(("Restored the unsaved work; save it to keep it.".into(), false));
+            }
+            Err(e) => self.load_error = Some(e),
+        }
+    }
+
+    fn update_title(&mut self, ctx: &egui::Context) {
+        let title = self.title();
+        if title != self.title {
+            ctx.send_viewport_cmd(ViewportCommand::Title(title.clone()));
+            self.title = title;
+        }
+    }
+
+    fn autosave(&mut self, ctx: &egui::Context) {
+        let revision = self.doc.history.revision();
+        if !self.store.keeps_files() || !self.is_dirty() || revision == self.autosaved_revision {
+            return;
+        }
+        let now = ctx.input(|i| i.time);
+        if now - self.last_autosave_s < AUTOSAVE_EVERY_S {
+            // Come back when it is due even if the user does nothing more.
+            ctx.request_repaint_after(std::time::Duration::from_secs_f64(AUTOSAVE_EVERY_S));
+            return;
+        }
+        self.last_autosave_s = now;
+        self.autosaved_revision = revision;
+        if let Err(e) = self.store.write_autosave(&self.doc.board, self.doc.path.as_deref()) {
+            self.status = Some((format!("Autosave failed: {e}"), true));
+        }
+    }
+}
+
+impl eframe::App for App {
+    fn ui(&mut self, ui: &mut Ui, _frame: &mut eframe::Frame) {
+        self.show(ui);
+    }
+}
+
+/// How a file is named in the title and the status line.
+fn file_label(path: &Path) -> String {
+    path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| path.display().to_string())
+}
+
+fn human_duration(secs: u64) -> String {
+    match secs {
+        0..=119 => format!("{secs} s"),
+        120..=7199 => format!("{} min", secs / 60),
+        7200..=172_799 => format!("{} h", secs / 3600),
+        _ => format!("{} days", secs / 86_400),
+    }
+}
+
+/// A minimal valid board, used only if the built-in sample could not be read (which the tests rule out).
+fn fallback_board() -> Board {
+    use crate::model::{Combine, Load, Rail, Source};
+    let mut board = Board::named("Empty board");
+    board.rails.push(Rail {
+        name: "RAIL".into(),
+        voltage_v: 1.0,
+        ripple_pct: 5.0,
+        band_hz: Some([1e3, 1e8]),
+        combine: Combine::Sum,
+        source: Some(Source { r_ohm: 1e-3, l_h: 1e-8 }),
+        plane: None,
+        package: None,
+        die: None,
+        loads: vec![Load { name: "load".into(), step_a: 1.0, rise_time_s: None }],
+        decaps: Vec::new(),
+    });
+    board
+}

@@ -1,0 +1,254 @@
+//! The board's parts: a table to pick one, and the picked part's fields below it. Add, duplicate and remove; a
+//! part that groups still use is not removed, and the groups are named.
+
+use super::app::{App, Document};
+use super::history::{Edit, part_users};
+use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
+use super::theme;
+use crate::model::{Part, PartKind};
+use crate::units::{Unit, format};
+use egui::{RichText, Ui};
+
+/// A new part's values: an invented generic 100 nF ceramic for the user to replace with their part's data.
+fn new_part(id: String) -> Part {
+    Part::new(id, PartKind::Ceramic, 100e-9, 0.02, 0.4e-9)
+}
+
+/// Replace part `at` with a changed copy, through the history.
+fn set_part(
+    doc: &mut Document,
+    at: usize,
+    key: &str,
+    label: String,
+    change: impl FnOnce(&mut Part),
+) -> Result<(), String> {
+    let Some(mut part) = doc.board.parts.get(at).cloned() else { return Err("no such part".into()) };
+    change(&mut part);
+    doc.history
+        .apply(&mut doc.board, Edit::SetPart { at, value: Box::new(part) }, label, false)
+        .map_err(|p| refusal_text(key, &p))
+}
+
+/// An id not used yet, built from `base`.
+fn free_id(doc: &Document, base: &str) -> String {
+    (1..)
+        .map(|n| if n == 1 { base.to_string() } else { format!("{base}-{n}") })
+        .find(|id| doc.board.part(id).is_none())
+        .unwrap_or_default()
+}
+
+/// Optional text (case, dielectric): empty means not given.
+fn optional_text(text: &str) -> Option<String> {
+    let t = text.trim();
+    (!t.is_empty()).then(|| t.to_string())
+}
+
+impl App {
+    pub(super) fn parts_table(&mut self, ui: &mut Ui) {
+        let pal = theme::palette(ui.visuals().dark_mode);
+        let n = self.doc.board.parts.len();
+        if self.selected_part >= n {
+            self.selected_part = n.saturating_sub(1);
+        }
+        ui.horizontal(|ui| {
+            let l = ui.label("Board name");
+            let (fields, doc) = (&mut self.fields, &mut self.doc);
+            let old = doc.board.name.clone();
+            text_field(ui, fields, "name", l.id, &old, 220.0, |t| {
+                let name = t.trim().to_string();
+                doc.history
+                    .apply(
+                        &mut doc.board,
+                        Edit::SetBoardName { name: name.clone() },
+                        format!("rename board to {name}"),
+                        false,
+                    )
+                    .map_err(|p| refusal_text("name", &p))
+            });
+        });
+        ui.add_space(4.0);
+        ui.label(RichText::new(format!("{n} parts on this board")).strong());
+        egui::Grid::new("parts-table").striped(true).num_columns(5).spacing([10.0, 4.0]).show(ui, |ui| {
+            for h in ["id", "kind", "C", "ESR", "ESL"] {
+                ui.label(RichText::new(h).weak());
+            }
+            ui.end_row();
+            for (pi, part) in self.doc.board.parts.iter().enumerate() {
+                let used = self.doc.board.uses_of_part(&part.id).len();
+                let r = ui
+                    .selectable_label(pi == self.selected_part, &part.id)
+                    .on_hover_text(format!("used by {used} group(s)"));
+                if r.clicked() {
+                    self.selected_part = pi;
+                }
+                ui.label(part.kind.name());
+                ui.label(format(part.capacitance_f, Unit::Farad));
+                ui.label(format(part.esr_ohm, Unit::Ohm));
+                ui.label(format(part.esl_h, Unit::Henry));
+                ui.end_row();
+            }
+        });
+        ui.add_space(4.0);
+        ui.horizontal(|ui| {
+            if ui.button("Add part").clicked() {
+                let id = free_id(&self.doc, "new-part");
+                let at = n;
+                if self
+                    .edit(Edit::AddPart { at, value: Box::new(new_part(id.clone())) }, format!("add part {id}"), false)
+                    .is_ok()
+                {
+                    self.selected_part = at;
+                }
+            }
+            if n > 0 && ui.button("Duplicate").clicked() {
+                let mut copy = self.doc.board.parts[self.selected_part].clone();
+                copy.id = free_id(&self.doc, &format!("{}-copy", copy.id));
+                let at = self.selected_part + 1;
+                let label = format!("duplicate part as {}", copy.id);
+                if self.edit(Edit::AddPart { at, value: Box::new(copy) }, label, false).is_ok() {
+                    self.selected_part = at;
+                }
+            }
+            if n > 0 && ui.button("Remove part").clicked() {
+                let at = self.selected_part;
+                let key = format!("parts[{at}]");
+                let id = self.doc.board.parts[at].id.clone();
+                let result = self
+                    .edit(Edit::RemovePart { at }, format!("remove part {id}"), false)
+                    .map_err(|p| refusal_text(&key, &p));
+                self.report(&key, result);
+            }
+        });
+        let at = self.selected_part;
+        let key = format!("parts[{at}]");
+        if let Some(reason) = self.fields.error(&key) {
+            ui.label(RichText::new(format!("Refused: {reason}")).color(pal.fail));
+        }
+        let Some(part) = self.doc.board.parts.get(at).cloned() else { return };
+        ui.separator();
+        ui.label(RichText::new(format!("Part {}", part.id)).strong());
+        let users = part_users(&self.doc.board, &part.id);
+        ui.label(if users.is_empty() {
+            "Not used by any group.".to_string()
+        } else {
+            format!("Used by {}.", users.join(", "))
+        });
+        if part.kind.is_polarised() {
+            ui.label(
+                RichText::new("Caution: polarised; fit with the right DC direction; reversed, it can fail violently.")
+                    .color(pal.note),
+            );
+        }
+        let (fields, doc) = (&mut self.fields, &mut self.doc);
+        egui::Grid::new(("part-fields", at)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
+            let l = ui.label("Id");
+            let k = format!("{key}.id");
+            text_field(ui, fields, &k, l.id, &part.id, 160.0, |t| {
+                let id = t.trim().to_string();
+                set_part(doc, at, &k, format!("rename part {} to {id}", part.id), |p| p.id = id)
+            });
+            ui.end_row();
+
+            let kind_label = ui.label("Kind");
+            let mut kind = part.kind;
+            let combo = egui::ComboBox::from_id_salt(("part-kind", at)).selected_text(kind.name()).show_ui(ui, |ui| {
+                for k in PartKind::ALL {
+                    ui.selectable_value(&mut kind, k, k.name());
+                }
+            });
+            let _ = combo.response.labelled_by(kind_label.id);
+            if kind != part.kind {
+                let k = format!("{key}.kind");
+                if let Err(reason) =
+                    set_part(doc, at, &k, format!("kind of {} to {}", part.id, kind.name()), |p| p.kind = kind)
+                {
+                    fields.set_error(&k, String::new(), reason);
+                }
+            }
+            ui.end_row();
+
+            part_number(ui, fields, doc, at, &part, "C", "capacitance_f", part.capacitance_f, Unit::Farad, |p, v| {
+                p.capacitance_f = v
+            });
+            part_number(ui, fields, doc, at, &part, "ESR", "esr_ohm", part.esr_ohm, Unit::Ohm, |p, v| p.esr_ohm = v);
+            part_number(ui, fields, doc, at, &part, "ESL", "esl_h", part.esl_h, Unit::Henry, |p, v| p.esl_h = v);
+
+            let l = ui.label("Tolerance ±%");
+            let k = format!("{key}.tolerance_pct");
+            optional_number_field(ui, fields, &k, l.id, part.tolerance_pct, Unit::None, 96.0, |v| {
+                set_part(doc, at, &k, format!("tolerance of {}", part.id), |p| p.tolerance_pct = v)
+            });
+            ui.end_row();
+
+            let l = ui.label("Rated voltage");
+            let k = format!("{key}.rated_voltage_v");
+            optional_number_field(ui, fields, &k, l.id, part.rated_voltage_v, Unit::Volt, 96.0, |v| {
+                set_part(doc, at, &k, format!("rating of {}", part.id), |p| p.rated_voltage_v = v)
+            });
+            ui.end_row();
+
+            let l = ui.label("Case");
+            let k = format!("{key}.case");
+            text_field(ui, fields, &k, l.id, part.case.as_deref().unwrap_or(""), 96.0, |t| {
+                set_part(doc, at, &k, format!("case of {}", part.id), |p| p.case = optional_text(t))
+            });
+            ui.end_row();
+
+            let l = ui.label("Dielectric");
+            let k = format!("{key}.dielectric");
+            text_field(ui, fields, &k, l.id, part.dielectric.as_deref().unwrap_or(""), 96.0, |t| {
+                set_part(doc, at, &k, format!("dielectric of {}", part.id), |p| p.dielectric = optional_text(t))
+            });
+            ui.end_row();
+
+            let l = ui.label("Unit cost");
+            let k = format!("{key}.unit_cost");
+            // Money reads better as a plain number (0.002) than with a prefix (2.00 m); "2m" is still accepted.
+            let shown = part.unit_cost.map(crate::units::full_precision).unwrap_or_default();
+            text_field(ui, fields, &k, l.id, &shown, 96.0, |t| {
+                let cost = if t.trim().is_empty() {
+                    None
+                } else {
+                    Some(crate::units::parse(t, Unit::None).map_err(|e| e.reason)?)
+                };
+                set_part(doc, at, &k, format!("cost of {}", part.id), |p| p.unit_cost = cost)
+            });
+            ui.end_row();
+        });
+        if let Some(curve) = &part.dc_bias {
+            ui.label(
+                RichText::new(format!(
+                    "DC-bias curve from the board file: {} points (used in the worst corner).",
+                    curve.len()
+                ))
+                .small(),
+            );
+        }
+        ui.label(
+            RichText::new("Values are the part's own data at the rail's voltage and temperature: take them from its data, not from memory.")
+                .small()
+                .weak(),
+        );
+    }
+}
+
+#[allow(clippy::too_many_arguments)]
+fn part_number(
+    ui: &mut Ui,
+    fields: &mut Fields,
+    doc: &mut Document,
+    at: usize,
+    part: &Part,
+    label: &str,
+    field: &str,
+    value: f64,
+    unit: Unit,
+    set: impl FnOnce(&mut Part, f64),
+) {
+    let l = ui.label(label);
+    let key = format!("parts[{at}].{field}");
+    number_field(ui, fields, &key, l.id, value, unit, 96.0, |v| {
+        set_part(doc, at, &key, format!("{label} of {}", part.id), |p| set(p, v))
+    });
+    ui.end_row();
+}

@@ -1,0 +1,103 @@
+//! Pins: frozen copies of a rail's curve kept on the plot to compare a what-if against. A pin is not part of the
+//! board (it is not saved and not undone); it belongs to the window, to one rail by name.
+
+use super::app::App;
+use super::results::RailResult;
+use super::theme;
+use egui::{Color32, RichText, Ui};
+
+/// A frozen curve with the figures it had.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Pin {
+    /// A name the user can change.
+    pub name: String,
+    /// The rail it was taken from.
+    pub rail: String,
+    /// Its colour on the plot.
+    pub color: Color32,
+    /// Drawn or hidden.
+    pub visible: bool,
+    /// The curve as [log10 f, log10 |Z|].
+    pub points: Vec<[f64; 2]>,
+    /// Worst |Z| over the band when pinned, Ω.
+    pub worst_ohm: f64,
+    /// Where, Hz.
+    pub worst_hz: f64,
+    /// Margin when pinned, dB.
+    pub margin_db: f64,
+    /// Whether the rail met its target then.
+    pub meets: bool,
+}
+
+impl Pin {
+    /// A pin of a rail's current result.
+    pub fn of(name: String, rail: String, color: Color32, result: &RailResult) -> Pin {
+        let a = &result.analysis;
+        Pin {
+            name,
+            rail,
+            color,
+            visible: true,
+            points: result.plot.total.clone(),
+            worst_ohm: a.worst_ohm,
+            worst_hz: a.worst_hz,
+            margin_db: a.margin_db,
+            meets: a.meets_target,
+        }
+    }
+}
+
+impl App {
+    /// Pin the selected rail's current curve.
+    pub fn pin_current(&mut self) {
+        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
+        let Some(result) = self.results.get(self.selected_rail) else { return };
+        let pal = theme::palette(self.prefs.dark);
+        let color = pal.pins[(self.next_pin - 1) % pal.pins.len()];
+        let name = format!("pin {}", self.next_pin);
+        self.next_pin += 1;
+        self.pins.push(Pin::of(name, rail.name.clone(), color, result));
+    }
+
+    /// The pin button and the selected rail's pins: show/hide, name, figures, remove.
+    pub(super) fn pins_bar(&mut self, ui: &mut Ui) {
+        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
+        let rail_name = rail.name.clone();
+        let mut remove = None;
+        ui.horizontal_wrapped(|ui| {
+            if ui
+                .button("Pin this curve")
+                .on_hover_text("Keep the current curve on the plot to compare against")
+                .clicked()
+            {
+                self.pin_current();
+            }
+            ui.checkbox(&mut self.show_group_curves, "each group's curve");
+            for (i, pin) in self.pins.iter_mut().enumerate().filter(|(_, p)| p.rail == rail_name) {
+                ui.separator();
+                let shown = ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
+                let show_label = format!("show {}", pin.name);
+                shown.widget_info(|| egui::WidgetInfo::selected(egui::Role::CheckBox, true, pin.visible, &show_label));
+                let (rect, _) = ui.allocate_exact_size(egui::vec2(14.0, 14.0), egui::Sense::hover());
+                ui.painter().rect_filled(rect, 3.0, pin.color);
+                ui.add(egui::TextEdit::singleline(&mut pin.name).desired_width(70.0)).on_hover_text(format!(
+                    "worst |Z| {} at {}, margin {:+.1} dB when pinned",
+                    crate::units::format(pin.worst_ohm, crate::units::Unit::Ohm),
+                    crate::units::format(pin.worst_hz, crate::units::Unit::Hertz),
+                    pin.margin_db
+                ));
+                let verdict = if pin.meets { "meets" } else { "misses" };
+                ui.label(RichText::new(format!("{:+.1} dB, {verdict}", pin.margin_db)).small().color(pin.color));
+                let remove_button = ui.small_button("×").on_hover_text("Remove this pin");
+                let label = format!("remove {}", pin.name);
+                remove_button.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &label));
+                if remove_button.clicked() {
+                    remove = Some(i);
+                }
+            }
+        });
+        if let Some(i) = remove {
+            self.pins.remove(i);
+        }
+    }
+}

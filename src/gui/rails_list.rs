@@ -1,0 +1,126 @@
+//! The board at a glance: every rail with its verdict, margin and worst frequency. Selecting a rail shows it.
+
+use super::app::App;
+use super::history::Edit;
+use super::theme;
+use crate::units::{Unit, format};
+use egui::{RichText, Ui};
+
+impl App {
+    pub(super) fn rails_list(&mut self, ui: &mut Ui) {
+        let pal = theme::palette(ui.visuals().dark_mode);
+        ui.add_space(4.0);
+        ui.label(RichText::new(&self.doc.board.name).heading());
+        let total = self.doc.board.rails.len();
+        let meeting = (0..total).filter(|&i| self.results.get(i).is_some_and(|r| r.analysis.meets_target)).count();
+        let summary = format!("{meeting} of {total} rails meet target");
+        ui.label(RichText::new(summary).strong().color(if meeting == total { pal.ok } else { pal.fail }));
+        ui.separator();
+
+        egui::ScrollArea::vertical()
+            .id_salt("rails-scroll")
+            .auto_shrink([false, true])
+            .max_height(ui.available_height() - 40.0)
+            .show(ui, |ui| {
+                for i in 0..total {
+                    self.rail_card(ui, i, &pal);
+                }
+            });
+
+        ui.separator();
+        ui.horizontal(|ui| {
+            if ui.button("Copy rail").on_hover_text("Add a copy of the selected rail").clicked() {
+                self.copy_rail();
+            }
+            let can_remove = total > 1;
+            if ui
+                .add_enabled(can_remove, egui::Button::new("Remove rail"))
+                .on_hover_text("Remove the selected rail (undo brings it back)")
+                .clicked()
+            {
+                let name = self.doc.board.rails[self.selected_rail].name.clone();
+                if let Err(p) =
+                    self.edit(Edit::RemoveRail { at: self.selected_rail }, format!("remove rail {name}"), false)
+                {
+                    self.status = Some((super::number_field::refusal_text("rails", &p), true));
+                }
+            }
+        });
+    }
+
+    fn rail_card(&mut self, ui: &mut Ui, i: usize, pal: &theme::Palette) {
+        let rail = &self.doc.board.rails[i];
+        let selected = i == self.selected_rail;
+        let result = self.results.get(i).cloned();
+        let frame = egui::Frame::group(ui.style())
+            .fill(if selected { ui.visuals().selection.bg_fill.gamma_multiply(0.35) } else { ui.visuals().panel_fill })
+            .inner_margin(egui::Margin::symmetric(8, 5));
+        let name = rail.name.clone();
+        let volts = format(rail.voltage_v, Unit::Volt);
+        let card = frame.show(ui, |ui| {
+            ui.set_width(ui.available_width());
+            let name_response = ui
+                .horizontal(|ui| {
+                    let name_response = ui.selectable_label(selected, RichText::new(&name).strong());
+                    ui.label(RichText::new(volts).weak());
+                    ui.with_layout(egui::Layout::right_to_left(egui::Align::Center), |ui| match &result {
+                        Some(r) if r.analysis.meets_target => {
+                            ui.label(RichText::new("meets").strong().color(pal.ok));
+                        }
+                        Some(_) => {
+                            ui.label(RichText::new("misses").strong().color(pal.fail));
+                        }
+                        None => {
+                            ui.label(RichText::new("not analysed").color(pal.note));
+                        }
+                    });
+                    name_response
+                })
+                .inner;
+            if let Some(r) = &result {
+                let a = &r.analysis;
+                let text = format!("margin {:+.1} dB · worst at {}", a.margin_db, format(a.worst_hz, Unit::Hertz));
+                let color = if a.meets_target { ui.visuals().weak_text_color() } else { pal.fail };
+                ui.label(RichText::new(text).small().color(color));
+            }
+            name_response
+        });
+        let mut clicked = card.inner.clicked();
+        // The whole card selects the rail, not only its name.
+        let card_click = ui.interact(card.response.rect, egui::Id::unique(("rail-card", i)), egui::Sense::click());
+        clicked |= card_click.clicked();
+        if let Some(r) = &result {
+            let a = &r.analysis;
+            card_click.on_hover_text(format!(
+                "target {}, worst |Z| {} at {}",
+                format(a.target_ohm, Unit::Ohm),
+                format(a.worst_ohm, Unit::Ohm),
+                format(a.worst_hz, Unit::Hertz)
+            ));
+        }
+        if clicked && self.selected_rail != i {
+            self.selected_rail = i;
+            self.selected_finding = None;
+        }
+    }
+
+    fn copy_rail(&mut self) {
+        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
+        let mut copy = rail.clone();
+        let mut n = 2;
+        copy.name = format!("{}_{n}", rail.name);
+        while self.doc.board.rail(&copy.name).is_some() {
+            n += 1;
+            copy.name = format!("{}_{n}", rail.name);
+        }
+        let at = self.selected_rail + 1;
+        let label = format!("copy rail {} as {}", rail.name, copy.name);
+        match self.edit(Edit::AddRail { at, value: Box::new(copy) }, label, false) {
+            Ok(()) => {
+                self.selected_rail = at;
+                self.selected_finding = None;
+            }
+            Err(p) => self.status = Some((super::number_field::refusal_text("rails", &p), true)),
+        }
+    }
+}

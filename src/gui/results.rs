@@ -1,0 +1,199 @@
+//! What the window shows about each rail, computed by `analysis` and kept until that rail's inputs change.
+//!
+//! The window never computes an impedance: it asks [`analyze_rail`] and [`explain`] and turns their answers into
+//! plot-ready points (log10 of frequency and of |Z|). A rail is analysed again only when its own inputs or the
+//! parts it uses change, so dragging one count re-analyses one rail, not the board.
+
+use crate::analysis::{AnalysisOptions, Finding, RailAnalysis, analyze_rail, explain};
+use crate::model::{Board, Part, Rail};
+use std::sync::Arc;
+
+/// Points of the in-band scan: the default density, which the command line's check uses too, so the window's
+/// verdict and figures are the check's (a test holds the two together).
+pub const BAND_POINTS: usize = 1000;
+
+/// Points of the drawn curve (log-spaced over the view range).
+pub const CURVE_POINTS: usize = 600;
+
+/// How far the drawn curve reaches beyond the band on each side, as a factor in frequency.
+pub const VIEW_MARGIN: f64 = 10.0;
+
+/// One branch's curve, ready to draw.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BranchLine {
+    /// The branch's label ("source", "plane", "mlcc-100n-0402 ×24").
+    pub label: String,
+    /// Points as [log10 f, log10 |Z|].
+    pub points: Vec<[f64; 2]>,
+}
+
+/// Everything the plot draws for one rail, in plot coordinates (log10 of Hz and Ω).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PlotData {
+    /// The total impedance as [log10 f, log10 |Z|].
+    pub total: Vec<[f64; 2]>,
+    /// Each branch's own impedance, for drawing faintly beneath the total.
+    pub branches: Vec<BranchLine>,
+    /// The frequency range of the curve, Hz.
+    pub view_hz: [f64; 2],
+    /// A vertical range (log10 Ω) that shows the curve and the target with some room.
+    pub home_y: [f64; 2],
+}
+
+/// One rail's analysis, findings and plot data.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RailResult {
+    /// What the engine says about the rail.
+    pub analysis: RailAnalysis,
+    /// Its findings in plain words.
+    pub findings: Vec<Finding>,
+    /// What the plot draws.
+    pub plot: PlotData,
+}
+
+/// The inputs a rail's result depends on, kept to tell when it must be computed again.
+#[derive(Debug, Clone, PartialEq)]
+struct Inputs {
+    rail: Rail,
+    parts: Vec<Part>,
+}
+
+impl Inputs {
+    fn of(board: &Board, rail: &Rail) -> Inputs {
+        let parts = rail.decaps.iter().filter_map(|g| board.part(&g.part).cloned()).collect();
+        Inputs { rail: rail.clone(), parts }
+    }
+}
+
+/// The results of every rail of the board, refreshed rail by rail.
+#[derive(Debug, Clone, Default)]
+pub struct Results {
+    entries: Vec<Option<(Inputs, Arc<RailResult>)>>,
+}
+
+impl Results {
+    /// Bring every rail's result up to date with `board`, analysing only rails whose inputs changed. Returns how
+    /// many rails were analysed.
+    pub fn refresh(&mut self, board: &Board) -> usize {
+        self.entries.resize(board.rails.len(), None);
+        let mut analysed = 0;
+        for (i, rail) in board.rails.iter().enumerate() {
+            let inputs = Inputs::of(board, rail);
+            if matches!(&self.entries[i], Some((known, _)) if *known == inputs) {
+                continue;
+            }
+            analysed += 1;
+            self.entries[i] = compute(board, i).map(|r| (inputs, Arc::new(r)));
+        }
+        analysed
+    }
+
+    /// The result of rail `index`, if it could be analysed.
+    pub fn get(&self, index: usize) -> Option<&Arc<RailResult>> {
+        self.entries.get(index).and_then(|e| e.as_ref()).map(|(_, r)| r)
+    }
+
+    /// Forget everything (a new board was opened).
+    pub fn clear(&mut self) {
+        self.entries.clear();
+    }
+}
+
+/// Analyse one rail and prepare its plot data.
+pub fn compute(board: &Board, index: usize) -> Option<RailResult> {
+    let rail = board.rails.get(index)?;
+    // The band as the engine will take it (given, or from the loads' rise times).
+    let [lo, hi] = rail.band()?.hz;
+    let view_hz = [lo / VIEW_MARGIN, hi * VIEW_MARGIN];
+    // The verdict's own view (the die when the rail gives a package) and the nominal corner, as the check takes
+    // them; only the density and the curves to keep are the window's.
+    let options = AnalysisOptions {
+        band_points: BAND_POINTS,
+        curve: Some((view_hz[0], view_hz[1], CURVE_POINTS)),
+        branch_curves: true,
+        ..AnalysisOptions::default()
+    };
+    let analysis = analyze_rail(board, index, &options)?;
+    let findings = explain(board, rail, &analysis);
+    let plot = plot_data(&analysis, view_hz);
+    Some(RailResult { analysis, findings, plot })
+}
+
+/// A point in plot coordinates, or `None` where |Z| cannot be drawn on a log axis (zero, infinite, NaN).
+fn log_point(f: f64, z: f64) -> Option<[f64; 2]> {
+    (f > 0.0 && z > 0.0 && f.is_finite() && z.is_finite()).then(|| [f.log10(), z.log10()])
+}
+
+fn plot_data(analysis: &RailAnalysis, view_hz: [f64; 2]) -> PlotData {
+    let Some(curve) = &analysis.curve else {
+        return PlotData { view_hz, ..PlotData::default() };
+    };
+    let total: Vec<[f64; 2]> =
+        curve.freq_hz.iter().zip(&curve.z).filter_map(|(&f, z)| log_point(f, z.norm())).collect();
+    let branches = curve
+        .branches
+        .iter()
+        .map(|(b, zs)| BranchLine {
+            label: b.label.clone(),
+            points: curve.freq_hz.iter().zip(zs).filter_map(|(&f, z)| log_point(f, z.norm())).collect(),
+        })
+        .collect();
+    PlotData { total, branches, view_hz, home_y: home_y(analysis, &curve.freq_hz, &curve.z) }
+}
+
+/// The vertical range to show first: the curve over the band and the target, with half a decade of room, kept
+/// within five decades so that a steep capacitive slope at the low end cannot squash the interesting part.
+fn home_y(analysis: &RailAnalysis, freq: &[f64], z: &[num_complex::Complex64]) -> [f64; 2] {
+    let target = analysis.target_ohm.log10();
+    let [lo, hi] = analysis.band_hz;
+    let in_band = freq.iter().zip(z).filter(|(f, _)| **f >= lo && **f <= hi).map(|(_, z)| z.norm());
+    let logs: Vec<f64> = in_band.filter(|m| *m > 0.0 && m.is_finite()).map(f64::log10).collect();
+    let (mut y0, mut y1) = logs.iter().fold((target, target), |(a, b), &y| (a.min(y), b.max(y)));
+    if !target.is_finite() {
+        (y0, y1) = (-3.0, 1.0);
+    }
+    y0 = y0.max(target - 3.0) - 0.5;
+    y1 = y1.min(target + 2.0) + 0.5;
+    if y1 - y0 < 1.0 {
+        let mid = (y0 + y1) / 2.0;
+        (y0, y1) = (mid - 0.5, mid + 0.5);
+    }
+    [y0, y1]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_changed_rails_are_analysed_again() {
+        let mut board = crate::samples::default_board().unwrap();
+        let mut results = Results::default();
+        assert_eq!(results.refresh(&board), board.rails.len());
+        assert_eq!(results.refresh(&board), 0);
+        board.rails[1].decaps[0].count += 1;
+        assert_eq!(results.refresh(&board), 1);
+        // A part's change reaches every rail that uses it and no other.
+        let users: std::collections::HashSet<usize> =
+            board.uses_of_part("mlcc-1u-0402").into_iter().map(|(r, _)| r).collect();
+        let i = board.parts.iter().position(|p| p.id == "mlcc-1u-0402").unwrap();
+        board.parts[i].esr_ohm *= 2.0;
+        assert_eq!(results.refresh(&board), users.len());
+    }
+
+    #[test]
+    fn figures_are_the_engines() {
+        let board = crate::samples::default_board().unwrap();
+        let mut results = Results::default();
+        results.refresh(&board);
+        for i in 0..board.rails.len() {
+            let mine = &results.get(i).unwrap().analysis;
+            let engine = analyze_rail(&board, i, &AnalysisOptions::default()).unwrap();
+            assert_eq!(mine.worst_ohm, engine.worst_ohm);
+            assert_eq!(mine.meets_target, engine.meets_target);
+            let p = &results.get(i).unwrap().plot;
+            assert_eq!(p.total.len(), CURVE_POINTS);
+            assert!(p.home_y[0] < engine.target_ohm.log10() && engine.target_ohm.log10() < p.home_y[1]);
+        }
+    }
+}

@@ -1,0 +1,407 @@
+//! The planner window, driven headless through its accessibility tree the way a user would: click, type, press
+//! keys, drop a file. The figures it shows are checked against what the engine computes for the same board.
+
+mod common;
+
+use egui::accesskit::Role;
+use egui::{Key, Modifiers};
+use egui_kittest::Harness;
+use egui_kittest::kittest::{Queryable, by};
+use hushrail::analysis::{AnalysisOptions, RailAnalysis, analyze_rail};
+use hushrail::gui::App;
+use hushrail::model::Board;
+use hushrail::units::{Unit, format};
+use std::path::{Path, PathBuf};
+use std::sync::Arc;
+
+fn sample() -> Board {
+    hushrail::samples::default_board().expect("the built-in sample board reads")
+}
+
+fn window(board: Board) -> Harness<'static, App> {
+    let app = App::new_with_board(board, "edge_camera.json", None);
+    let mut harness =
+        Harness::builder().with_size([1280.0, 800.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    harness
+}
+
+fn engine(board: &Board, rail: usize) -> RailAnalysis {
+    analyze_rail(board, rail, &AnalysisOptions::default()).expect("rail analyses")
+}
+
+/// The verdict and worst |Z| as the window writes them for an analysis.
+fn shown_figures(a: &RailAnalysis) -> (String, String) {
+    let verdict = if a.meets_target { "meets target" } else { "misses target" };
+    (
+        verdict.to_string(),
+        format!("worst |Z| {} at {}", format(a.worst_ohm, Unit::Ohm), format(a.worst_hz, Unit::Hertz)),
+    )
+}
+
+fn assert_shows(harness: &Harness<'_, App>, a: &RailAnalysis) {
+    let (verdict, worst) = shown_figures(a);
+    assert!(harness.query_by_label(&verdict).is_some(), "the window should say \"{verdict}\"");
+    assert!(harness.query_by_label(&worst).is_some(), "the window should say \"{worst}\"");
+}
+
+/// Click a widget by its accessible name, scrolling it into view first as a user would.
+fn click(harness: &mut Harness<'_, App>, label: &str) {
+    harness.get_by_label(label).scroll_to_me();
+    harness.run();
+    harness.get_by_label(label).click();
+    harness.run();
+}
+
+/// Select a rail in the rails list (its name is also the heading of the selected rail).
+fn select_rail(harness: &mut Harness<'_, App>, name: &str) {
+    harness.get(by().label(name).predicate(|n| n.role() != Role::Label)).click();
+    harness.run();
+}
+
+fn select_all_and_type(harness: &mut Harness<'_, App>, label: &str, text: &str) {
+    harness.get_by_label(label).scroll_to_me();
+    harness.run();
+    harness.get_by_label(label).focus();
+    harness.run();
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::A);
+    harness.get_by_label(label).type_text(text);
+    harness.key_press(Key::Enter);
+    harness.run();
+}
+
+#[test]
+fn selecting_a_rail_and_adding_a_part_moves_verdict_and_worst_impedance_as_the_engine_says() {
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let group = board.rails[rail].decaps.iter().position(|g| g.part == "mlcc-10u-0603").unwrap();
+    let before = engine(&board, rail);
+    let mut harness = window(board.clone());
+
+    select_rail(&mut harness, "V3V3_IO");
+    assert_shows(&harness, &before);
+
+    click(&mut harness, "one more mlcc-10u-0603");
+    let mut changed = board.clone();
+    changed.rails[rail].decaps[group].count += 1;
+    let after = engine(&changed, rail);
+    assert_eq!(harness.state().board(), &changed);
+    assert_ne!(shown_figures(&before), shown_figures(&after), "one more part should move the figures");
+    assert_shows(&harness, &after);
+    assert!(harness.state().is_dirty());
+    assert!(harness.state().title().starts_with("* "), "unsaved mark in the title: {}", harness.state().title());
+
+    // Undo with the keyboard brings back the board, the figures and the saved state.
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board);
+    assert_shows(&harness, &before);
+    assert!(!harness.state().is_dirty());
+
+    // Redo (Ctrl+Y) applies it again; Ctrl+Z and Ctrl+Shift+Z go back and forth once more.
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Y);
+    harness.run();
+    assert_eq!(harness.state().board(), &changed);
+    assert_shows(&harness, &after);
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board);
+    harness.key_press_modifiers(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &changed);
+}
+
+#[test]
+fn a_typed_count_follows_the_engine_too() {
+    let board = sample();
+    let rail = 0;
+    let group = board.rails[rail].decaps.iter().position(|g| g.part == "mlcc-100n-0402").unwrap();
+    let mut harness = window(board.clone());
+    // A count accepts engineering notation; 4e1 is 40.
+    select_all_and_type(&mut harness, "count of mlcc-100n-0402", "4e1");
+    let mut changed = board.clone();
+    changed.rails[rail].decaps[group].count = 40;
+    assert_eq!(harness.state().board(), &changed);
+    assert_shows(&harness, &engine(&changed, rail));
+}
+
+#[test]
+fn a_bad_entry_is_refused_at_the_field_with_its_reason() {
+    let board = sample();
+    let mut harness = window(board.clone());
+
+    // Not a number: the parser's reason shows at the field; the board is untouched.
+    select_all_and_type(&mut harness, "Voltage", "abc");
+    assert_eq!(harness.state().board(), &board);
+    assert!(harness.query_by_label_contains("does not start with a number").is_some(), "parse reason shown");
+    assert!(!harness.state().is_dirty());
+
+    // A number that is not physical: the board's rule says why.
+    select_all_and_type(&mut harness, "Voltage", "-1");
+    assert_eq!(harness.state().board(), &board);
+    assert!(harness.query_by_label_contains("must be greater than 0").is_some(), "rule reason shown");
+
+    // A good entry lands and the message goes away.
+    select_all_and_type(&mut harness, "Voltage", "900m");
+    assert_eq!(harness.state().board().rails[0].voltage_v, 0.9);
+    assert!(harness.query_by_label_contains("must be greater than 0").is_none());
+    let a = engine(harness.state().board(), 0);
+    assert_shows(&harness, &a);
+}
+
+#[derive(Debug)]
+struct Dropped(PathBuf);
+
+impl egui::DroppedFile for Dropped {
+    fn path(&self) -> &Path {
+        &self.0
+    }
+
+    fn bytes(&self) -> Result<Vec<u8>, String> {
+        std::fs::read(&self.0).map_err(|e| e.to_string())
+    }
+}
+
+fn drop_file(harness: &mut Harness<'_, App>, path: PathBuf) {
+    harness.input_mut().dropped_files.push(Arc::new(Dropped(path)));
+    harness.run();
+}
+
+#[test]
+fn a_broken_file_leaves_the_board_untouched_and_shows_its_errors() {
+    let board = sample();
+    let mut harness = window(board.clone());
+    let broken = common::root().join("tests/bad_boards/negative_esl.json");
+    let expected = hushrail::io::read_board(&broken).expect_err("the file is broken");
+
+    drop_file(&mut harness, broken.clone());
+    assert_eq!(harness.state().board(), &board, "the board on screen is kept");
+    let heading = format!("Could not open {}", expected.file);
+    assert!(harness.query_by_label(&heading).is_some(), "\"{heading}\" is shown");
+    for line in expected.lines() {
+        assert!(harness.query_by_label(&line).is_some(), "the error line \"{line}\" is shown");
+    }
+
+    // Dismissing the errors leaves the board as it was; a good file dropped then opens.
+    click(&mut harness, "Dismiss");
+    assert!(harness.query_by_label(&heading).is_none());
+    let good = common::root().join("sample_boards/motor_drive.json");
+    drop_file(&mut harness, good.clone());
+    assert_eq!(harness.state().board(), &hushrail::io::read_board(&good).unwrap());
+    assert_eq!(harness.state().path(), Some(good.as_path()));
+}
+
+#[test]
+fn opening_over_unsaved_changes_asks_first() {
+    let board = sample();
+    let mut harness = window(board.clone());
+    click(&mut harness, "one more mlcc-100n-0402");
+    let edited = harness.state().board().clone();
+    let other = common::root().join("sample_boards/sensor_hub.json");
+
+    drop_file(&mut harness, other.clone());
+    assert!(harness.query_by_label("Unsaved changes").is_some(), "the window asks before discarding");
+    click(&mut harness, "Cancel");
+    assert_eq!(harness.state().board(), &edited, "cancel keeps the edits");
+
+    drop_file(&mut harness, other.clone());
+    click(&mut harness, "Discard them");
+    assert_eq!(harness.state().board(), &hushrail::io::read_board(&other).unwrap());
+    assert!(!harness.state().is_dirty());
+}
+
+#[test]
+fn save_writes_the_board_and_clears_the_unsaved_mark() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("saved.json");
+    let mut harness = window(sample());
+    click(&mut harness, "one fewer mlcc-100n-0402");
+    assert!(harness.state().is_dirty());
+    assert!(harness.state_mut().save_to(&path));
+    harness.run();
+    assert!(!harness.state().is_dirty());
+    assert!(!harness.state().title().starts_with("* "));
+    assert_eq!(&hushrail::io::read_board(&path).unwrap(), harness.state().board());
+}
+
+#[test]
+fn removing_a_part_in_use_is_refused_and_names_the_groups() {
+    let board = sample();
+    let mut harness = window(board.clone());
+    click(&mut harness, "Parts");
+    click(&mut harness, "mlcc-100n-0402");
+    click(&mut harness, "Remove part");
+    assert_eq!(harness.state().board(), &board);
+    assert!(harness.query_by_label_contains("still used by VCORE group 3").is_some());
+
+    // The board's name is edited on the same page, through the same history.
+    select_all_and_type(&mut harness, "Board name", "Camera rev B");
+    assert_eq!(harness.state().board().name, "Camera rev B");
+    select_all_and_type(&mut harness, "Board name", "  ");
+    assert_eq!(harness.state().board().name, "Camera rev B");
+    assert!(harness.query_by_label_contains("must not be empty").is_some());
+}
+
+#[test]
+fn pins_keep_the_old_curve_and_compare_against_it() {
+    let mut harness = window(sample());
+    click(&mut harness, "Pin this curve");
+    let before = engine(harness.state().board(), 0);
+    click(&mut harness, "one more mlcc-100n-0402");
+    assert!(harness.state().is_dirty());
+    let now = engine(harness.state().board(), 0);
+    let compare = format!(
+        "against pin “pin 1”: worst |Z| was {}, now {}",
+        format(before.worst_ohm, Unit::Ohm),
+        format(now.worst_ohm, Unit::Ohm)
+    );
+    assert!(harness.query_by_label_contains(&compare).is_some(), "{compare}");
+    click(&mut harness, "remove pin 1");
+    assert!(harness.query_by_label_contains("against pin").is_none());
+}
+
+#[test]
+fn findings_are_the_engines_and_can_be_selected() {
+    let board = sample();
+    let a = engine(&board, 0);
+    let findings = hushrail::analysis::explain(&board, &board.rails[0], &a);
+    let mut harness = window(board);
+    for f in &findings {
+        assert!(harness.query_by_label(&f.text).is_some(), "finding shown: {}", f.text);
+    }
+    assert_eq!(harness.state().selected_finding(), None);
+    click(&mut harness, &findings[1].text);
+    assert_eq!(harness.state().selected_finding(), Some((0, 1)));
+    click(&mut harness, &findings[1].text);
+    assert_eq!(harness.state().selected_finding(), None);
+
+    // The whole board's list names each rail's verdict.
+    harness.get_by_label_contains("Whole board").click();
+    harness.run();
+    assert!(harness.query_by_label_contains("VDDR: meets target").is_some());
+    assert!(harness.query_all(by().role(Role::Label).label_contains("misses target (")).count() >= 2);
+}
+
+#[test]
+fn work_left_by_a_crashed_session_is_offered_back() {
+    let dir = tempfile::tempdir().unwrap();
+    let mut board = sample();
+    board.rails[0].decaps[0].count = 7;
+    // An autosave as a session that no longer runs leaves it (pid 4294967 is above Linux's pid limit).
+    let origin = dir.path().join("camera.json");
+    std::fs::write(dir.path().join("autosave-4294967.json"), hushrail::io::board_to_string(&board)).unwrap();
+    std::fs::write(dir.path().join("autosave-4294967.origin"), origin.display().to_string()).unwrap();
+
+    let store = hushrail::gui::files::Store::new(Some(dir.path().to_path_buf()));
+    let app = App::open(None, store);
+    let mut harness =
+        Harness::builder().with_size([1280.0, 800.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    assert!(harness.query_by_label("Unsaved work found").is_some());
+    click(&mut harness, "Restore");
+    assert_eq!(harness.state().board(), &board);
+    assert!(harness.state().is_dirty(), "restored work is unsaved until the user saves it");
+    assert_eq!(harness.state().path(), Some(origin.as_path()));
+    assert!(!dir.path().join("autosave-4294967.json").exists(), "the left-over copy is taken over");
+}
+
+#[test]
+fn dragging_a_count_moves_the_figures_at_every_step_and_undoes_in_one_step() {
+    let board = sample();
+    let group = board.rails[0].decaps.iter().position(|g| g.part == "mlcc-100n-0402").unwrap();
+    let mut harness = window(board.clone());
+    harness.get_by_label("count of mlcc-100n-0402").scroll_to_me();
+    harness.run();
+    let start = harness.get_by_label("count of mlcc-100n-0402").rect().center();
+
+    harness.hover_at(start);
+    harness.run();
+    harness.drag_at(start);
+    harness.run();
+    let mut seen = Vec::new();
+    for step in 1..=6 {
+        harness.hover_at(start + egui::vec2(step as f32 * 40.0, 0.0));
+        harness.run();
+        // At every step of the drag the window shows what the engine says for the count it has now.
+        let now = harness.state().board().clone();
+        assert_shows(&harness, &engine(&now, 0));
+        seen.push(now.rails[0].decaps[group].count);
+    }
+    harness.drop_at(start + egui::vec2(240.0, 0.0));
+    harness.run();
+    let end = harness.state().board().rails[0].decaps[group].count;
+    assert!(end > board.rails[0].decaps[group].count, "dragging right adds parts: {seen:?}");
+    assert!(seen.windows(2).any(|w| w[0] != w[1]), "the count changed during the drag: {seen:?}");
+
+    // The whole drag is one step of the history.
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board);
+}
+
+#[test]
+fn a_broken_file_named_on_the_command_line_opens_the_sample_with_its_errors() {
+    let broken = common::root().join("tests/bad_boards/syntax_trailing_comma.json");
+    let expected = hushrail::io::read_board(&broken).expect_err("the file is broken");
+    let app = App::open(Some(&broken), hushrail::gui::files::Store::new(None));
+    let mut harness =
+        Harness::builder().with_size([1280.0, 800.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    assert_eq!(harness.state().board(), &sample());
+    for line in expected.lines() {
+        assert!(harness.query_by_label(&line).is_some(), "the error line \"{line}\" is shown");
+    }
+}
+
+#[test]
+fn odd_but_valid_boards_do_not_upset_the_window() {
+    // No rails at all, and a rail with only a regulator and no parts on the board.
+    let texts = [
+        r#"{"format": "hushrail-board", "version": 1, "name": "empty", "parts": [], "rails": []}"#,
+        r#"{"format": "hushrail-board", "version": 1, "name": "bare", "parts": [], "rails": [
+            {"name": "R", "voltage_v": 1, "ripple_pct": 5, "band_hz": [1e3, 1e6],
+             "source": {"r_ohm": 0, "l_h": 0}, "loads": [{"name": "l", "step_a": 1}], "decaps": []}]}"#,
+    ];
+    for text in texts {
+        let board = hushrail::io::parse_board(text, "odd.json").expect("valid board");
+        let mut harness = window(board.clone());
+        for tab in ["Parts", "Help and cautions", "Rail inputs"] {
+            click(&mut harness, tab);
+        }
+        harness.get_by_label_contains("Whole board").click();
+        harness.run();
+        if harness.query_by_label("Pin this curve").is_some() {
+            click(&mut harness, "Pin this curve");
+        }
+        assert_eq!(harness.state().board(), &board);
+    }
+}
+
+#[test]
+fn a_band_from_the_loads_can_be_fixed_and_taken_back_and_the_die_view_is_named() {
+    let path = common::root().join("sample_boards/sensor_hub.json");
+    let board = hushrail::io::read_board(&path).unwrap();
+    let radio = board.rail_index("VRADIO").unwrap();
+    assert_eq!(board.rails[radio].band_hz, None, "the sample's radio rail takes its band from its loads");
+    let core = board.rail_index("VCCINT").unwrap();
+    assert!(board.rails[core].package.is_some());
+    let mut harness = window(board.clone());
+
+    // A rail with a package: its verdict is taken at the die, as the check does, and the window says so.
+    select_rail(&mut harness, "VCCINT");
+    assert_shows(&harness, &engine(&board, core));
+    assert!(harness.query_by_label("seen at the die, through the package").is_some());
+
+    // The engine's words for where the band's edges come from.
+    select_rail(&mut harness, "VRADIO");
+    let band = board.rails[radio].band().unwrap();
+    for line in hushrail::analysis::explain_band(&band) {
+        assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
+    }
+    // Typing an edge fixes the band where it is; the button gives it back to the loads.
+    select_all_and_type(&mut harness, "Band to", "100M");
+    assert_eq!(harness.state().board().rails[radio].band_hz, Some([band.hz[0], 100e6]));
+    assert_shows(&harness, &engine(harness.state().board(), radio));
+    click(&mut harness, "Take the band from the loads' rise times");
+    assert_eq!(harness.state().board(), &board);
+}
