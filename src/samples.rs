@@ -13,3 +13,13 @@ const DEFAULT_SAMPLE_TEXT: &str = include_str!("../sample_boards/edge_camera.jso
 pub fn default_board() -> Result<Board, BoardError> {
     parse_board(DEFAULT_SAMPLE_TEXT, DEFAULT_SAMPLE_NAME)
 }
+
+/// The name of the built-in shelf, as shown to people.
+pub const SHELF_NAME: &str = "assets/shelf.json";
+
+const SHELF_TEXT: &str = include_str!("../assets/shelf.json");
+
+/// The built-in shelf of generic parts (typical, recalled values), as a board with parts and no rails.
+pub fn shelf() -> Result<Board, BoardError> {
+    parse_board(SHELF_TEXT, SHELF_NAME)
+}

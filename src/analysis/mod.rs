@@ -6,6 +6,7 @@ mod droop;
 mod findings;
 mod grid;
 mod network;
+mod optimize;
 mod rail;
 
 pub use advice::{Finding, Severity, explain, explain_band};
@@ -13,6 +14,9 @@ pub use droop::{Droop, DroopError, DroopOptions, NodeDroop, PatternResponse, Pul
 pub use findings::{Extremum, ViolationBand};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, View, magnitude_phase};
+pub use optimize::{
+    Candidate, MixEvaluator, MixOption, Objective, SuggestError, SuggestOptions, Suggestion, apply_mix, suggest,
+};
 pub use rail::{
     AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, sweep,
     sweep_in, target_impedance,

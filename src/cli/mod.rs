@@ -9,6 +9,7 @@ mod export;
 mod mounting;
 mod netlist;
 mod report;
+mod suggest;
 mod sweep;
 
 use crate::io::{BoardError, read_board};
@@ -54,6 +55,10 @@ pub enum Command {
     Mounting(mounting::MountingArgs),
     /// Size a series coupling capacitor for the lowest frequency it must pass.
     Coupling(coupling::CouplingArgs),
+    /// Suggest mixes of candidate parts that meet a rail's target at the least cost, count or board area.
+    ///
+    /// Exit status: 0 when some option meets target, 1 when none can (the reason is printed), 2 on bad input.
+    Suggest(suggest::SuggestArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
     Netlist(netlist::NetlistArgs),
     /// Write one rail's impedance for other tools: a one-port Touchstone file (--touchstone) and/or CSV (--csv).
@@ -73,6 +78,7 @@ pub fn run(command: Command) -> i32 {
         Command::Droop(args) => droop::run(&args),
         Command::Mounting(args) => mounting::run(&args),
         Command::Coupling(args) => coupling::run(&args),
+        Command::Suggest(args) => suggest::run(&args),
         Command::Export(args) => export::run(&args),
         Command::Bom(args) => bom::run(&args),
         Command::Report(args) => report::run(&args),

@@ -254,6 +254,7 @@ impl Decoder {
                 "case",
                 "dielectric",
                 "unit_cost",
+                "area_m2",
                 "tolerance_pct",
                 "dc_bias",
             ],
@@ -300,6 +301,7 @@ impl Decoder {
             case: self.opt_string(&f, "case"),
             dielectric: self.opt_string(&f, "dielectric"),
             unit_cost: self.opt_number(&f, "unit_cost"),
+            area_m2: self.opt_number(&f, "area_m2"),
             tolerance_pct: self.opt_number(&f, "tolerance_pct"),
             dc_bias,
         }

@@ -109,6 +109,9 @@ pub struct Part {
     /// Cost of one part, in the board's currency.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub unit_cost: Option<f64>,
+    /// Board area one fitted part takes (footprint with its pads and keep-out), m².
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub area_m2: Option<f64>,
     /// Capacitance tolerance, ± percent.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tolerance_pct: Option<f64>,
@@ -131,6 +134,7 @@ impl Part {
             case: None,
             dielectric: None,
             unit_cost: None,
+            area_m2: None,
             tolerance_pct: None,
             dc_bias: None,
         }

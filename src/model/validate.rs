@@ -140,6 +140,9 @@ fn check_part(c: &mut Checker, path: &str, part: &Part) {
     if let Some(v) = part.unit_cost {
         c.non_negative(format!("{path}.unit_cost"), v);
     }
+    if let Some(v) = part.area_m2 {
+        c.positive(format!("{path}.area_m2"), v);
+    }
 }
 
 fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>) {
