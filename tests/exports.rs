@@ -9,11 +9,15 @@ use hushrail::io::{Fixture, bill_of_materials, read_board, read_touchstone, z_to
 
 fn run(args: &[&str]) -> (i32, String, String) {
     let out = hushrail().args(args).current_dir(root()).output().unwrap();
-    (
-        out.status.code().unwrap_or(-1),
-        String::from_utf8_lossy(&out.stdout).into_owned(),
-        String::from_utf8_lossy(&out.stderr).into_owned(),
-    )
+    let stderr = String::from_utf8_lossy(&out.stderr).into_owned();
+    // Worktrees that share one CARGO_TARGET_DIR overwrite each other's binary; say so rather than fail obscurely.
+    assert!(
+        !stderr.contains("unrecognized subcommand") && !stderr.contains("cannot be used with '[BOARD]'"),
+        "{} does not know `{}`: it is another checkout's build (a shared CARGO_TARGET_DIR); rerun the tests",
+        env!("CARGO_BIN_EXE_hushrail"),
+        args[0]
+    );
+    (out.status.code().unwrap_or(-1), String::from_utf8_lossy(&out.stdout).into_owned(), stderr)
 }
 
 #[test]

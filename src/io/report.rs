@@ -99,7 +99,7 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
     // Summary: one line per rail.
     h.push_str(
         "<section id=\"summary\">\n<h2>Summary</h2>\n<table>\n<tr><th>rail</th><th>target</th>\
-                <th>worst |Z|</th><th>at</th><th>margin</th><th>verdict</th></tr>\n",
+                <th>worst |Z|</th><th>at</th><th>margin</th><th>verdict</th><th>seen from</th></tr>\n",
     );
     for a in analyses.iter().flatten().map(|v| &v.verdict) {
         let class = if a.meets_target { "pass" } else { "fail" };
@@ -127,10 +127,10 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
                 let class = if a.meets_target { "pass" } else { "fail" };
                 let _ = writeln!(h, "<p class=\"verdict {class}\">{}.</p>", summary(a));
                 if let Some(b) = board_view {
-                    let _ = writeln!(h, "<p>At the board instead: {}.</p>", summary(b));
+                    let _ = writeln!(h, "<p class=\"other\">{}.</p>", summary(b));
                 }
                 if let Some(w) = worst_corner {
-                    let _ = writeln!(h, "<p>In the worst corner of the parts' derating: {}.</p>", summary(w));
+                    let _ = writeln!(h, "<p class=\"other\">Worst corner: {}.</p>", summary(w));
                 }
                 h.push_str("<figure>\n");
                 match impedance_svg(a) {
