@@ -43,6 +43,15 @@ pub enum SideTab {
     Help,
 }
 
+/// What the middle of the window shows for the selected rail.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum CentralTab {
+    /// |Z(f)| against the target.
+    Impedance,
+    /// The voltage after a load step.
+    Time,
+}
+
 /// Which findings the findings list shows.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum FindingsTab {
@@ -81,6 +90,10 @@ pub struct App {
     pub(super) prefs: Prefs,
     pub(super) show_group_curves: bool,
     pub(super) side_tab: SideTab,
+    pub(super) central_tab: CentralTab,
+    /// The time view also draws the worst-case load pattern.
+    pub(super) show_worst_pattern: bool,
+    pub(super) pattern: Option<super::time_view::PatternView>,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
     /// A board file that could not be opened, shown until dismissed.
@@ -115,6 +128,9 @@ impl App {
             prefs: Prefs::default(),
             show_group_curves: false,
             side_tab: SideTab::Rail,
+            central_tab: CentralTab::Impedance,
+            show_worst_pattern: false,
+            pattern: None,
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
             load_error: None,
@@ -362,13 +378,26 @@ impl App {
                 self.load_error_box(ui);
             }
             self.rail_header(ui);
-            self.pins_bar(ui);
+            ui.horizontal(|ui| {
+                ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong());
+                ui.selectable_value(
+                    &mut self.central_tab,
+                    CentralTab::Time,
+                    RichText::new("Voltage after a load step").strong(),
+                );
+            });
+            if self.central_tab == CentralTab::Impedance {
+                self.pins_bar(ui);
+            }
             egui::Panel::bottom("findings")
                 .resizable(true)
                 .default_size(190.0)
                 .size_range(90.0..=500.0)
                 .show(ui, |ui| self.findings_panel(ui));
-            egui::CentralPanel::no_frame().show(ui, |ui| self.plot(ui));
+            egui::CentralPanel::no_frame().show(ui, |ui| match self.central_tab {
+                CentralTab::Impedance => self.plot(ui),
+                CentralTab::Time => self.time_view(ui),
+            });
         });
 
         self.dialogs(&ctx);

@@ -7,7 +7,8 @@
 use super::app::App;
 use super::results::RailResult;
 use super::theme;
-use crate::analysis::{AntiResonance, Severity};
+use crate::analysis::{AntiResonance, Severity, View};
+use crate::physics::derating::BiasSource;
 use crate::units::{Unit, format, format_sig};
 use egui::{RichText, Ui};
 use egui_plot::{
@@ -79,6 +80,56 @@ pub fn log_label(mark: GridMark, range: &RangeInclusive<f64>, unit: Unit) -> Str
     }
 }
 
+/// Where a curve is seen from, in words.
+fn view_words(view: View) -> &'static str {
+    match view {
+        View::Die => "at the die",
+        View::Board => "at the board node",
+    }
+}
+
+/// A rail's verdict figures in one line.
+fn figures(a: &crate::analysis::RailAnalysis) -> String {
+    format!(
+        "{}, worst |Z| {} at {}, margin {:+.1} dB",
+        if a.meets_target { "meets target" } else { "misses target" },
+        format(a.worst_ohm, Unit::Ohm),
+        format(a.worst_hz, Unit::Hertz),
+        a.margin_db
+    )
+}
+
+/// The groups whose parts lose most capacitance in an analysed corner, most first (at most three), each with
+/// where the loss comes from; the generic DC-bias model is marked as typical and recalled.
+fn losses(board: &crate::model::Board, a: &crate::analysis::RailAnalysis) -> Vec<String> {
+    let mut kept: Vec<(f64, String)> = a
+        .groups
+        .iter()
+        .filter_map(|g| {
+            let nominal = board.part(&g.part)?.capacitance_f;
+            let ratio = g.effective_c_f / nominal;
+            (ratio < 0.999).then(|| {
+                let bias = match g.derating.as_ref().map(|d| d.bias_source) {
+                    Some(BiasSource::Generic) => ", DC bias from the generic model (typical, recalled)",
+                    Some(BiasSource::PartCurve) => ", DC bias from the part's own curve",
+                    _ => "",
+                };
+                let text = format!(
+                    "{} keeps {:.0} % ({} → {}{bias})",
+                    g.part,
+                    ratio * 100.0,
+                    format(nominal, Unit::Farad),
+                    format(g.effective_c_f, Unit::Farad)
+                );
+                (ratio, text)
+            })
+        })
+        .collect();
+    kept.sort_by(|x, y| x.0.total_cmp(&y.0));
+    kept.dedup_by(|x, y| x.1 == y.1);
+    kept.into_iter().take(3).map(|(_, t)| t).collect()
+}
+
 /// The groups that meet at a peak, in a few words.
 fn peak_groups(a: &AntiResonance) -> String {
     let side =
@@ -130,7 +181,7 @@ impl App {
     /// The selected rail's name, verdict and figures (and the change against the newest pin).
     pub(super) fn rail_header(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
-        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
+        let Some(rail) = self.doc.board.rails.get(self.selected_rail).cloned() else { return };
         let Some(result) = self.results.get(self.selected_rail).cloned() else {
             ui.label(RichText::new(format!("{}: cannot be analysed", rail.name)).color(pal.fail));
             return;
@@ -141,11 +192,14 @@ impl App {
             let (word, color) = if a.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
             ui.label(RichText::new(word).heading().color(color));
             ui.label(RichText::new(format!("margin {:+.1} dB", a.margin_db)).strong().color(color));
-            if a.view == crate::analysis::View::Die {
+            if a.view == View::Die {
                 // With a package the verdict is taken at the die, as the check takes it; say so.
                 ui.label(RichText::new("seen at the die, through the package").weak());
+            } else if rail.package.is_some() {
+                ui.label(RichText::new("seen at the board node (the check takes the verdict at the die)").weak());
             }
         });
+        self.look_row(ui, rail.package.is_some());
         ui.horizontal_wrapped(|ui| {
             ui.label(format!(
                 "target {} from {} to {}",
@@ -158,6 +212,22 @@ impl App {
             ui.label("·");
             ui.label(format!("{:.2}× target", a.worst_ohm / a.target_ohm));
         });
+        if let Some(o) = &result.other_view {
+            let b = &o.analysis;
+            ui.label(RichText::new(format!("{}: {}", view_words(b.view), figures(b))).color(pal.other_view));
+        }
+        if let Some(w) = &result.worst {
+            ui.label(
+                RichText::new(format!("worst derating corner: {}", figures(&w.analysis)))
+                    .color(if w.analysis.meets_target { pal.ok } else { pal.fail }),
+            );
+            let losses = losses(&self.doc.board, &w.analysis);
+            if losses.is_empty() {
+                ui.label(RichText::new("No part loses capacitance in the worst corner.").small());
+            } else {
+                ui.label(RichText::new(format!("loses most: {}", losses.join("; "))).small());
+            }
+        }
         if let Some(pin) = self.pins.iter().rev().find(|p| p.visible && p.rail == rail.name) {
             let change_db = 20.0 * (pin.worst_ohm / a.worst_ohm).log10();
             let better = if change_db >= 0.0 { "better" } else { "worse" };
@@ -173,6 +243,27 @@ impl App {
                 ))
                 .color(pin.color),
             );
+        }
+    }
+
+    /// Where the rail is seen from and which curves are drawn beside the main one. Changing them analyses every
+    /// rail again (once), since the rails list shows the same view.
+    fn look_row(&mut self, ui: &mut Ui, has_package: bool) {
+        let mut look = self.results.look();
+        ui.horizontal_wrapped(|ui| {
+            if has_package {
+                ui.label("Seen from");
+                ui.radio_value(&mut look.view, None, "the die (the verdict's view)");
+                ui.radio_value(&mut look.view, Some(View::Board), "the board node");
+                ui.checkbox(&mut look.both_views, "draw both");
+                ui.separator();
+            }
+            ui.checkbox(&mut look.worst_corner, "worst derating corner too")
+                .on_hover_text("Lowest capacitance from DC bias, temperature over the board's range and tolerance");
+        });
+        if look != self.results.look() {
+            self.results.set_look(look);
+            self.results.refresh(&self.doc.board);
         }
     }
 
@@ -204,7 +295,7 @@ impl App {
         let show_groups = self.show_group_curves;
         let hover_result = result.clone();
 
-        self.plot_key(ui, &pal, a.target_ohm, &pins, !a.antiresonances.is_empty());
+        self.plot_key(ui, &pal, &result, &pins);
         let shown = Plot::new(("impedance", index))
             .default_x_bounds(home.x[0], home.x[1])
             .default_y_bounds(home.y[0], home.y[1])
@@ -259,6 +350,21 @@ impl App {
                             .style(LineStyle::dashed_loose()),
                     );
                 }
+                if let Some(o) = &result.other_view {
+                    pu.line(
+                        Line::new(view_words(o.analysis.view), PlotPoints::from(o.total.clone()))
+                            .color(pal.other_view)
+                            .width(1.5),
+                    );
+                }
+                if let Some(w) = &result.worst {
+                    pu.line(
+                        Line::new("worst derating corner", PlotPoints::from(w.total.clone()))
+                            .color(pal.worst)
+                            .width(1.5)
+                            .style(LineStyle::dashed_dense()),
+                    );
+                }
                 pu.line(Line::new(TOTAL, PlotPoints::from(p.total.clone())).color(pal.curve).width(2.5));
                 pu.line(
                     Line::new(
@@ -300,7 +406,8 @@ impl App {
     }
 
     /// The key to the plot, drawn above it rather than over it so that it never hides the curve.
-    fn plot_key(&self, ui: &mut Ui, pal: &theme::Palette, target_ohm: f64, pins: &[super::pins::Pin], peaks: bool) {
+    fn plot_key(&self, ui: &mut Ui, pal: &theme::Palette, result: &RailResult, pins: &[super::pins::Pin]) {
+        let (target_ohm, peaks) = (result.analysis.target_ohm, !result.analysis.antiresonances.is_empty());
         let swatch = |ui: &mut Ui, color: egui::Color32, kind: u8| {
             let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 12.0), egui::Sense::hover());
             let p = ui.painter();
@@ -329,7 +436,17 @@ impl App {
             // Each entry stays on one line; the row wraps between entries.
             ui.style_mut().wrap_mode = Some(egui::TextWrapMode::Extend);
             swatch(ui, pal.curve, 0);
-            ui.label(RichText::new("|Z|").small());
+            ui.label(RichText::new(format!("|Z| {}", view_words(result.analysis.view))).small());
+            if let Some(o) = &result.other_view {
+                ui.add_space(8.0);
+                swatch(ui, pal.other_view, 0);
+                ui.label(RichText::new(format!("|Z| {}", view_words(o.analysis.view))).small());
+            }
+            if result.worst.is_some() {
+                ui.add_space(8.0);
+                swatch(ui, pal.worst, 0);
+                ui.label(RichText::new("worst derating corner (dashed)").small());
+            }
             ui.add_space(8.0);
             swatch(ui, pal.target, 0);
             ui.label(RichText::new(format!("target {}, band edges dashed", format(target_ohm, Unit::Ohm))).small());

@@ -4,8 +4,9 @@
 //! plot-ready points (log10 of frequency and of |Z|). A rail is analysed again only when its own inputs or the
 //! parts it uses change, so dragging one count re-analyses one rail, not the board.
 
-use crate::analysis::{AnalysisOptions, Finding, RailAnalysis, analyze_rail, explain};
+use crate::analysis::{AnalysisOptions, Droop, DroopOptions, Finding, RailAnalysis, View, analyze_rail, droop, explain};
 use crate::model::{Board, Part, Rail};
+use crate::physics::Corner;
 use std::sync::Arc;
 
 /// Points of the in-band scan: the default density, which the command line's check uses too, so the window's
@@ -14,6 +15,10 @@ pub const BAND_POINTS: usize = 1000;
 
 /// Points of the drawn curve (log-spaced over the view range).
 pub const CURVE_POINTS: usize = 600;
+
+/// Points of the time view's waveform. The integration runs on its own finer step whatever this is; 600 points
+/// are more than a plot a few hundred pixels wide can show.
+pub const DROOP_POINTS: usize = 600;
 
 /// How far the drawn curve reaches beyond the band on each side, as a factor in frequency.
 pub const VIEW_MARGIN: f64 = 10.0;
@@ -40,35 +45,74 @@ pub struct PlotData {
     pub home_y: [f64; 2],
 }
 
+/// How the window looks at the rails: from where, and which curves beside the main one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct Look {
+    /// Where the main figures and curve are taken; `None` is the verdict's own view (the die when the rail gives
+    /// a package, as the check takes it). Rails without a package are always seen at the board.
+    pub view: Option<View>,
+    /// Also draw the curve seen from the other node, for rails with a package.
+    pub both_views: bool,
+    /// Also analyse the worst derating corner (lowest effective capacitance) and draw its curve.
+    pub worst_corner: bool,
+}
+
+/// A second analysis of the rail (the other view, or the worst corner) and its drawn curve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Beside {
+    /// What the engine says in that view or corner.
+    pub analysis: RailAnalysis,
+    /// Its total |Z| as [log10 f, log10 |Z|].
+    pub total: Vec<[f64; 2]>,
+}
+
 /// One rail's analysis, findings and plot data.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RailResult {
-    /// What the engine says about the rail.
+    /// What the engine says about the rail, in the chosen view and the nominal corner.
     pub analysis: RailAnalysis,
     /// Its findings in plain words.
     pub findings: Vec<Finding>,
     /// What the plot draws.
     pub plot: PlotData,
+    /// The same rail seen from the other node, when asked for and the rail has a package.
+    pub other_view: Option<Beside>,
+    /// The worst derating corner in the chosen view, when asked for.
+    pub worst: Option<Beside>,
 }
 
-/// The inputs a rail's result depends on, kept to tell when it must be computed again.
+/// The inputs a rail's result depends on, kept to tell when it must be computed again: the rail, the parts it
+/// uses, and the board-wide settings the derating reads.
 #[derive(Debug, Clone, PartialEq)]
 struct Inputs {
     rail: Rail,
     parts: Vec<Part>,
+    temperature_c: Option<[f64; 2]>,
+    generic_dc_bias: Option<bool>,
 }
 
 impl Inputs {
     fn of(board: &Board, rail: &Rail) -> Inputs {
         let parts = rail.decaps.iter().filter_map(|g| board.part(&g.part).cloned()).collect();
-        Inputs { rail: rail.clone(), parts }
+        Inputs {
+            rail: rail.clone(),
+            parts,
+            temperature_c: board.temperature_c,
+            generic_dc_bias: board.generic_dc_bias,
+        }
     }
 }
+
+/// A rail's droop, or why it has none (the engine's own words).
+pub type DroopResult = Result<Droop, String>;
 
 /// The results of every rail of the board, refreshed rail by rail.
 #[derive(Debug, Clone, Default)]
 pub struct Results {
-    entries: Vec<Option<(Inputs, Arc<RailResult>)>>,
+    entries: Vec<Option<(Inputs, Look, Arc<RailResult>)>>,
+    /// Droops are computed only for rails whose time view is shown, so they have their own cache.
+    droops: Vec<Option<(Inputs, Arc<DroopResult>)>>,
+    look: Look,
 }
 
 impl Results {
@@ -79,44 +123,99 @@ impl Results {
         let mut analysed = 0;
         for (i, rail) in board.rails.iter().enumerate() {
             let inputs = Inputs::of(board, rail);
-            if matches!(&self.entries[i], Some((known, _)) if *known == inputs) {
+            if matches!(&self.entries[i], Some((known, look, _)) if *known == inputs && *look == self.look) {
                 continue;
             }
             analysed += 1;
-            self.entries[i] = compute(board, i).map(|r| (inputs, Arc::new(r)));
+            self.entries[i] = compute_with(board, i, self.look).map(|r| (inputs, self.look, Arc::new(r)));
         }
         analysed
     }
 
+    /// How rails are looked at; the next [`Results::refresh`] analyses every rail again when it changes.
+    pub fn look(&self) -> Look {
+        self.look
+    }
+
+    /// Change how rails are looked at.
+    pub fn set_look(&mut self, look: Look) {
+        self.look = look;
+    }
+
+    /// The droop of rail `index` after a step of its ΔI, computed when its inputs changed since last asked (so a
+    /// drag re-runs it once per step only while the time view shows), else the kept one.
+    pub fn droop(&mut self, board: &Board, index: usize) -> Option<Arc<DroopResult>> {
+        let rail = board.rails.get(index)?;
+        self.droops.resize(board.rails.len(), None);
+        let inputs = Inputs::of(board, rail);
+        if let Some((known, d)) = &self.droops[index]
+            && *known == inputs
+        {
+            return Some(d.clone());
+        }
+        let d = Arc::new(droop(board, index, &droop_options()).map_err(|e| e.to_string()));
+        self.droops[index] = Some((inputs, d.clone()));
+        Some(d)
+    }
+
     /// The result of rail `index`, if it could be analysed.
     pub fn get(&self, index: usize) -> Option<&Arc<RailResult>> {
-        self.entries.get(index).and_then(|e| e.as_ref()).map(|(_, r)| r)
+        self.entries.get(index).and_then(|e| e.as_ref()).map(|(_, _, r)| r)
     }
 
     /// Forget everything (a new board was opened).
     pub fn clear(&mut self) {
         self.entries.clear();
+        self.droops.clear();
     }
 }
 
-/// Analyse one rail and prepare its plot data.
+/// How the window runs a droop: the engine's default window, stimulus and step, fewer points to draw.
+pub fn droop_options() -> DroopOptions {
+    DroopOptions { points: Some(DROOP_POINTS), ..DroopOptions::default() }
+}
+
+/// Analyse one rail as the check does (the verdict's view, nominal corner) and prepare its plot data.
 pub fn compute(board: &Board, index: usize) -> Option<RailResult> {
+    compute_with(board, index, Look::default())
+}
+
+/// Analyse one rail as `look` asks and prepare its plot data.
+pub fn compute_with(board: &Board, index: usize, look: Look) -> Option<RailResult> {
     let rail = board.rails.get(index)?;
     // The band as the engine will take it (given, or from the loads' rise times).
     let [lo, hi] = rail.band()?.hz;
     let view_hz = [lo / VIEW_MARGIN, hi * VIEW_MARGIN];
-    // The verdict's own view (the die when the rail gives a package) and the nominal corner, as the check takes
-    // them; only the density and the curves to keep are the window's.
+    // The chosen view (by default the verdict's own) and the nominal corner, as the check takes them; only the
+    // density and the curves to keep are the window's.
     let options = AnalysisOptions {
         band_points: BAND_POINTS,
         curve: Some((view_hz[0], view_hz[1], CURVE_POINTS)),
         branch_curves: true,
-        ..AnalysisOptions::default()
+        view: look.view,
+        corner: Corner::Nominal,
     };
     let analysis = analyze_rail(board, index, &options)?;
     let findings = explain(board, rail, &analysis);
     let plot = plot_data(&analysis, view_hz);
-    Some(RailResult { analysis, findings, plot })
+    // Second curves carry no per-group curves: they are drawn as one line each.
+    let beside = |view: Option<View>, corner: Corner| -> Option<Beside> {
+        let options = AnalysisOptions { branch_curves: false, view, corner, ..options };
+        let analysis = analyze_rail(board, index, &options)?;
+        let total = plot_data(&analysis, view_hz).total;
+        Some(Beside { analysis, total })
+    };
+    let other_view = if look.both_views && rail.package.is_some() {
+        let other = match analysis.view {
+            View::Die => View::Board,
+            View::Board => View::Die,
+        };
+        beside(Some(other), Corner::Nominal)
+    } else {
+        None
+    };
+    let worst = if look.worst_corner { beside(Some(analysis.view), Corner::Worst) } else { None };
+    Some(RailResult { analysis, findings, plot, other_view, worst })
 }
 
 /// A point in plot coordinates, or `None` where |Z| cannot be drawn on a log axis (zero, infinite, NaN).

@@ -24,6 +24,10 @@ pub struct Palette {
     pub highlight: Color32,
     /// Each branch's own curve, drawn faintly.
     pub branch: Color32,
+    /// The worst derating corner's curve.
+    pub worst: Color32,
+    /// The curve seen from the other node (board or die).
+    pub other_view: Color32,
     /// Colours given to pins in turn.
     pub pins: [Color32; 6],
 }
@@ -41,6 +45,8 @@ pub fn palette(dark: bool) -> Palette {
             violation_fill: Color32::from_rgba_unmultiplied(255, 90, 80, 40),
             highlight: Color32::from_rgba_unmultiplied(255, 230, 90, 60),
             branch: Color32::from_rgba_unmultiplied(200, 200, 200, 70),
+            worst: Color32::from_rgb(255, 150, 60),
+            other_view: Color32::from_rgb(150, 220, 160),
             pins: [
                 Color32::from_rgb(230, 140, 255),
                 Color32::from_rgb(80, 220, 220),
@@ -61,6 +67,8 @@ pub fn palette(dark: bool) -> Palette {
             violation_fill: Color32::from_rgba_unmultiplied(220, 40, 30, 35),
             highlight: Color32::from_rgba_unmultiplied(240, 190, 0, 70),
             branch: Color32::from_rgba_unmultiplied(60, 60, 60, 70),
+            worst: Color32::from_rgb(200, 90, 0),
+            other_view: Color32::from_rgb(30, 130, 60),
             pins: [
                 Color32::from_rgb(150, 40, 190),
                 Color32::from_rgb(0, 140, 140),
