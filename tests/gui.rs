@@ -405,3 +405,100 @@ fn a_band_from_the_loads_can_be_fixed_and_taken_back_and_the_die_view_is_named()
     click(&mut harness, "Take the band from the loads' rise times");
     assert_eq!(harness.state().board(), &board);
 }
+
+/// The verdict figures as the window writes them in one line for a second view or corner.
+fn one_line(a: &RailAnalysis) -> String {
+    format!(
+        "{}, worst |Z| {} at {}, margin {:+.1} dB",
+        if a.meets_target { "meets target" } else { "misses target" },
+        format(a.worst_ohm, Unit::Ohm),
+        format(a.worst_hz, Unit::Hertz),
+        a.margin_db
+    )
+}
+
+fn sensor_hub() -> Board {
+    hushrail::io::read_board(&common::root().join("sample_boards/sensor_hub.json")).unwrap()
+}
+
+#[test]
+fn switching_the_view_shows_the_engines_figures_for_that_view_and_both_curves_on_request() {
+    use hushrail::analysis::View;
+    let board = sensor_hub();
+    let core = board.rail_index("VCCINT").unwrap();
+    let at = |view| analyze_rail(&board, core, &AnalysisOptions { view: Some(view), ..Default::default() }).unwrap();
+    let (die, at_board) = (at(View::Die), at(View::Board));
+    assert_ne!(die.worst_ohm, at_board.worst_ohm, "the package must make a difference on this rail");
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, "VCCINT");
+    assert_shows(&harness, &die);
+
+    click(&mut harness, "the board node");
+    assert_shows(&harness, &at_board);
+    assert!(harness.query_by_label("seen at the board node (the check takes the verdict at the die)").is_some());
+
+    click(&mut harness, "draw both");
+    let other = format!("at the die: {}", one_line(&die));
+    assert!(harness.query_by_label(&other).is_some(), "the other view's figures: {other}");
+
+    click(&mut harness, "the die (the verdict's view)");
+    assert_shows(&harness, &die);
+    assert!(harness.query_by_label(&format!("at the board node: {}", one_line(&at_board))).is_some());
+}
+
+#[test]
+fn the_worst_corner_shows_the_engines_worst_figures_and_the_parts_that_lose_most() {
+    use hushrail::physics::Corner;
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let worst = analyze_rail(&board, rail, &AnalysisOptions { corner: Corner::Worst, ..Default::default() }).unwrap();
+    let nominal = engine(&board, rail);
+    assert_ne!(worst.worst_ohm, nominal.worst_ohm, "derating must change this rail");
+    let mut harness = window(board);
+    select_rail(&mut harness, "V3V3_IO");
+    let line = format!("worst derating corner: {}", one_line(&worst));
+    assert!(harness.query_by_label(&line).is_none(), "not shown until asked for");
+    click(&mut harness, "worst derating corner too");
+    assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
+    // The nominal verdict stays the main one.
+    assert_shows(&harness, &nominal);
+    assert!(harness.query_by_label_contains("loses most: ").is_some());
+}
+
+#[test]
+fn the_time_view_shows_the_engines_droop_and_follows_a_count_change() {
+    use hushrail::analysis::droop;
+    use hushrail::gui::results::droop_options;
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let d = droop(&board, rail, &droop_options()).unwrap();
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, "V3V3_IO");
+    click(&mut harness, "Voltage after a load step");
+    for line in hushrail::gui::droop_lines(&d) {
+        assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
+    }
+    click(&mut harness, "Show the worst-case on/off load pattern and the voltage it gives");
+    assert!(harness.query_by_label("worst-case pattern (load on where shaded)").is_some());
+
+    // A count change moves the droop to what the engine says for the new board.
+    let group = board.rails[rail].decaps.iter().position(|g| g.part == "mlcc-10u-0603").unwrap();
+    let count = board.rails[rail].decaps[group].count;
+    let edit = hushrail::gui::history::Edit::SetCount { rail, group, count: count + 20 };
+    harness.state_mut().edit(edit, "more", false).unwrap();
+    harness.run();
+    let after = droop(harness.state().board(), rail, &droop_options()).unwrap();
+    assert_ne!(after.droop_v, d.droop_v);
+    assert!(harness.query_by_label(&format!("droop {}", format(after.droop_v, Unit::Volt))).is_some());
+}
+
+#[test]
+fn a_rail_without_a_source_has_its_missing_droop_explained() {
+    let mut board = sample();
+    board.rails[0].source = None;
+    let reason = hushrail::analysis::droop(&board, 0, &hushrail::gui::results::droop_options()).unwrap_err();
+    let mut harness = window(board);
+    click(&mut harness, "Voltage after a load step");
+    assert!(harness.query_by_label("No droop for this rail").is_some());
+    assert!(harness.query_by_label(&reason.to_string()).is_some());
+}

@@ -115,7 +115,7 @@ fn losses(board: &crate::model::Board, a: &crate::analysis::RailAnalysis) -> Vec
                     _ => "",
                 };
                 let text = format!(
-                    "{} keeps {:.0} % ({} → {}{bias})",
+                    "{} keeps {:.0} % ({} to {}{bias})",
                     g.part,
                     ratio * 100.0,
                     format(nominal, Unit::Farad),

@@ -181,7 +181,7 @@ fn time_key(ui: &mut Ui, pal: &theme::Palette, d: &Droop, pattern: bool) {
         ui.spacing_mut().item_spacing.x = 4.0;
         ui.style_mut().wrap_mode = Some(egui::TextWrapMode::Extend);
         entry(ui, pal.curve, if d.node == View::Die { "at the die, after the step" } else { "after the step" });
-        entry(ui, pal.target, "allowed floor (nominal − voltage × ripple)");
+        entry(ui, pal.target, "allowed floor (nominal - voltage × ripple)");
         entry(ui, pal.band_edge, "nominal");
         if d.board_node.is_some() {
             entry(ui, pal.other_view, "at the board node");
