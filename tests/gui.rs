@@ -502,3 +502,46 @@ fn a_rail_without_a_source_has_its_missing_droop_explained() {
     assert!(harness.query_by_label("No droop for this rail").is_some());
     assert!(harness.query_by_label(&reason.to_string()).is_some());
 }
+
+/// Step the window (without insisting that it goes idle: a search in progress keeps asking for frames) until
+/// `label` shows, for at most `steps` frames a few milliseconds apart.
+fn step_until(harness: &mut Harness<'_, App>, label: &str, steps: usize) {
+    for _ in 0..steps {
+        if harness.query_by_label(label).is_some() {
+            return;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+        harness.step();
+    }
+    panic!("\"{label}\" never showed");
+}
+
+#[test]
+fn a_suggested_mix_applies_as_one_undo_step_and_the_rail_then_meets_target() {
+    let board = sample();
+    let rail = board.rail_index("VDDR").unwrap();
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, "VDDR");
+    click(&mut harness, "Suggest");
+    harness.get_by_label("Find mixes").click();
+    harness.step();
+    // 30 candidates take well under a second; allow a slow machine a minute.
+    step_until(&mut harness, "Apply option 1", 3000);
+    harness.run();
+    click(&mut harness, "Pin option 1");
+    assert!(harness.query_by_label("option 1").is_some(), "the option is pinned on the plot");
+    click(&mut harness, "Apply option 1");
+    let applied = harness.state().board().clone();
+    assert_ne!(applied, board);
+    assert!(engine(&applied, rail).meets_target, "the engine finds the rail meeting target with the applied mix");
+    assert_shows(&harness, &engine(&applied, rail));
+    // Every added part is on the board, and the rail's groups are the mix.
+    for g in &applied.rails[rail].decaps {
+        assert!(applied.part(&g.part).is_some(), "{} is on the board", g.part);
+        assert!(g.part.starts_with("shelf-"), "the mix replaced the rail's groups: {}", g.part);
+    }
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board, "one undo takes the whole mix back");
+    assert!(!harness.state().is_dirty());
+}

@@ -15,7 +15,8 @@ pub use findings::{Extremum, ViolationBand};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, View, magnitude_phase};
 pub use optimize::{
-    Candidate, MixEvaluator, MixOption, Objective, SuggestError, SuggestOptions, Suggestion, apply_mix, suggest,
+    Candidate, MixEvaluator, MixOption, Objective, SuggestError, SuggestOptions, Suggestion, apply_mix,
+    default_mounting_h, offered_parts, suggest,
 };
 pub use rail::{
     AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, sweep,

@@ -17,8 +17,9 @@
 
 use super::network::{Network, View};
 use super::rail::{AnalysisOptions, analyze_rail, target_impedance};
-use crate::model::{Board, DecapGroup, Part};
+use crate::model::{Board, DecapGroup, Part, Rail};
 use crate::physics::SeriesRlc;
+use crate::physics::mounting::group_mounting_h;
 use num_complex::Complex64;
 use std::collections::HashSet;
 
@@ -417,6 +418,29 @@ fn pareto(mut mixes: Vec<Judged>) -> Vec<Judged> {
         }
     }
     front
+}
+
+/// The mounting inductance candidates get when the user gives none: the mean of the rail's groups' (so a mix is
+/// mounted like the parts already there), or 0.5 nH for a rail with no groups (a typical small-case mounting
+/// with short traces and one via per pad; common practice, from memory). H.
+pub fn default_mounting_h(rail: &Rail) -> f64 {
+    if rail.decaps.is_empty() {
+        0.5e-9
+    } else {
+        rail.decaps.iter().map(group_mounting_h).sum::<f64>() / rail.decaps.len() as f64
+    }
+}
+
+/// Every part offered by `sources` that is rated for `rail_v` (a part without a rating is offered: its data must
+/// say), once per id, the first source's first.
+pub fn offered_parts<'a>(sources: impl IntoIterator<Item = &'a Board>, rail_v: f64) -> Vec<Part> {
+    let mut out: Vec<Part> = Vec::new();
+    for p in sources.into_iter().flat_map(|b| b.parts.iter()) {
+        if p.rated_voltage_v.is_none_or(|v| v >= rail_v) && !out.iter().any(|q| q.id == p.id) {
+            out.push(p.clone());
+        }
+    }
+    out
 }
 
 /// The board with a mix fitted on rail `rail_index`: candidates not yet on the board are added to its parts,

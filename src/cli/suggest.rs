@@ -1,10 +1,9 @@
 //! `hushrail suggest`: mixes of candidate parts that meet a rail's target at the least cost, count or area.
 
 use super::{EXIT_MISS, EXIT_PASS, emit, find_rail, load_board};
-use crate::analysis::{Candidate, Objective, SuggestOptions, suggest};
+use crate::analysis::{Candidate, Objective, SuggestOptions, default_mounting_h, offered_parts, suggest};
 use crate::io::read_board;
 use crate::model::Board;
-use crate::physics::mounting::group_mounting_h;
 use crate::units::{Unit, format, parse};
 use clap::Args;
 use serde_json::json;
@@ -71,11 +70,7 @@ pub fn run(args: &SuggestArgs) -> Result<i32, String> {
     let index = board.rail_index(&rail.name).unwrap_or(0);
     let mounting_h = match &args.mounting {
         Some(text) => parse(text, Unit::Henry).map_err(|e| format!("--mounting: {e}"))?,
-        None if !rail.decaps.is_empty() => {
-            rail.decaps.iter().map(group_mounting_h).sum::<f64>() / rail.decaps.len() as f64
-        }
-        // A typical small-case mounting with short traces and one via per pad (common practice, from memory).
-        None => 0.5e-9,
+        None => default_mounting_h(rail),
     };
     let candidates = gather(args, &board, rail.voltage_v)?
         .into_iter()
@@ -164,21 +159,18 @@ fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<Vec<crate::m
         None => None,
     };
     let mut out: Vec<crate::model::Part> = Vec::new();
-    let mut push = |p: &crate::model::Part| {
-        if !out.iter().any(|q| q.id == p.id) {
-            out.push(p.clone());
-        }
-    };
     if args.candidates.is_empty() {
-        // Everything offered, rated for the rail (a part without a rating is offered: its data must say).
-        let rated = |p: &&crate::model::Part| p.rated_voltage_v.is_none_or(|v| v >= rail_v);
-        match (&shelf, &other) {
-            (None, None) => board.parts.iter().filter(rated).for_each(&mut push),
-            _ => {
-                shelf.iter().chain(&other).flat_map(|b| b.parts.iter()).filter(rated).for_each(&mut push);
-            }
-        }
+        // Everything offered, rated for the rail.
+        out = match (&shelf, &other) {
+            (None, None) => offered_parts([board], rail_v),
+            _ => offered_parts(shelf.iter().chain(&other), rail_v),
+        };
     } else {
+        let mut push = |p: &crate::model::Part| {
+            if !out.iter().any(|q| q.id == p.id) {
+                out.push(p.clone());
+            }
+        };
         for id in &args.candidates {
             let found = board
                 .part(id)

@@ -39,6 +39,8 @@ pub enum SideTab {
     Rail,
     /// The board's parts.
     Parts,
+    /// Suggested mixes for the selected rail.
+    Suggest,
     /// The method in brief and the cautions.
     Help,
 }
@@ -94,6 +96,7 @@ pub struct App {
     /// The time view also draws the worst-case load pattern.
     pub(super) show_worst_pattern: bool,
     pub(super) pattern: Option<super::time_view::PatternView>,
+    pub(super) suggest: super::suggest_panel::SuggestState,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
     /// A board file that could not be opened, shown until dismissed.
@@ -131,6 +134,7 @@ impl App {
             central_tab: CentralTab::Impedance,
             show_worst_pattern: false,
             pattern: None,
+            suggest: Default::default(),
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
             load_error: None,
@@ -272,6 +276,7 @@ impl App {
                     history: History::new(),
                 };
                 self.results.clear();
+                self.suggest.done = None;
                 self.fields.clear();
                 self.pins.clear();
                 self.home_views.clear();
@@ -530,6 +535,7 @@ impl App {
                 history: History::new(),
             };
             self.results.clear();
+            self.suggest.done = None;
             self.fields.clear();
             self.pins.clear();
             self.home_views.clear();
@@ -686,6 +692,7 @@ impl App {
                 };
                 self.doc = Document { board, path: left.origin.clone(), label, history: History::new_unsaved() };
                 self.results.clear();
+                self.suggest.done = None;
                 self.fields.clear();
                 self.pins.clear();
                 self.home_views.clear();

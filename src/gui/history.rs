@@ -61,6 +61,12 @@ pub enum Edit {
         /// The new name.
         name: String,
     },
+    /// Replace the whole board at once: for a change that touches parts and rails together (a suggested mix
+    /// applied adds parts and sets a rail's groups) and must be one undo step.
+    SetBoard {
+        /// The board as it should be.
+        value: Box<Board>,
+    },
 }
 
 /// Why an edit did not land: one or more problems, each with the board path it concerns.
@@ -170,6 +176,10 @@ impl Edit {
                 }
                 let old = std::mem::replace(&mut board.name, name.clone());
                 Ok(Edit::SetBoardName { name: old })
+            }
+            Edit::SetBoard { value } => {
+                let old = std::mem::replace(board, (**value).clone());
+                Ok(Edit::SetBoard { value: Box::new(old) })
             }
         }
     }

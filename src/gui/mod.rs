@@ -16,6 +16,7 @@ mod plot;
 mod rail_editor;
 mod rails_list;
 pub mod results;
+pub mod suggest_panel;
 pub mod theme;
 mod time_view;
 

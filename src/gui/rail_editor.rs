@@ -64,6 +64,7 @@ impl App {
         ui.horizontal(|ui| {
             ui.selectable_value(&mut self.side_tab, SideTab::Rail, RichText::new("Rail inputs").strong());
             ui.selectable_value(&mut self.side_tab, SideTab::Parts, RichText::new("Parts").strong());
+            ui.selectable_value(&mut self.side_tab, SideTab::Suggest, RichText::new("Suggest").strong());
             ui.selectable_value(&mut self.side_tab, SideTab::Help, RichText::new("Help and cautions").strong());
         });
         ui.separator();
@@ -71,6 +72,7 @@ impl App {
             match self.side_tab {
                 SideTab::Rail => self.rail_editor(ui),
                 SideTab::Parts => self.parts_table(ui),
+                SideTab::Suggest => self.suggest_panel(ui),
                 SideTab::Help => super::help::help(ui),
             }
         });

@@ -4,7 +4,9 @@
 //! plot-ready points (log10 of frequency and of |Z|). A rail is analysed again only when its own inputs or the
 //! parts it uses change, so dragging one count re-analyses one rail, not the board.
 
-use crate::analysis::{AnalysisOptions, Droop, DroopOptions, Finding, RailAnalysis, View, analyze_rail, droop, explain};
+use crate::analysis::{
+    AnalysisOptions, Droop, DroopOptions, Finding, RailAnalysis, View, analyze_rail, droop, explain,
+};
 use crate::model::{Board, Part, Rail};
 use crate::physics::Corner;
 use std::sync::Arc;
@@ -94,12 +96,7 @@ struct Inputs {
 impl Inputs {
     fn of(board: &Board, rail: &Rail) -> Inputs {
         let parts = rail.decaps.iter().filter_map(|g| board.part(&g.part).cloned()).collect();
-        Inputs {
-            rail: rail.clone(),
-            parts,
-            temperature_c: board.temperature_c,
-            generic_dc_bias: board.generic_dc_bias,
-        }
+        Inputs { rail: rail.clone(), parts, temperature_c: board.temperature_c, generic_dc_bias: board.generic_dc_bias }
     }
 }
 

@@ -58,8 +58,11 @@ impl App {
                 return;
             }
         };
-        let (word, color) =
-            if d.meets { ("droop within the allowed band", pal.ok) } else { ("droop beyond the allowed band", pal.fail) };
+        let (word, color) = if d.meets {
+            ("droop within the allowed band", pal.ok)
+        } else {
+            ("droop beyond the allowed band", pal.fail)
+        };
         ui.horizontal_wrapped(|ui| {
             ui.label(RichText::new(word).strong().color(color));
             ui.label(format!(

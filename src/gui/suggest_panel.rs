@@ -1,0 +1,378 @@
+//! "Suggest" for the selected rail: choose candidate parts (the built-in shelf, the board's own parts, another
+//! board file), the objective and the limits; the search runs on a thread so the window stays live; the options
+//! come back with their figures, can be pinned on the plot to compare, and one can be applied as a single
+//! undoable edit.
+
+use super::app::App;
+use super::history::Edit;
+use super::pins::Pin;
+use super::results::{Look, compute_with};
+use super::theme;
+use crate::analysis::{
+    Candidate, Objective, SuggestOptions, Suggestion, apply_mix, default_mounting_h, offered_parts, suggest,
+};
+use crate::io::read_board_keeping_unusable;
+use crate::model::Board;
+use crate::units::{Unit, format};
+use egui::{RichText, Ui};
+use std::collections::BTreeSet;
+use std::path::PathBuf;
+use std::sync::mpsc::{Receiver, TryRecvError, channel};
+
+/// What a search was asked on, kept with its answer so that "apply" fits the mix to the board it was found for.
+#[derive(Debug, Clone)]
+pub struct SearchRun {
+    /// Rail index.
+    pub rail: usize,
+    /// The rail's name, to say which rail the options are for.
+    pub rail_name: String,
+    /// The board's revision when the search started: a later edit makes the options stale.
+    pub revision: u64,
+    /// The candidates, in the order of each option's counts.
+    pub candidates: Vec<Candidate>,
+    /// Whether the rail's existing groups were kept.
+    pub keep_existing: bool,
+}
+
+/// The suggest panel's choices and its last search.
+pub struct SuggestState {
+    /// Offer the built-in shelf's parts.
+    pub from_shelf: bool,
+    /// Offer the board's own parts.
+    pub from_board: bool,
+    /// Another board file whose parts are offered, and what reading it gave.
+    pub other: Option<(PathBuf, Result<Board, String>)>,
+    /// Part ids the user took out of the offer.
+    pub excluded: BTreeSet<String>,
+    /// What to minimise.
+    pub objective: Objective,
+    /// Most parts in all.
+    pub max_total: u32,
+    /// Most parts of one candidate.
+    pub max_per_part: u32,
+    /// How many options to show.
+    pub options: usize,
+    /// Keep the rail's existing groups (else the mix replaces them).
+    pub keep_existing: bool,
+    shelf: Option<Result<Board, String>>,
+    running: Option<(SearchRun, Receiver<Result<Suggestion, String>>)>,
+    /// The last search's run and answer.
+    pub done: Option<(SearchRun, Result<Suggestion, String>)>,
+}
+
+impl Default for SuggestState {
+    fn default() -> Self {
+        let d = SuggestOptions::default();
+        SuggestState {
+            from_shelf: true,
+            from_board: false,
+            other: None,
+            excluded: BTreeSet::new(),
+            objective: d.objective,
+            max_total: d.max_total,
+            max_per_part: d.max_per_part,
+            options: d.options,
+            keep_existing: d.keep_existing,
+            shelf: None,
+            running: None,
+            done: None,
+        }
+    }
+}
+
+impl SuggestState {
+    /// True while a search runs.
+    pub fn is_running(&self) -> bool {
+        self.running.is_some()
+    }
+
+    /// The parts offered for a rail at `rail_v` by the chosen sources, before the user's exclusions.
+    fn offered(&mut self, board: &Board, rail_v: f64) -> Vec<crate::model::Part> {
+        if self.from_shelf && self.shelf.is_none() {
+            self.shelf = Some(crate::samples::shelf().map_err(|e| e.lines().join("; ")));
+        }
+        let shelf = self.shelf.as_ref().and_then(|s| s.as_ref().ok()).filter(|_| self.from_shelf);
+        let own = Some(board).filter(|_| self.from_board);
+        let other = self.other.as_ref().and_then(|(_, b)| b.as_ref().ok());
+        offered_parts(shelf.into_iter().chain(own).chain(other), rail_v)
+    }
+
+    /// Take the answer of a running search when it has come.
+    fn poll(&mut self) {
+        let Some((_, rx)) = &self.running else { return };
+        let answer = match rx.try_recv() {
+            Ok(answer) => answer,
+            Err(TryRecvError::Empty) => return,
+            Err(TryRecvError::Disconnected) => Err("the search stopped without an answer".into()),
+        };
+        if let Some((run, _)) = self.running.take() {
+            self.done = Some((run, answer));
+        }
+    }
+}
+
+/// The parts of an option in words: "3 × a + 5 × b".
+fn mix_words(candidates: &[Candidate], counts: &[u32]) -> String {
+    let parts: Vec<String> =
+        candidates.iter().zip(counts).filter(|(_, n)| **n > 0).map(|(c, n)| format!("{n} × {}", c.part.id)).collect();
+    if parts.is_empty() { "no parts added".into() } else { parts.join(" + ") }
+}
+
+impl App {
+    /// Start a search for the selected rail with the panel's choices.
+    pub fn start_suggest(&mut self) {
+        let index = self.selected_rail;
+        let Some(rail) = self.doc.board.rails.get(index).cloned() else { return };
+        let s = &mut self.suggest;
+        let mounting_h = default_mounting_h(&rail);
+        let candidates: Vec<Candidate> = s
+            .offered(&self.doc.board, rail.voltage_v)
+            .into_iter()
+            .filter(|p| !s.excluded.contains(&p.id) && p.unusable().is_none())
+            .map(|part| Candidate { part, mounting_h })
+            .collect();
+        let options = SuggestOptions {
+            objective: s.objective,
+            max_total: s.max_total,
+            max_per_part: s.max_per_part,
+            options: s.options.max(1),
+            keep_existing: s.keep_existing,
+            ..SuggestOptions::default()
+        };
+        let run = SearchRun {
+            rail: index,
+            rail_name: rail.name.clone(),
+            revision: self.doc.history.revision(),
+            candidates: candidates.clone(),
+            keep_existing: s.keep_existing,
+        };
+        let board = self.doc.board.clone();
+        let (tx, rx) = channel();
+        // The search takes up to about a second: on its own thread the window keeps drawing meanwhile. The
+        // receiver may be gone when the answer comes (a new board was opened); that is fine.
+        std::thread::spawn(move || {
+            let _ = tx.send(suggest(&board, index, &candidates, &options).map_err(|e| e.to_string()));
+        });
+        s.running = Some((run, rx));
+        s.done = None;
+    }
+
+    /// Pin option `n` of the last search on the plot, drawn from the board with that mix applied.
+    pub fn pin_option(&mut self, n: usize) {
+        let Some((run, Ok(s))) = &self.suggest.done else { return };
+        let Some(option) = s.options.get(n) else { return };
+        if run.rail >= self.doc.board.rails.len() {
+            return;
+        }
+        let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing);
+        let Some(result) =
+            compute_with(&board, run.rail, Look { both_views: false, worst_corner: false, ..self.results.look() })
+        else {
+            return;
+        };
+        let pal = theme::palette(self.prefs.dark);
+        let color = pal.pins[(self.next_pin - 1) % pal.pins.len()];
+        self.next_pin += 1;
+        self.pins.push(Pin::of(format!("option {}", n + 1), run.rail_name.clone(), color, &result));
+    }
+
+    /// Apply option `n` of the last search to the board as one undoable edit: the candidates it uses are added
+    /// to the board's parts and the rail's groups are set.
+    pub fn apply_option(&mut self, n: usize) {
+        let Some((run, Ok(s))) = &self.suggest.done else { return };
+        let Some(option) = s.options.get(n) else { return };
+        if run.revision != self.doc.history.revision() || run.rail >= self.doc.board.rails.len() {
+            self.status = Some(("The board changed since this search: find mixes again.".into(), true));
+            return;
+        }
+        let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing);
+        let label = format!("apply suggested option {} to {}", n + 1, run.rail_name);
+        match self.edit(Edit::SetBoard { value: Box::new(board) }, label.clone(), false) {
+            Ok(()) => {
+                // The options were found for the board as it was; after the edit they are history.
+                self.suggest.done = None;
+                self.status = Some((format!("Applied: {label}. Undo takes it back in one step."), false));
+            }
+            Err(problems) => {
+                let why: Vec<String> = problems.iter().map(|p| format!("{}: {}", p.path, p.reason)).collect();
+                self.status = Some((format!("Could not apply the option: {}", why.join("; ")), true));
+            }
+        }
+    }
+
+    /// The suggest panel.
+    pub(super) fn suggest_panel(&mut self, ui: &mut Ui) {
+        let pal = theme::palette(ui.visuals().dark_mode);
+        self.suggest.poll();
+        let index = self.selected_rail;
+        let Some(rail) = self.doc.board.rails.get(index).cloned() else { return };
+        ui.label(RichText::new(format!("Find capacitor mixes for {}", rail.name)).strong());
+        ui.label(
+            RichText::new(
+                "Mixes of the candidate parts that meet the target over the band, least first by the objective. \
+                 Shelf values are generic, typical and recalled: replace them with your parts' data.",
+            )
+            .small()
+            .weak(),
+        );
+        let s = &mut self.suggest;
+        ui.checkbox(&mut s.from_shelf, "parts from the built-in shelf");
+        ui.checkbox(&mut s.from_board, "this board's own parts");
+        ui.horizontal(|ui| {
+            if ui.button("Parts from another board file…").clicked()
+                && let Some(path) = super::files::pick_open(None)
+            {
+                let read = read_board_keeping_unusable(&path).map_err(|e| e.lines().join("; "));
+                s.other = Some((path, read));
+            }
+            if s.other.is_some() && ui.small_button("Leave it out").clicked() {
+                s.other = None;
+            }
+        });
+        if let Some((path, read)) = &s.other {
+            match read {
+                Ok(b) => ui.label(format!("{} ({} parts)", path.display(), b.parts.len())),
+                Err(e) => ui.label(RichText::new(e).color(pal.fail)),
+            };
+        }
+        let offered = s.offered(&self.doc.board, rail.voltage_v);
+        let chosen = offered.iter().filter(|p| !s.excluded.contains(&p.id)).count();
+        egui::CollapsingHeader::new(format!("Candidates: {chosen} of {} offered", offered.len()))
+            .id_salt("suggest-candidates")
+            .show(ui, |ui| {
+                ui.label(
+                    RichText::new(format!(
+                        "Parts rated below the rail's {} are not offered.",
+                        format(rail.voltage_v, Unit::Volt)
+                    ))
+                    .small()
+                    .weak(),
+                );
+                for p in &offered {
+                    let mut on = !s.excluded.contains(&p.id);
+                    let text = format!(
+                        "{} · {} · {}",
+                        p.id,
+                        format(p.capacitance_f, Unit::Farad),
+                        p.case.clone().unwrap_or_else(|| p.kind.name().to_string())
+                    );
+                    if ui.checkbox(&mut on, text).changed() {
+                        if on {
+                            s.excluded.remove(&p.id);
+                        } else {
+                            s.excluded.insert(p.id.clone());
+                        }
+                    }
+                }
+            });
+        egui::Grid::new("suggest-limits").num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
+            ui.label("Least");
+            ui.horizontal(|ui| {
+                ui.radio_value(&mut s.objective, Objective::Cost, "cost");
+                ui.radio_value(&mut s.objective, Objective::Count, "count");
+                ui.radio_value(&mut s.objective, Objective::Area, "area");
+            });
+            ui.end_row();
+            let l = ui.label("Most parts in all");
+            ui.add(egui::DragValue::new(&mut s.max_total).range(1..=2000)).labelled_by(l.id);
+            ui.end_row();
+            let l = ui.label("Most of one part");
+            ui.add(egui::DragValue::new(&mut s.max_per_part).range(1..=500)).labelled_by(l.id);
+            ui.end_row();
+            let l = ui.label("Options to show");
+            ui.add(egui::DragValue::new(&mut s.options).range(1..=10)).labelled_by(l.id);
+            ui.end_row();
+        });
+        ui.checkbox(&mut s.keep_existing, "keep the rail's existing groups (else the mix replaces them)");
+        ui.label(
+            RichText::new(format!(
+                "Each candidate is mounted with {} (the mean of the rail's groups).",
+                format(default_mounting_h(&rail), Unit::Henry)
+            ))
+            .small()
+            .weak(),
+        );
+        let running = s.is_running();
+        if ui.add_enabled(!running && chosen > 0, egui::Button::new("Find mixes")).clicked() {
+            self.start_suggest();
+        }
+        if self.suggest.is_running() {
+            ui.horizontal(|ui| {
+                ui.add(egui::Spinner::new());
+                ui.label("Searching…");
+            });
+            // Look for the answer again shortly, even if the user does nothing.
+            ui.ctx().request_repaint_after(std::time::Duration::from_millis(50));
+            return;
+        }
+        self.suggest_options(ui, &pal);
+    }
+
+    fn suggest_options(&mut self, ui: &mut Ui, pal: &theme::Palette) {
+        let Some((run, answer)) = &self.suggest.done else { return };
+        ui.separator();
+        let s = match answer {
+            Ok(s) => s,
+            Err(reason) => {
+                ui.label(RichText::new(reason).color(pal.fail));
+                return;
+            }
+        };
+        let stale = run.revision != self.doc.history.revision();
+        ui.label(
+            RichText::new(format!(
+                "{} options for {}{}",
+                s.options.len(),
+                run.rail_name,
+                if s.exhaustive { " (every combination tried)" } else { "" }
+            ))
+            .strong(),
+        );
+        if stale {
+            ui.label(
+                RichText::new("The board changed since this search: find mixes again to apply one.").color(pal.note),
+            );
+        }
+        if let Some(limit) = &s.limit {
+            ui.label(RichText::new(format!("No mix meets target: {limit}")).color(pal.fail));
+        }
+        let (mut pin, mut apply) = (None, None);
+        for (n, o) in s.options.iter().enumerate() {
+            egui::Frame::group(ui.style()).show(ui, |ui| {
+                ui.label(
+                    RichText::new(format!("option {}: {}", n + 1, mix_words(&run.candidates, &o.counts))).strong(),
+                );
+                let (word, color) = if o.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
+                ui.horizontal_wrapped(|ui| {
+                    ui.label(RichText::new(word).color(color));
+                    ui.label(format!(
+                        "worst |Z| {} at {}, margin {:+.1} dB",
+                        format(o.worst_ohm, Unit::Ohm),
+                        format(o.worst_hz, Unit::Hertz),
+                        o.margin_db
+                    ));
+                });
+                ui.label(format!("{} parts · cost {:.3} · area {:.1} mm²", o.count, o.cost, o.area_m2 * 1e6));
+                ui.horizontal(|ui| {
+                    if ui.button(format!("Pin option {}", n + 1)).clicked() {
+                        pin = Some(n);
+                    }
+                    if ui.add_enabled(!stale, egui::Button::new(format!("Apply option {}", n + 1))).clicked() {
+                        apply = Some(n);
+                    }
+                });
+            });
+        }
+        if !s.options.is_empty() && ui.button("Pin every option").clicked() {
+            for n in 0..s.options.len() {
+                self.pin_option(n);
+            }
+        }
+        if let Some(n) = pin {
+            self.pin_option(n);
+        }
+        if let Some(n) = apply {
+            self.apply_option(n);
+        }
+    }
+}
