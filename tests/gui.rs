@@ -545,3 +545,75 @@ fn a_suggested_mix_applies_as_one_undo_step_and_the_rail_then_meets_target() {
     assert_eq!(harness.state().board(), &board, "one undo takes the whole mix back");
     assert!(!harness.state().is_dirty());
 }
+
+/// A copy of the sample board in a fresh folder with two measured parts on its first rail: one whose Touchstone
+/// file is good, one whose file has a line with a value missing.
+fn board_with_measured_parts(dir: &Path) -> PathBuf {
+    let touchstone = common::root().join("tests/touchstone");
+    std::fs::copy(touchstone.join("bulk_ri_hz_50.s1p"), dir.join("good.s1p")).unwrap();
+    std::fs::copy(touchstone.join("bad/wrong_columns.s1p"), dir.join("broken.s1p")).unwrap();
+    let text = std::fs::read_to_string(common::root().join("sample_boards/edge_camera.json")).unwrap();
+    let mut b: serde_json::Value = serde_json::from_str(&text).unwrap();
+    for (id, file) in [("meas-good", "good.s1p"), ("meas-broken", "broken.s1p")] {
+        b["parts"].as_array_mut().unwrap().push(serde_json::json!({
+            "id": id, "kind": "measured", "touchstone": file, "fixture": "one-port"
+        }));
+        b["rails"][0]["decaps"].as_array_mut().unwrap().push(serde_json::json!({
+            "part": id, "count": 1, "mounting_h": 0.8e-9
+        }));
+    }
+    let path = dir.join("measured.json");
+    std::fs::write(&path, serde_json::to_string_pretty(&b).unwrap()).unwrap();
+    path
+}
+
+#[test]
+fn a_board_with_a_broken_measured_part_opens_with_that_part_marked_unusable_and_the_good_one_fitted() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = board_with_measured_parts(dir.path());
+    assert!(hushrail::io::read_board(&path).is_err(), "the command line's strict reader refuses it");
+    let expected = hushrail::io::read_board_keeping_unusable(&path).unwrap();
+    let broken = expected.part("meas-broken").unwrap().unusable().expect("marked unusable");
+    assert!(broken.contains("broken.s1p"), "{broken}");
+    let good = expected.part("meas-good").unwrap();
+    assert!(good.unusable().is_none());
+
+    let app = App::open(Some(&path), hushrail::gui::files::Store::new(None));
+    // A tall window, so that the part's own rows below the table show without scrolling.
+    let mut harness =
+        Harness::builder().with_size([1280.0, 1600.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    assert_eq!(harness.state().path(), Some(path.as_path()), "the board opened");
+    assert_shows(&harness, &engine(&expected, 0));
+    click(&mut harness, "Parts");
+    assert!(harness.query_by_label("unusable").is_some(), "the table marks the broken part");
+    click(&mut harness, "meas-good");
+    for (value, unit) in [(good.capacitance_f, Unit::Farad), (good.esr_ohm, Unit::Ohm), (good.esl_h, Unit::Henry)] {
+        let text = format!("{} fitted (read-only)", format(value, unit));
+        assert!(harness.query_by_label(&text).is_some(), "shown: {text}");
+    }
+    // (The broken part's row is above the good one's: a tooltip over it would cover the good one's.)
+    click(&mut harness, "meas-broken");
+    assert!(harness.query_by_label(&format!("unusable: {broken}")).is_some(), "the reason with file and line");
+}
+
+#[test]
+fn the_window_writes_the_same_report_as_the_command_line() {
+    let dir = tempfile::tempdir().unwrap();
+    let board_path = dir.path().join("edge_camera.json");
+    std::fs::copy(common::root().join("sample_boards/edge_camera.json"), &board_path).unwrap();
+    let board = hushrail::io::read_board(&board_path).unwrap();
+    let mut app = App::open(Some(&board_path), hushrail::gui::files::Store::new(None));
+    let out = dir.path().join("report.html");
+    assert!(app.save_report_to(&out));
+    let written = std::fs::read_to_string(&out).unwrap();
+    let droops: Vec<_> = (0..board.rails.len())
+        .map(|i| hushrail::analysis::droop(&board, i, &hushrail::analysis::DroopOptions::default()))
+        .collect();
+    let context =
+        hushrail::io::ReportContext { source: board_path.display().to_string(), date: hushrail::io::utc_date_today() };
+    assert_eq!(written, hushrail::io::report_html(&board, &context, Some(&droops)));
+    for rail in &board.rails {
+        assert!(written.contains(&rail.name));
+    }
+}

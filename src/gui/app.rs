@@ -7,13 +7,13 @@ use super::number_field::Fields;
 use super::pins::Pin;
 use super::results::Results;
 use super::theme;
-use crate::io::{BoardError, read_board, write_board};
+use crate::io::{BoardError, read_board_keeping_unusable, write_board};
 use crate::model::Board;
 use egui::{Key, KeyboardShortcut, Modifiers, RichText, Ui, ViewportCommand};
 use std::path::{Path, PathBuf};
 
 /// What the status line says when a file dialog comes back without a file.
-const NO_FILE_CHOSEN: &str = "No file chosen (if no dialog appeared, this desktop offers no file-dialog service: \
+pub(super) const NO_FILE_CHOSEN: &str = "No file chosen (if no dialog appeared, this desktop offers no file-dialog service: \
                               drop a board file onto the window instead).";
 
 /// Seconds between autosaves of unsaved work.
@@ -97,6 +97,9 @@ pub struct App {
     pub(super) show_worst_pattern: bool,
     pub(super) pattern: Option<super::time_view::PatternView>,
     pub(super) suggest: super::suggest_panel::SuggestState,
+    /// Where the plot (or the time view's plot) was drawn last frame, in points: what a PNG of the plot takes.
+    pub(super) plot_rect: Option<egui::Rect>,
+    pub(super) shot: Option<super::exports::PendingShot>,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
     /// A board file that could not be opened, shown until dismissed.
@@ -135,6 +138,8 @@ impl App {
             show_worst_pattern: false,
             pattern: None,
             suggest: Default::default(),
+            plot_rect: None,
+            shot: None,
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
             load_error: None,
@@ -162,7 +167,7 @@ impl App {
         let sample_label = format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME);
         let mut app = match path {
             None => App::new_with_board(sample(), sample_label, None),
-            Some(p) => match read_board(p) {
+            Some(p) => match read_board_keeping_unusable(p) {
                 Ok(board) => App::new_with_board(board, file_label(p), Some(p.to_path_buf())),
                 Err(e) => {
                     let mut app = App::new_with_board(sample(), sample_label, None);
@@ -267,7 +272,7 @@ impl App {
 
     /// Open a board file now. A broken file is shown with its errors and the current board stays.
     pub fn open_now(&mut self, path: &Path) {
-        match read_board(path) {
+        match read_board_keeping_unusable(path) {
             Ok(board) => {
                 self.doc = Document {
                     board,
@@ -356,6 +361,7 @@ impl App {
             self.theme_applied = Some(self.prefs.dark);
         }
         self.handle_input(&ctx);
+        self.poll_screenshot();
         self.results.refresh(&self.doc.board);
         if self.selected_rail >= self.doc.board.rails.len() {
             self.selected_rail = self.doc.board.rails.len().saturating_sub(1);
@@ -486,6 +492,15 @@ impl App {
                 if ui.add(egui::Button::new("Save as…").shortcut_text("Ctrl+Shift+S")).clicked() {
                     ui.close();
                     self.save_as();
+                }
+                ui.separator();
+                if ui.button("Save the review report (HTML)…").clicked() {
+                    ui.close();
+                    self.save_report();
+                }
+                if ui.button("Save the plot as PNG…").clicked() {
+                    ui.close();
+                    self.save_plot_png(ui.ctx());
                 }
                 ui.separator();
                 if ui.button("Quit").clicked() {
@@ -684,7 +699,7 @@ impl App {
 
     /// Bring back work autosaved by an earlier session, as unsaved changes to the file it came from.
     fn restore(&mut self, left: &LeftOver) {
-        match read_board(&left.board_file) {
+        match read_board_keeping_unusable(&left.board_file) {
             Ok(board) => {
                 let label = match &left.origin {
                     Some(p) => format!("{} (restored)", file_label(p)),

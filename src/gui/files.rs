@@ -191,6 +191,25 @@ pub fn pick_save(current: Option<&Path>, board_name: &str) -> Option<PathBuf> {
 }
 
 /// A file-name-friendly form of a board's name.
+/// Ask where to save an export (native dialog): a file of type `what` ending in `.ext`, named after the board
+/// and `suffix`, beside the board file when it has one.
+pub fn pick_export(
+    what: &str,
+    ext: &str,
+    board_path: Option<&Path>,
+    board_name: &str,
+    suffix: &str,
+) -> Option<PathBuf> {
+    let mut dialog = rfd::FileDialog::new()
+        .add_filter(what, &[ext])
+        .set_title(format!("Save the {what} as"))
+        .set_file_name(format!("{}{suffix}.{ext}", slug(board_name)));
+    if let Some(dir) = board_path.and_then(|p| p.parent()) {
+        dialog = dialog.set_directory(dir);
+    }
+    dialog.save_file()
+}
+
 fn slug(name: &str) -> String {
     let s: String =
         name.chars().map(|c| if c.is_ascii_alphanumeric() { c.to_ascii_lowercase() } else { '_' }).collect();

@@ -82,9 +82,17 @@ impl App {
                     self.selected_part = pi;
                 }
                 ui.label(part.kind.name());
-                ui.label(format(part.capacitance_f, Unit::Farad));
-                ui.label(format(part.esr_ohm, Unit::Ohm));
-                ui.label(format(part.esl_h, Unit::Henry));
+                if let Some(why) = part.unusable() {
+                    ui.label(RichText::new("unusable").color(pal.fail)).on_hover_text(why);
+                    ui.label("");
+                    ui.label("");
+                } else {
+                    // A measured part's figures are fitted to its data, not typed: say so in the row.
+                    let fitted = if part.kind == PartKind::Measured { " (fitted)" } else { "" };
+                    ui.label(format!("{}{fitted}", format(part.capacitance_f, Unit::Farad)));
+                    ui.label(format(part.esr_ohm, Unit::Ohm));
+                    ui.label(format(part.esl_h, Unit::Henry));
+                }
                 ui.end_row();
             }
         });
@@ -167,11 +175,26 @@ impl App {
             }
             ui.end_row();
 
-            part_number(ui, fields, doc, at, &part, "C", "capacitance_f", part.capacitance_f, Unit::Farad, |p, v| {
-                p.capacitance_f = v
-            });
-            part_number(ui, fields, doc, at, &part, "ESR", "esr_ohm", part.esr_ohm, Unit::Ohm, |p, v| p.esr_ohm = v);
-            part_number(ui, fields, doc, at, &part, "ESL", "esl_h", part.esl_h, Unit::Henry, |p, v| p.esl_h = v);
+            if part.kind == PartKind::Measured {
+                measured_rows(ui, &part, pal.fail);
+            } else {
+                part_number(
+                    ui,
+                    fields,
+                    doc,
+                    at,
+                    &part,
+                    "C",
+                    "capacitance_f",
+                    part.capacitance_f,
+                    Unit::Farad,
+                    |p, v| p.capacitance_f = v,
+                );
+                part_number(ui, fields, doc, at, &part, "ESR", "esr_ohm", part.esr_ohm, Unit::Ohm, |p, v| {
+                    p.esr_ohm = v
+                });
+                part_number(ui, fields, doc, at, &part, "ESL", "esl_h", part.esl_h, Unit::Henry, |p, v| p.esl_h = v);
+            }
 
             let l = ui.label("Tolerance ±%");
             let k = format!("{key}.tolerance_pct");
@@ -229,6 +252,33 @@ impl App {
                 .small()
                 .weak(),
         );
+    }
+}
+
+/// A measured part's data file and its fitted values, read-only (they come from the measurement), or why the
+/// measurement cannot be used.
+fn measured_rows(ui: &mut Ui, part: &Part, fail: egui::Color32) {
+    ui.label("Measurement");
+    ui.label(format!(
+        "{} ({})",
+        part.touchstone.as_deref().unwrap_or("no file named"),
+        part.fixture.map(|f| f.name()).unwrap_or("no fixture named")
+    ));
+    ui.end_row();
+    if let Some(why) = part.unusable() {
+        ui.label(RichText::new("Unusable").color(fail));
+        ui.label(RichText::new(format!("unusable: {why}")).color(fail))
+            .on_hover_text("Its groups are left out of the rail until the data are fixed.");
+        ui.end_row();
+        return;
+    }
+    for (name, value, unit) in
+        [("C", part.capacitance_f, Unit::Farad), ("ESR", part.esr_ohm, Unit::Ohm), ("ESL", part.esl_h, Unit::Henry)]
+    {
+        ui.label(name);
+        ui.label(format!("{} fitted (read-only)", format(value, unit)))
+            .on_hover_text("Fitted to the measured data; used outside the data's frequency range.");
+        ui.end_row();
     }
 }
 

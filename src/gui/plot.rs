@@ -386,6 +386,7 @@ impl App {
                     Points::new(PEAK_UNDER, peaks(false)).shape(MarkerShape::Diamond).radius(5.0).color(pal.note),
                 );
             });
+        self.plot_rect = Some(shown.response.rect);
         // A click on the plot selects the finding at that frequency (a shaded range, or a marked peak), the same
         // as clicking it in the list; a click elsewhere clears the selection.
         if shown.response.clicked()

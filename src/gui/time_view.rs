@@ -105,7 +105,7 @@ impl App {
             _ => v_lo,
         };
         let pad = (d.nominal_v - v_lo.min(lowest_pattern)).max(d.allowed_v) * 0.25;
-        Plot::new(("droop", index))
+        let shown = Plot::new(("droop", index))
             .default_x_bounds(0.0, t_end)
             .default_y_bounds(v_lo.min(lowest_pattern) - pad, d.nominal_v + pad)
             .x_axis_formatter(|m: GridMark, _r: &RangeInclusive<f64>| format_sig(m.value, Unit::Second, 3))
@@ -169,6 +169,7 @@ impl App {
                         .color(if d.meets { pal.ok } else { pal.fail }),
                 );
             });
+        self.plot_rect = Some(shown.response.rect);
     }
 }
 

@@ -4,6 +4,7 @@
 mod board_file;
 mod bom;
 mod netlist;
+mod png_image;
 mod report;
 mod svg_plot;
 mod touchstone;
@@ -14,6 +15,7 @@ pub use board_file::{
 };
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
+pub use png_image::{png_bytes, write_png};
 pub use report::{
     CAUTIONS, DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report,
 };
