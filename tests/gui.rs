@@ -617,3 +617,91 @@ fn the_window_writes_the_same_report_as_the_command_line() {
         assert!(written.contains(&rail.name));
     }
 }
+
+#[test]
+fn a_groups_mounting_geometry_is_edited_with_the_engines_breakdown_and_moves_the_rail() {
+    use hushrail::physics::mounting::mounting_breakdown;
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, "V3V3_IO");
+    click(&mut harness, "mounting of group 1 from geometry");
+    let g = harness.state().board().rails[rail].decaps[0].mounting.expect("the group now gives geometry");
+    let total = |g| format!("mounting total {:.3} nH", mounting_breakdown(g).total_h * 1e9);
+    assert!(harness.query_by_label(&total(&g)).is_some(), "shown: {}", total(&g));
+    for t in &mounting_breakdown(&g).terms {
+        assert!(harness.query_by_label_contains(t.formula).is_some(), "the formula of {} is shown", t.name);
+    }
+    assert_shows(&harness, &engine(harness.state().board(), rail));
+
+    select_all_and_type(&mut harness, "via length to the planes", "1.6m");
+    let after = harness.state().board().clone();
+    let g2 = after.rails[rail].decaps[0].mounting.unwrap();
+    assert_eq!(g2.via_length_m, 1.6e-3);
+    assert!(harness.query_by_label(&total(&g2)).is_some(), "shown: {}", total(&g2));
+    assert_ne!(engine(&after, rail).worst_ohm, engine(&board, rail).worst_ohm, "the longer via moves the rail");
+    assert_shows(&harness, &engine(&after, rail));
+
+    // Each change is its own undo step: the via length, then the switch to geometry.
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board().rails[rail].decaps[0].mounting, Some(g));
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board);
+}
+
+#[test]
+fn the_coupling_tool_sizes_796_microfarads_for_100_ohms_at_20_hertz() {
+    let mut harness = window(sample());
+    click(&mut harness, "Tools");
+    click(&mut harness, "Size a coupling capacitor…");
+    // The defaults are the example: 100 Ω, 20 Hz, a factor of ten.
+    assert!(harness.query_by_label("C = 796 µF").is_some());
+    assert!(harness.query_by_label("preferred value 820 µF (E12)").is_some());
+    for note in hushrail::physics::coupling::COUPLING_NOTES {
+        assert!(harness.query_by_label(note).is_some());
+    }
+    select_all_and_type(&mut harness, "Impedance it drives (Ω)", "10k");
+    assert!(harness.query_by_label("C = 7.96 µF").is_some());
+    select_all_and_type(&mut harness, "Corner this far below it (×)", "0");
+    assert!(harness.query_by_label("the factor must be above zero, not 0").is_some());
+}
+
+#[test]
+fn a_package_and_die_added_on_the_rail_move_the_verdict_to_the_die() {
+    let board = sample();
+    let rail = board.rail_index("VDDR").unwrap();
+    assert!(board.rails[rail].package.is_none());
+    let mut harness = window(board);
+    select_rail(&mut harness, "VDDR");
+    click(&mut harness, "Package and die");
+    click(&mut harness, "a package between the board and the die (series R-L)");
+    let b = harness.state().board().clone();
+    assert!(b.rails[rail].package.is_some() && b.rails[rail].die.is_some());
+    assert!(harness.query_by_label("seen at the die, through the package").is_some());
+    select_all_and_type(&mut harness, "package L", "200p");
+    let b = harness.state().board().clone();
+    assert_eq!(b.rails[rail].package.unwrap().l_h, 200e-12);
+    assert_shows(&harness, &engine(&b, rail));
+}
+
+#[test]
+fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_says() {
+    use hushrail::physics::Corner;
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let worst =
+        |b: &Board| analyze_rail(b, rail, &AnalysisOptions { corner: Corner::Worst, ..Default::default() }).unwrap();
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, "V3V3_IO");
+    click(&mut harness, "worst derating corner too");
+    click(&mut harness, "Parts");
+    click(&mut harness, "Board temperature and derating");
+    click(&mut harness, "generic DC-bias model for class II ceramics without their own curve (typical, recalled)");
+    let off = harness.state().board().clone();
+    assert_eq!(off.generic_dc_bias, Some(false));
+    assert_ne!(worst(&off).worst_ohm, worst(&board).worst_ohm);
+    let line = format!("worst derating corner: {}", one_line(&worst(&off)));
+    assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
+}

@@ -100,6 +100,7 @@ pub struct App {
     /// Where the plot (or the time view's plot) was drawn last frame, in points: what a PNG of the plot takes.
     pub(super) plot_rect: Option<egui::Rect>,
     pub(super) shot: Option<super::exports::PendingShot>,
+    pub(super) coupling: super::coupling_tool::CouplingTool,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
     /// A board file that could not be opened, shown until dismissed.
@@ -140,6 +141,7 @@ impl App {
             suggest: Default::default(),
             plot_rect: None,
             shot: None,
+            coupling: Default::default(),
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
             load_error: None,
@@ -411,6 +413,7 @@ impl App {
             });
         });
 
+        self.coupling_window(&ctx);
         self.dialogs(&ctx);
         self.update_title(&ctx);
         self.autosave(&ctx);
@@ -529,6 +532,12 @@ impl App {
                     || ui.radio_value(&mut dark, false, "Light theme").clicked()
                 {
                     self.set_dark(dark);
+                }
+            });
+            ui.menu_button("Tools", |ui| {
+                if ui.button("Size a coupling capacitor…").clicked() {
+                    self.coupling.open = true;
+                    ui.close();
                 }
             });
             if ui.button("Help").clicked() {

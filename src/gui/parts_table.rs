@@ -66,6 +66,7 @@ impl App {
                     .map_err(|p| refusal_text("name", &p))
             });
         });
+        self.board_settings(ui, pal.fail);
         ui.add_space(4.0);
         ui.label(RichText::new(format!("{n} parts on this board")).strong());
         egui::Grid::new("parts-table").striped(true).num_columns(5).spacing([10.0, 4.0]).show(ui, |ui| {
@@ -238,15 +239,23 @@ impl App {
             });
             ui.end_row();
         });
-        if let Some(curve) = &part.dc_bias {
-            ui.label(
-                RichText::new(format!(
-                    "DC-bias curve from the board file: {} points (used in the worst corner).",
-                    curve.len()
-                ))
-                .small(),
-            );
-        }
+        ui.horizontal(|ui| {
+            let l = ui.label("DC-bias curve");
+            let k = format!("{key}.dc_bias");
+            let shown = part.dc_bias.as_deref().map(bias_text).unwrap_or_default();
+            text_field(ui, fields, &k, l.id, &shown, 200.0, |t| {
+                let curve = parse_bias(t)?;
+                set_part(doc, at, &k, format!("DC-bias curve of {}", part.id), |p| p.dc_bias = curve)
+            });
+        });
+        ui.label(
+            RichText::new(
+                "As \"volts:ratio, volts:ratio\" (capacitance kept at that DC, from the part's data); empty for none. \
+                 Used in the worst corner.",
+            )
+            .small()
+            .weak(),
+        );
         ui.label(
             RichText::new("Values are the part's own data at the rail's voltage and temperature: take them from its data, not from memory.")
                 .small()
@@ -279,6 +288,91 @@ fn measured_rows(ui: &mut Ui, part: &Part, fail: egui::Color32) {
         ui.label(format!("{} fitted (read-only)", format(value, unit)))
             .on_hover_text("Fitted to the measured data; used outside the data's frequency range.");
         ui.end_row();
+    }
+}
+
+/// A DC-bias curve as the user edits it: "0:1, 3.3:0.62".
+fn bias_text(curve: &[[f64; 2]]) -> String {
+    let point = |p: &[f64; 2]| format!("{}:{}", crate::units::full_precision(p[0]), crate::units::full_precision(p[1]));
+    curve.iter().map(point).collect::<Vec<_>>().join(", ")
+}
+
+/// Read a DC-bias curve typed as "volts:ratio, volts:ratio" (engineering notation allowed); empty is no curve.
+/// The board's rules (increasing volts, ratios in (0, 1]) are checked by the edit.
+fn parse_bias(text: &str) -> Result<Option<Vec<[f64; 2]>>, String> {
+    if text.trim().is_empty() {
+        return Ok(None);
+    }
+    let mut curve = Vec::new();
+    for item in text.split(',') {
+        let (v, r) =
+            item.split_once(':').ok_or_else(|| format!("\"{}\" is not volts:ratio (such as 3.3:0.6)", item.trim()))?;
+        let v = crate::units::parse(v.trim(), Unit::Volt).map_err(|e| e.reason)?;
+        let r = crate::units::parse(r.trim(), Unit::None).map_err(|e| e.reason)?;
+        curve.push([v, r]);
+    }
+    Ok(Some(curve))
+}
+
+impl App {
+    /// The board-wide settings the derating reads: the temperature range and the generic DC-bias model.
+    fn board_settings(&mut self, ui: &mut Ui, fail: egui::Color32) {
+        let board = self.doc.board.clone();
+        egui::CollapsingHeader::new(RichText::new("Board temperature and derating").strong())
+            .id_salt("board-settings")
+            .show(ui, |ui| {
+                let (fields, doc) = (&mut self.fields, &mut self.doc);
+                let range = board.temperature_c;
+                egui::Grid::new("board-temperature").num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
+                    for (n, label) in ["Lowest °C", "Highest °C"].into_iter().enumerate() {
+                        let l = ui.label(label);
+                        let key = format!("temperature_c[{n}]");
+                        optional_number_field(ui, fields, &key, l.id, range.map(|r| r[n]), Unit::None, 96.0, |v| {
+                            let mut next = doc.board.clone();
+                            next.temperature_c = match (v, range) {
+                                (None, _) => None,
+                                (Some(v), Some(mut r)) => {
+                                    r[n] = v;
+                                    Some(r)
+                                }
+                                // A first edge typed: the other starts at room temperature (25 °C).
+                                (Some(v), None) => Some(if n == 0 { [v, 25.0] } else { [25.0, v] }),
+                            };
+                            doc.history
+                                .apply(&mut doc.board, Edit::SetBoard { value: Box::new(next) }, "board temperature", false)
+                                .map_err(|p| refusal_text(&key, &p))
+                        });
+                        ui.end_row();
+                    }
+                });
+                ui.label(
+                    RichText::new("Empty: the temperature class is not applied. The worst corner takes the class limit over this range.")
+                        .small()
+                        .weak(),
+                );
+                let mut generic = board.generic_dc_bias.unwrap_or(true);
+                let r = ui.checkbox(
+                    &mut generic,
+                    "generic DC-bias model for class II ceramics without their own curve (typical, recalled)",
+                );
+                if r.changed() {
+                    let mut next = board.clone();
+                    next.generic_dc_bias = Some(generic);
+                    let words = if generic { "use" } else { "turn off" };
+                    let result = self
+                        .edit(Edit::SetBoard { value: Box::new(next) }, format!("{words} the generic DC-bias model"), false)
+                        .map_err(|p| refusal_text("generic_dc_bias", &p));
+                    self.report("generic_dc_bias", result);
+                }
+                if let Some(reason) = self.fields.error("generic_dc_bias") {
+                    ui.label(RichText::new(reason).color(fail));
+                }
+                ui.label(
+                    RichText::new("The generic model is a typical curve by case and rating, from memory: replace it with each part's own curve.")
+                        .small()
+                        .weak(),
+                );
+            });
     }
 }
 

@@ -5,7 +5,8 @@ use super::app::{App, Document, SideTab};
 use super::history::Edit;
 use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
 use super::theme;
-use crate::model::{Combine, DecapGroup, Load, Plane, Rail, Source};
+use crate::model::{Combine, DecapGroup, Die, Load, MountingGeometry, Package, Plane, Rail, Source};
+use crate::physics::mounting::mounting_breakdown;
 use crate::units::{Unit, format};
 use egui::{RichText, Ui};
 use std::cell::RefCell;
@@ -17,6 +18,22 @@ const NEW_SOURCE: Source = Source { r_ohm: 1e-3, l_h: 10e-9 };
 const NEW_PLANE: Plane = Plane { capacitance_f: 1e-9, esr_ohm: 2e-3, esl_h: 10e-12 };
 /// Mounting inductance of a newly added group (invented start value, of the order of a small part on two vias).
 const NEW_MOUNTING_H: f64 = 0.6e-9;
+/// The geometry a group gets when the user switches it from a given inductance to geometry: the command line's
+/// `mounting` defaults (an invented, typical-looking small-case mounting for the user to replace with the board's
+/// own dimensions).
+const NEW_GEOMETRY: MountingGeometry = MountingGeometry {
+    trace_length_m: 0.5e-3,
+    trace_width_m: 0.3e-3,
+    trace_height_m: 0.1e-3,
+    via_drill_m: 0.25e-3,
+    via_length_m: 0.8e-3,
+    via_pitch_m: 0.7e-3,
+    vias_per_pad: 1,
+};
+/// The package a rail gets when the user turns it on (invented start values).
+const NEW_PACKAGE: Package = Package { r_ohm: 1e-3, l_h: 50e-12 };
+/// The die capacitance a rail gets when the user turns it on (invented start values).
+const NEW_DIE: Die = Die { capacitance_f: 100e-9, esr_ohm: 1e-3 };
 /// Width of a number field.
 const FIELD_W: f32 = 96.0;
 
@@ -238,6 +255,11 @@ impl App {
                 }
             });
 
+        egui::CollapsingHeader::new(RichText::new("Package and die").strong())
+            .id_salt(("package", i))
+            .default_open(rail.package.is_some())
+            .show(ui, |ui| package_editor(ui, fields, doc, i, &rail, pal.fail));
+
         let loads_title = format!("Loads (ΔI {} in all)", format(rail.total_step_a(), Unit::Ampere));
         egui::CollapsingHeader::new(RichText::new(loads_title).strong()).id_salt(("loads", i)).default_open(true).show(
             ui,
@@ -315,10 +337,25 @@ impl App {
                         }
                     } else {
                         number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
-                            set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting_h = v)
+                            set_rail(doc, i, &mkey, label.clone(), |r| r.decaps[gi].mounting_h = v)
                         });
+                        let from_geometry = ui.small_button("from geometry");
+                        let text = format!("mounting of group {} from geometry", gi + 1);
+                        from_geometry.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &text));
+                        if from_geometry.on_hover_text("Compute the inductance from pads, traces and vias").clicked() {
+                            let result = set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting = Some(NEW_GEOMETRY));
+                            match result {
+                                Ok(()) => fields.forget(&mkey),
+                                Err(reason) => fields.set_error(&mkey, String::new(), reason),
+                            }
+                        }
                     }
                 });
+                show_error(ui, &self.fields, &format!("{key}.mounting_h"), pal.fail);
+                if let Some(geometry) = g.mounting {
+                    let (fields, doc) = (&mut self.fields, &mut self.doc);
+                    geometry_editor(ui, fields, doc, i, gi, &geometry, pal.fail);
+                }
                 show_error(ui, &self.fields, &format!("{key}.count"), pal.fail);
                 ui.horizontal(|ui| {
                     let mut action = None;
@@ -449,6 +486,127 @@ impl App {
 }
 
 /// A refusal kept for a key that has no text field of its own (a checkbox, a button, a drag).
+/// A group's mounting geometry, field by field (lengths in engineering notation, metres), with the engine's
+/// breakdown of the loop inductance it gives: each term, its formula and source, the total, and warnings where the
+/// geometry leaves a formula's range.
+fn geometry_editor(
+    ui: &mut Ui,
+    fields: &mut Fields,
+    doc: &mut Document,
+    i: usize,
+    gi: usize,
+    g: &MountingGeometry,
+    fail: egui::Color32,
+) {
+    type Set = fn(&mut MountingGeometry, f64);
+    let rows: [(&str, &str, f64, Set); 6] = [
+        ("pad-to-via trace length", "trace_length_m", g.trace_length_m, |g, v| g.trace_length_m = v),
+        ("trace width", "trace_width_m", g.trace_width_m, |g, v| g.trace_width_m = v),
+        ("trace height over its plane", "trace_height_m", g.trace_height_m, |g, v| g.trace_height_m = v),
+        ("via drill", "via_drill_m", g.via_drill_m, |g, v| g.via_drill_m = v),
+        ("via length to the planes", "via_length_m", g.via_length_m, |g, v| g.via_length_m = v),
+        ("power-to-ground via distance", "via_pitch_m", g.via_pitch_m, |g, v| g.via_pitch_m = v),
+    ];
+    let rail_name = doc.board.rails[i].name.clone();
+    egui::Grid::new(("geometry", i, gi)).num_columns(2).spacing([10.0, 4.0]).show(ui, |ui| {
+        for (label, field, value, set) in rows {
+            let l = ui.label(label);
+            let key = format!("rails[{i}].decaps[{gi}].mounting.{field}");
+            number_field(ui, fields, &key, l.id, value, Unit::Metre, FIELD_W, |v| {
+                set_rail(doc, i, &key, format!("{label} of group {} of {rail_name}", gi + 1), |r| {
+                    if let Some(m) = &mut r.decaps[gi].mounting {
+                        set(m, v)
+                    }
+                })
+            });
+            ui.end_row();
+        }
+        let l = ui.label("vias per pad");
+        let key = format!("rails[{i}].decaps[{gi}].mounting.vias_per_pad");
+        number_field(ui, fields, &key, l.id, g.vias_per_pad as f64, Unit::None, FIELD_W, |v| {
+            if v.fract() != 0.0 || !(1.0..=64.0).contains(&v) {
+                return Err(format!("vias per pad is a whole number from 1 to 64, not {v}"));
+            }
+            set_rail(doc, i, &key, format!("vias per pad of group {} of {rail_name}", gi + 1), |r| {
+                if let Some(m) = &mut r.decaps[gi].mounting {
+                    m.vias_per_pad = v as u32
+                }
+            })
+        });
+        ui.end_row();
+    });
+    let b = mounting_breakdown(g);
+    egui::Frame::group(ui.style()).show(ui, |ui| {
+        for t in &b.terms {
+            let state = if t.in_total { "" } else { " (shown, not added)" };
+            ui.label(format!("{}: {:.3} nH{state}", t.name, t.inductance_h * 1e9)).on_hover_text(t.source);
+            ui.label(RichText::new(format!("{} ({})", t.formula, t.source)).small().weak());
+        }
+        ui.label(RichText::new(format!("mounting total {:.3} nH", b.total_h * 1e9)).strong());
+        for w in &b.warnings {
+            ui.label(RichText::new(format!("Warning: {w}")).small().color(fail));
+        }
+    });
+}
+
+/// The package between the board and the die, and the die's own capacitance. With a package the rail's verdict
+/// is taken at the die.
+fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, rail: &Rail, fail: egui::Color32) {
+    let key = format!("rails[{i}].package");
+    let mut fitted = rail.package.is_some();
+    if ui.checkbox(&mut fitted, "a package between the board and the die (series R-L)").changed() {
+        let words = if fitted { "add" } else { "remove" };
+        let result = set_rail(doc, i, &key, format!("{words} package of {}", rail.name), |r| {
+            r.package = fitted.then_some(NEW_PACKAGE);
+            // A die sits behind a package; without one there is nothing to hold it.
+            r.die = if fitted { Some(r.die.unwrap_or(NEW_DIE)) } else { None };
+        });
+        if let Err(reason) = result {
+            fields.set_error(&key, String::new(), reason);
+        }
+    }
+    show_error(ui, fields, &key, fail);
+    let Some(p) = rail.package else { return };
+    egui::Grid::new(("package-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
+        rail_number(ui, fields, doc, i, "package R", "package.r_ohm", p.r_ohm, Unit::Ohm, |r, v| {
+            if let Some(p) = &mut r.package {
+                p.r_ohm = v
+            }
+        });
+        rail_number(ui, fields, doc, i, "package L", "package.l_h", p.l_h, Unit::Henry, |r, v| {
+            if let Some(p) = &mut r.package {
+                p.l_h = v
+            }
+        });
+    });
+    let dkey = format!("rails[{i}].die");
+    let mut has_die = rail.die.is_some();
+    if ui.checkbox(&mut has_die, "on-die capacitance").changed() {
+        let words = if has_die { "add" } else { "remove" };
+        let result = set_rail(doc, i, &dkey, format!("{words} die capacitance of {}", rail.name), |r| {
+            r.die = has_die.then_some(NEW_DIE)
+        });
+        if let Err(reason) = result {
+            fields.set_error(&dkey, String::new(), reason);
+        }
+    }
+    show_error(ui, fields, &dkey, fail);
+    if let Some(d) = rail.die {
+        egui::Grid::new(("die-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
+            rail_number(ui, fields, doc, i, "die C", "die.capacitance_f", d.capacitance_f, Unit::Farad, |r, v| {
+                if let Some(d) = &mut r.die {
+                    d.capacitance_f = v
+                }
+            });
+            rail_number(ui, fields, doc, i, "die ESR", "die.esr_ohm", d.esr_ohm, Unit::Ohm, |r, v| {
+                if let Some(d) = &mut r.die {
+                    d.esr_ohm = v
+                }
+            });
+        });
+    }
+}
+
 fn show_error(ui: &mut Ui, fields: &Fields, key: &str, color: egui::Color32) {
     if let Some(reason) = fields.error(key) {
         ui.label(RichText::new(format!("Refused: {reason}")).small().color(color));
