@@ -99,18 +99,54 @@ impl App {
         time_key(ui, &pal, d, pattern.is_some());
 
         let floor = d.nominal_v - d.allowed_v;
-        let (t_end, v_lo) = (d.window_s, d.min_v.min(floor));
-        let lowest_pattern = match &pattern {
-            Some(Ok(p)) => p.min_v,
-            _ => v_lo,
+        let t_end = d.window_s;
+        // Everything drawn fits the first view: the floor, nominal and every waveform, with a little room.
+        let mut drawn: Vec<&[[f64; 2]]> = vec![&d.waveform];
+        drawn.extend(d.board_node.as_ref().map(|b| b.waveform.as_slice()));
+        if let Some(Ok(p)) = &pattern {
+            drawn.push(&p.waveform);
+        }
+        let (v_lo, v_hi) = drawn
+            .iter()
+            .flat_map(|w| w.iter().map(|p| p[1]))
+            .filter(|v| v.is_finite())
+            .fold((floor.min(d.min_v), d.nominal_v), |(lo, hi), v| (lo.min(v), hi.max(v)));
+        // The markers too: a dip narrower than the drawn points' spacing is missing from the line, not from the
+        // figures (they come from the full-resolution run).
+        let marked_lo = match &pattern {
+            Some(Ok(p)) => d.min_v.min(p.min_v),
+            _ => d.min_v,
         };
-        let pad = (d.nominal_v - v_lo.min(lowest_pattern)).max(d.allowed_v) * 0.25;
-        let shown = Plot::new(("droop", index))
-            .default_x_bounds(0.0, t_end)
-            .default_y_bounds(v_lo.min(lowest_pattern) - pad, d.nominal_v + pad)
-            .x_axis_formatter(|m: GridMark, _r: &RangeInclusive<f64>| format_sig(m.value, Unit::Second, 3))
+        let line_lo = v_lo;
+        let (v_lo, v_hi) = (v_lo.min(marked_lo), v_hi);
+        let pad = (v_hi - v_lo).max(d.allowed_v) * 0.08;
+        if line_lo - marked_lo > 0.05 * (d.nominal_v - marked_lo) {
+            ui.label(
+                RichText::new(format!(
+                    "The lowest point (diamond) is a dip narrower than the drawn points ({} apart): zoom in on it to \
+                     see its shape; the figures are from the full-resolution run.",
+                    format(d.window_s / (d.waveform.len().max(2) - 1) as f64, Unit::Second)
+                ))
+                .small()
+                .weak(),
+            );
+        }
+        // egui_plot labels its own grid on plain numbers, and times of nanoseconds to microseconds confuse it:
+        // plot time in a unit that puts the window between 1 and 1000 of it.
+        let (k, unit) = time_unit(t_end);
+        let scaled = |w: &[[f64; 2]]| -> Vec<[f64; 2]> { w.iter().map(|p| [p[0] * k, p[1]]).collect() };
+        // The plot keeps its view while the droop follows a drag; showing the pattern starts a fresh view.
+        let shown = Plot::new(("droop", index, pattern.is_some()))
+            .default_x_bounds(0.0, t_end * k)
+            .default_y_bounds(v_lo - pad, v_hi + pad)
+            .x_grid_spacer(linear_marks)
+            .x_axis_formatter(move |m: GridMark, r: &RangeInclusive<f64>| {
+                // A label centred on the very end of the axis would be cut in half: leave it out.
+                let span = r.end() - r.start();
+                if r.end() - m.value < 0.03 * span { String::new() } else { format!("{} {unit}", trim_number(m.value)) }
+            })
             .y_axis_formatter(|m: GridMark, _r: &RangeInclusive<f64>| format_sig(m.value, Unit::Volt, 4))
-            .x_axis_label("time after the step starts")
+            .x_axis_label(format!("time after the step starts ({unit})"))
             .y_axis_label("rail voltage")
             .y_axis_min_width(56.0)
             .label_formatter(|pos| {
@@ -118,7 +154,7 @@ impl App {
                     HoverPosition::NearDataPoint { plot_name, position, .. } => (*plot_name, *position),
                     HoverPosition::Elsewhere { position } => ("", *position),
                 };
-                Some(format!("{name}\n{}\n{}", format(p.x, Unit::Second), format_sig(p.y, Unit::Volt, 4)))
+                Some(format!("{name}\n{}\n{}", format(p.x / k, Unit::Second), format_sig(p.y, Unit::Volt, 4)))
             })
             .show(ui, |pu| {
                 if let Some(Ok(_)) = &pattern {
@@ -127,10 +163,10 @@ impl App {
                             Polygon::new(
                                 "load on",
                                 PlotPoints::from(vec![
-                                    [pulse.on_s, -1e3],
-                                    [pulse.off_s, -1e3],
-                                    [pulse.off_s, 1e3],
-                                    [pulse.on_s, 1e3],
+                                    [pulse.on_s * k, -1e3],
+                                    [pulse.off_s * k, -1e3],
+                                    [pulse.off_s * k, 1e3],
+                                    [pulse.on_s * k, 1e3],
                                 ]),
                             )
                             .fill_color(pal.highlight)
@@ -146,24 +182,26 @@ impl App {
                         .width(2.0),
                 );
                 if let Some(b) = &d.board_node {
-                    pu.line(Line::new("at the board node", PlotPoints::from(b.waveform.clone())).color(pal.other_view));
+                    pu.line(
+                        Line::new("at the board node", PlotPoints::from(scaled(&b.waveform))).color(pal.other_view),
+                    );
                 }
                 if let Some(Ok(p)) = &pattern {
                     pu.line(
-                        Line::new("worst-case pattern", PlotPoints::from(p.waveform.clone()))
+                        Line::new("worst-case pattern", PlotPoints::from(scaled(&p.waveform)))
                             .color(pal.worst)
                             .width(1.5),
                     );
                     pu.points(
-                        Points::new("pattern's lowest", vec![[p.t_min_s, p.min_v]])
+                        Points::new("pattern's lowest", vec![[p.t_min_s * k, p.min_v]])
                             .shape(MarkerShape::Diamond)
                             .radius(5.0)
                             .color(pal.worst),
                     );
                 }
-                pu.line(Line::new("after the step", PlotPoints::from(d.waveform.clone())).color(pal.curve).width(2.5));
+                pu.line(Line::new("after the step", PlotPoints::from(scaled(&d.waveform))).color(pal.curve).width(2.5));
                 pu.points(
-                    Points::new("lowest", vec![[d.t_min_s, d.min_v]])
+                    Points::new("lowest", vec![[d.t_min_s * k, d.min_v]])
                         .shape(MarkerShape::Diamond)
                         .radius(6.0)
                         .color(if d.meets { pal.ok } else { pal.fail }),
@@ -173,12 +211,55 @@ impl App {
     }
 }
 
+/// The factor and unit name that put a time window of `window_s` between 1 and 1000 of the unit.
+fn time_unit(window_s: f64) -> (f64, &'static str) {
+    match window_s {
+        w if w < 1e-6 => (1e9, "ns"),
+        w if w < 1e-3 => (1e6, "µs"),
+        w if w < 1.0 => (1e3, "ms"),
+        _ => (1.0, "s"),
+    }
+}
+
+/// Grid marks on a linear axis every 1, 2 or 5 × 10ⁿ, about six to a view, labelled; with unlabelled marks
+/// five times as dense between them. (egui_plot's own spacer labels only every tenth mark on a narrow plot.)
+pub fn linear_marks(input: egui_plot::GridInput) -> Vec<GridMark> {
+    let (lo, hi) = input.bounds;
+    if !lo.is_finite() || !hi.is_finite() || hi <= lo {
+        return Vec::new();
+    }
+    let rough = (hi - lo) / 6.0;
+    let decade = 10f64.powf(rough.log10().floor());
+    let step = [1.0, 2.0, 5.0, 10.0].into_iter().map(|m| m * decade).find(|s| *s >= rough).unwrap_or(10.0 * decade);
+    let minor = step / 5.0;
+    let first = (lo / minor).ceil() as i64;
+    let last = (hi / minor).floor() as i64;
+    (first..=last)
+        .map(|n| {
+            let value = n as f64 * minor;
+            let major = n.rem_euclid(5) == 0;
+            GridMark { value, step_size: if major { step } else { minor } }
+        })
+        .collect()
+}
+
+/// A grid value as a short plain number ("2.5", "10", "0.25").
+fn trim_number(v: f64) -> String {
+    let text = format!("{v:.3}");
+    let text = text.trim_end_matches('0').trim_end_matches('.');
+    if text == "-0" { "0".into() } else { text.into() }
+}
+
 /// The key to the time plot, above it.
 fn time_key(ui: &mut Ui, pal: &theme::Palette, d: &Droop, pattern: bool) {
+    // Each entry is one label (a coloured dash and its words), so the row wraps between entries, never inside.
     let entry = |ui: &mut Ui, color: egui::Color32, text: &str| {
-        let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 12.0), egui::Sense::hover());
-        ui.painter().line_segment([rect.left_center(), rect.right_center()], egui::Stroke::new(2.5, color));
-        ui.label(RichText::new(text).small());
+        let mut job = egui::text::LayoutJob::default();
+        let font = egui::TextStyle::Small.resolve(ui.style());
+        let words = ui.visuals().text_color();
+        job.append("—— ", 0.0, egui::TextFormat { font_id: font.clone(), color, ..Default::default() });
+        job.append(text, 0.0, egui::TextFormat { font_id: font, color: words, ..Default::default() });
+        ui.label(job);
         ui.add_space(8.0);
     };
     ui.horizontal_wrapped(|ui| {
@@ -194,4 +275,21 @@ fn time_key(ui: &mut Ui, pal: &theme::Palette, d: &Droop, pattern: bool) {
             entry(ui, pal.worst, "worst-case pattern (load on where shaded)");
         }
     });
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn linear_marks_are_round_and_labelled_every_fifth() {
+        let marks = linear_marks(egui_plot::GridInput { bounds: (0.0, 61.0), base_step_size: 0.1 });
+        let major: Vec<f64> = marks.iter().filter(|m| m.step_size == 10.0).map(|m| m.value).collect();
+        assert_eq!(major, vec![0.0, 10.0, 20.0, 30.0, 40.0, 50.0, 60.0]);
+        assert!(marks.iter().any(|m| (m.value - 2.0).abs() < 1e-12 && m.step_size == 2.0));
+        assert!(linear_marks(egui_plot::GridInput { bounds: (1.0, 1.0), base_step_size: 0.1 }).is_empty());
+        assert_eq!(time_unit(60e-6), (1e6, "µs"));
+        assert_eq!(trim_number(2.500), "2.5");
+        assert_eq!(trim_number(-0.0001), "0");
+    }
 }
