@@ -70,7 +70,7 @@ pub fn log_label(mark: GridMark, range: &RangeInclusive<f64>, unit: Unit) -> Str
     let is_decade = (mark.value - mark.value.round()).abs() < 1e-9;
     // A label centred on the very end of the axis would be cut in half by the plot's edge: leave it out.
     let span = range.end() - range.start();
-    if unit == Unit::Hertz && (mark.value - range.start() < 0.02 * span || range.end() - mark.value < 0.02 * span) {
+    if unit == Unit::Hertz && (mark.value - range.start() < 0.05 * span || range.end() - mark.value < 0.05 * span) {
         return String::new();
     }
     if is_decade || range.end() - range.start() < 2.0 {

@@ -337,6 +337,7 @@ impl App {
             ui.label(RichText::new(format!("No mix meets target: {limit}")).color(pal.fail));
         }
         let (mut pin, mut apply) = (None, None);
+        let pin_all = !s.options.is_empty() && ui.button("Pin every option to compare on the plot").clicked();
         for (n, o) in s.options.iter().enumerate() {
             egui::Frame::group(ui.style()).show(ui, |ui| {
                 ui.label(
@@ -363,7 +364,7 @@ impl App {
                 });
             });
         }
-        if !s.options.is_empty() && ui.button("Pin every option").clicked() {
+        if pin_all {
             for n in 0..s.options.len() {
                 self.pin_option(n);
             }
