@@ -6,11 +6,17 @@
 //!   again with its 1000-point band scan, its 600-point curve and per-group curves; the other rails reused).
 //! - "all rails": every rail analysed from nothing (after a part shared by every rail changes).
 //! - "whole frame": the drag step plus laying out every panel and the plot (egui without a renderer).
+//! - "... worst corner and both views": the drag step with the worst derating corner and the other view analysed
+//!   too (two more analyses of the dragged rail, without per-group curves).
+//! - "... droop": the drag step plus asking for the dragged rail's droop as the time view does: the droop runs on
+//!   its own thread (one at a time), so the frame pays only for starting it or taking its answer.
+//! - "droop of one rail": one droop as the window runs it, the work that thread does.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use hushrail::gui::App;
+use hushrail::gui::CentralTab;
 use hushrail::gui::history::{Edit, History};
-use hushrail::gui::results::Results;
+use hushrail::gui::results::{Look, Results};
 use hushrail::model::Board;
 use std::hint::black_box;
 
@@ -47,6 +53,38 @@ fn frame(c: &mut Criterion) {
         })
     });
 
+    c.bench_function("drag step with the worst corner and both views, 6 rails", |b| {
+        let mut board = base.clone();
+        let mut history = History::new();
+        let mut results = Results::default();
+        results.set_look(Look { view: None, both_views: true, worst_corner: true });
+        results.refresh(&board);
+        let mut count = 24;
+        b.iter(|| {
+            count = if count >= 40 { 10 } else { count + 1 };
+            history.apply(&mut board, Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
+            black_box(results.refresh(&board))
+        })
+    });
+
+    c.bench_function("drag step with the time view's droop, 6 rails", |b| {
+        let mut board = base.clone();
+        let mut history = History::new();
+        let mut results = Results::default();
+        results.refresh(&board);
+        let mut count = 24;
+        b.iter(|| {
+            count = if count >= 40 { 10 } else { count + 1 };
+            history.apply(&mut board, Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
+            results.refresh(&board);
+            black_box(results.droop(&board, 0))
+        })
+    });
+
+    c.bench_function("droop of one rail (VCORE, on the time view's thread)", |b| {
+        b.iter(|| black_box(hushrail::analysis::droop(&base, 0, &hushrail::gui::results::droop_options())))
+    });
+
     c.bench_function("all rails: analysis + plot data, 6 rails", |b| {
         let mut results = Results::default();
         b.iter(|| {
@@ -55,8 +93,27 @@ fn frame(c: &mut Criterion) {
         })
     });
 
-    c.bench_function("whole frame during a drag (layout, no drawing), 6 rails", |b| {
+    for (name, time_view, look) in [
+        ("whole frame during a drag (layout, no drawing), 6 rails", false, Look::default()),
+        (
+            "whole frame during a drag, worst corner shown, 6 rails",
+            false,
+            Look { worst_corner: true, ..Look::default() },
+        ),
+        ("whole frame during a drag, time view shown, 6 rails", true, Look::default()),
+    ] {
+        whole_frame(c, &base, name, time_view, look);
+    }
+}
+
+/// One frame of the window during a count drag: the edit, the analysis and the layout of every panel.
+fn whole_frame(c: &mut Criterion, base: &Board, name: &str, time_view: bool, look: Look) {
+    c.bench_function(name, |b| {
         let mut app = App::new_with_board(base.clone(), "six rails", None);
+        app.set_look(look);
+        if time_view {
+            app.set_central_tab(CentralTab::Time);
+        }
         let ctx = egui::Context::default();
         let input = || egui::RawInput {
             screen_rect: Some(egui::Rect::from_min_size(egui::Pos2::ZERO, egui::vec2(1280.0, 800.0))),

@@ -70,6 +70,30 @@ fn select_all_and_type(harness: &mut Harness<'_, App>, label: &str, text: &str) 
     harness.run();
 }
 
+/// Run the window until it goes idle, giving work on other threads (a droop, a search) time to finish.
+fn settle(harness: &mut Harness<'_, App>) {
+    for _ in 0..3000 {
+        if harness.try_run().is_ok() {
+            return;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+    }
+    panic!("the window never went idle");
+}
+
+/// Step the window (without insisting that it goes idle: a search in progress keeps asking for frames) until
+/// `label` shows, for at most `steps` frames a few milliseconds apart.
+fn step_until(harness: &mut Harness<'_, App>, label: &str, steps: usize) {
+    for _ in 0..steps {
+        if harness.query_by_label(label).is_some() {
+            return;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+        harness.step();
+    }
+    panic!("\"{label}\" never showed");
+}
+
 #[test]
 fn selecting_a_rail_and_adding_a_part_moves_verdict_and_worst_impedance_as_the_engine_says() {
     let board = sample();
@@ -435,6 +459,9 @@ fn switching_the_view_shows_the_engines_figures_for_that_view_and_both_curves_on
 
     click(&mut harness, "the board node");
     assert_shows(&harness, &at_board);
+    // The rails list keeps the check's verdict, taken at the die.
+    let card = format!("margin {:+.1} dB · worst at {}", die.margin_db, format(die.worst_hz, Unit::Hertz));
+    assert!(harness.query_by_label(&card).is_some(), "the rail's card still says {card}");
     assert!(harness.query_by_label("seen at the board node (the check takes the verdict at the die)").is_some());
 
     click(&mut harness, "draw both");
@@ -474,22 +501,36 @@ fn the_time_view_shows_the_engines_droop_and_follows_a_count_change() {
     let d = droop(&board, rail, &droop_options()).unwrap();
     let mut harness = window(board.clone());
     select_rail(&mut harness, "V3V3_IO");
-    click(&mut harness, "Voltage after a load step");
-    for line in hushrail::gui::droop_lines(&d) {
+    // The droop is computed on its own thread: the view says so until it lands.
+    harness.get_by_label("Voltage after a load step").click();
+    let lines = hushrail::gui::droop_lines(&d);
+    step_until(&mut harness, &lines[0], 3000);
+    harness.run();
+    for line in lines {
         assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
     }
-    click(&mut harness, "Show the worst-case on/off load pattern and the voltage it gives");
-    assert!(harness.query_by_label("worst-case pattern (load on where shaded)").is_some());
+    harness.get_by_label("Show the worst-case on/off load pattern and the voltage it gives").click();
+    for _ in 0..3000 {
+        if harness.query_by_label_contains("worst-case pattern (load on where shaded)").is_some() {
+            break;
+        }
+        std::thread::sleep(std::time::Duration::from_millis(20));
+        harness.step();
+    }
+    harness.run();
+    assert!(harness.query_by_label_contains("worst-case pattern (load on where shaded)").is_some());
 
     // A count change moves the droop to what the engine says for the new board.
     let group = board.rails[rail].decaps.iter().position(|g| g.part == "mlcc-10u-0603").unwrap();
     let count = board.rails[rail].decaps[group].count;
     let edit = hushrail::gui::history::Edit::SetCount { rail, group, count: count + 20 };
     harness.state_mut().edit(edit, "more", false).unwrap();
-    harness.run();
+    harness.step();
     let after = droop(harness.state().board(), rail, &droop_options()).unwrap();
     assert_ne!(after.droop_v, d.droop_v);
-    assert!(harness.query_by_label(&format!("droop {}", format(after.droop_v, Unit::Volt))).is_some());
+    step_until(&mut harness, &format!("droop {}", format(after.droop_v, Unit::Volt)), 3000);
+    settle(&mut harness);
+    assert!(harness.query_by_label("Updating: the figures below are for the rail before the last change.").is_none());
 }
 
 #[test]
@@ -498,22 +539,10 @@ fn a_rail_without_a_source_has_its_missing_droop_explained() {
     board.rails[0].source = None;
     let reason = hushrail::analysis::droop(&board, 0, &hushrail::gui::results::droop_options()).unwrap_err();
     let mut harness = window(board);
-    click(&mut harness, "Voltage after a load step");
-    assert!(harness.query_by_label("No droop for this rail").is_some());
+    harness.get_by_label("Voltage after a load step").click();
+    step_until(&mut harness, "No droop for this rail", 3000);
+    harness.run();
     assert!(harness.query_by_label(&reason.to_string()).is_some());
-}
-
-/// Step the window (without insisting that it goes idle: a search in progress keeps asking for frames) until
-/// `label` shows, for at most `steps` frames a few milliseconds apart.
-fn step_until(harness: &mut Harness<'_, App>, label: &str, steps: usize) {
-    for _ in 0..steps {
-        if harness.query_by_label(label).is_some() {
-            return;
-        }
-        std::thread::sleep(std::time::Duration::from_millis(20));
-        harness.step();
-    }
-    panic!("\"{label}\" never showed");
 }
 
 #[test]

@@ -193,6 +193,16 @@ impl App {
         &self.doc.board
     }
 
+    /// Show the impedance view or the time view in the middle of the window.
+    pub fn set_central_tab(&mut self, tab: CentralTab) {
+        self.central_tab = tab;
+    }
+
+    /// Change where rails are seen from and which curves are drawn beside the main one.
+    pub fn set_look(&mut self, look: super::results::Look) {
+        self.results.set_look(look);
+    }
+
     /// True when the board has changes not yet saved.
     pub fn is_dirty(&self) -> bool {
         self.doc.history.is_dirty()
@@ -283,7 +293,7 @@ impl App {
                     history: History::new(),
                 };
                 self.results.clear();
-                self.suggest.done = None;
+                self.suggest.forget();
                 self.fields.clear();
                 self.pins.clear();
                 self.home_views.clear();
@@ -559,7 +569,7 @@ impl App {
                 history: History::new(),
             };
             self.results.clear();
-            self.suggest.done = None;
+            self.suggest.forget();
             self.fields.clear();
             self.pins.clear();
             self.home_views.clear();
@@ -716,7 +726,7 @@ impl App {
                 };
                 self.doc = Document { board, path: left.origin.clone(), label, history: History::new_unsaved() };
                 self.results.clear();
-                self.suggest.done = None;
+                self.suggest.forget();
                 self.fields.clear();
                 self.pins.clear();
                 self.home_views.clear();

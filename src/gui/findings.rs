@@ -181,7 +181,7 @@ impl App {
                         let name = self.doc.board.rails[r].name.clone();
                         let (fails, notes) = self.finding_counts(r);
                         let (word, color) =
-                            if result.analysis.meets_target { ("meets", pal.ok) } else { ("misses", pal.fail) };
+                            if result.check().meets_target { ("meets", pal.ok) } else { ("misses", pal.fail) };
                         ui.label(
                             RichText::new(format!("{name}: {word} target ({fails} above target, {notes} notes)"))
                                 .strong()

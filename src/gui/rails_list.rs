@@ -12,7 +12,7 @@ impl App {
         ui.add_space(4.0);
         ui.label(RichText::new(&self.doc.board.name).heading());
         let total = self.doc.board.rails.len();
-        let meeting = (0..total).filter(|&i| self.results.get(i).is_some_and(|r| r.analysis.meets_target)).count();
+        let meeting = (0..total).filter(|&i| self.results.get(i).is_some_and(|r| r.check().meets_target)).count();
         let summary = format!("{meeting} of {total} rails meet target");
         ui.label(RichText::new(summary).strong().color(if meeting == total { pal.ok } else { pal.fail }));
         ui.separator();
@@ -64,7 +64,7 @@ impl App {
                     let name_response = ui.selectable_label(selected, RichText::new(&name).strong());
                     ui.label(RichText::new(volts).weak());
                     ui.with_layout(egui::Layout::right_to_left(egui::Align::Center), |ui| match &result {
-                        Some(r) if r.analysis.meets_target => {
+                        Some(r) if r.check().meets_target => {
                             ui.label(RichText::new("meets").strong().color(pal.ok));
                         }
                         Some(_) => {
@@ -78,7 +78,9 @@ impl App {
                 })
                 .inner;
             if let Some(r) = &result {
-                let a = &r.analysis;
+                // The card always gives the check's verdict (at the die when the rail has a package), whatever
+                // view the plot shows.
+                let a = r.check();
                 let text = format!("margin {:+.1} dB · worst at {}", a.margin_db, format(a.worst_hz, Unit::Hertz));
                 let color = if a.meets_target { ui.visuals().weak_text_color() } else { pal.fail };
                 ui.label(RichText::new(text).small().color(color));
@@ -90,7 +92,7 @@ impl App {
         let card_click = ui.interact(card.response.rect, egui::Id::unique(("rail-card", i)), egui::Sense::click());
         clicked |= card_click.clicked();
         if let Some(r) = &result {
-            let a = &r.analysis;
+            let a = r.check();
             card_click.on_hover_text(format!(
                 "target {}, worst |Z| {} at {}",
                 format(a.target_ohm, Unit::Ohm),

@@ -10,6 +10,7 @@ use crate::analysis::{
 use crate::model::{Board, Part, Rail};
 use crate::physics::Corner;
 use std::sync::Arc;
+use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
 /// Points of the in-band scan: the default density, which the command line's check uses too, so the window's
 /// verdict and figures are the check's (a test holds the two together).
@@ -81,6 +82,16 @@ pub struct RailResult {
     pub other_view: Option<Beside>,
     /// The worst derating corner in the chosen view, when asked for.
     pub worst: Option<Beside>,
+    /// The check's own analysis (the verdict's view), when the chosen view is another; band scan only.
+    pub verdict: Option<Box<RailAnalysis>>,
+}
+
+impl RailResult {
+    /// The analysis the check judges by: the verdict's view (the die when the rail gives a package), nominal
+    /// corner, whatever view the plot shows. The rails list gives this verdict.
+    pub fn check(&self) -> &RailAnalysis {
+        self.verdict.as_deref().unwrap_or(&self.analysis)
+    }
 }
 
 /// The inputs a rail's result depends on, kept to tell when it must be computed again: the rail, the parts it
@@ -103,12 +114,31 @@ impl Inputs {
 /// A rail's droop, or why it has none (the engine's own words).
 pub type DroopResult = Result<Droop, String>;
 
-/// The results of every rail of the board, refreshed rail by rail.
+/// The droop the time view can show now.
 #[derive(Debug, Clone, Default)]
+pub struct DroopNow {
+    /// The latest droop computed for the rail, if any (it may be for the rail's inputs before the last edit).
+    pub result: Option<Arc<DroopResult>>,
+    /// True when `result` is for the rail as it stands; false while a newer one is being computed.
+    pub current: bool,
+}
+
+/// A droop being computed on its own thread.
+#[derive(Debug)]
+struct DroopJob {
+    index: usize,
+    inputs: Inputs,
+    rx: Receiver<DroopResult>,
+}
+
+/// The results of every rail of the board, refreshed rail by rail.
+#[derive(Debug, Default)]
 pub struct Results {
     entries: Vec<Option<(Inputs, Look, Arc<RailResult>)>>,
     /// Droops are computed only for rails whose time view is shown, so they have their own cache.
     droops: Vec<Option<(Inputs, Arc<DroopResult>)>>,
+    /// At most one droop in flight (the machine has few cores and the latest inputs are all that matter).
+    job: Option<DroopJob>,
     look: Look,
 }
 
@@ -139,20 +169,42 @@ impl Results {
         self.look = look;
     }
 
-    /// The droop of rail `index` after a step of its ΔI, computed when its inputs changed since last asked (so a
-    /// drag re-runs it once per step only while the time view shows), else the kept one.
-    pub fn droop(&mut self, board: &Board, index: usize) -> Option<Arc<DroopResult>> {
-        let rail = board.rails.get(index)?;
+    /// The droop of rail `index` after a step of its ΔI. A droop takes from milliseconds to a few hundred
+    /// milliseconds (a long window on a rail with a low anti-resonance), too long for a frame during a drag, so it
+    /// is computed on its own thread when the rail's inputs change: meanwhile the last one stays on show, marked
+    /// not current, and the caller asks for another frame. Only the latest inputs are computed; steps of a drag
+    /// that pass while one is computed are skipped.
+    pub fn droop(&mut self, board: &Board, index: usize) -> DroopNow {
+        let Some(rail) = board.rails.get(index) else { return DroopNow::default() };
         self.droops.resize(board.rails.len(), None);
-        let inputs = Inputs::of(board, rail);
-        if let Some((known, d)) = &self.droops[index]
-            && *known == inputs
-        {
-            return Some(d.clone());
+        // Take a finished job's answer.
+        if let Some(job) = &self.job {
+            match job.rx.try_recv() {
+                Ok(answer) => {
+                    if let Some(job) = self.job.take()
+                        && job.index < self.droops.len()
+                    {
+                        self.droops[job.index] = Some((job.inputs, Arc::new(answer)));
+                    }
+                }
+                Err(TryRecvError::Empty) => {}
+                Err(TryRecvError::Disconnected) => self.job = None,
+            }
         }
-        let d = Arc::new(droop(board, index, &droop_options()).map_err(|e| e.to_string()));
-        self.droops[index] = Some((inputs, d.clone()));
-        Some(d)
+        let inputs = Inputs::of(board, rail);
+        let kept = self.droops[index].as_ref();
+        let current = kept.is_some_and(|(known, _)| *known == inputs);
+        let result = kept.map(|(_, d)| d.clone());
+        if !current && self.job.is_none() {
+            let (tx, rx) = channel();
+            let board = board.clone();
+            std::thread::spawn(move || {
+                // The receiver is gone when a new board was opened meanwhile; the answer is then not needed.
+                let _ = tx.send(droop(&board, index, &droop_options()).map_err(|e| e.to_string()));
+            });
+            self.job = Some(DroopJob { index, inputs, rx });
+        }
+        DroopNow { result, current }
     }
 
     /// The result of rail `index`, if it could be analysed.
@@ -164,6 +216,7 @@ impl Results {
     pub fn clear(&mut self) {
         self.entries.clear();
         self.droops.clear();
+        self.job = None;
     }
 }
 
@@ -212,7 +265,14 @@ pub fn compute_with(board: &Board, index: usize, look: Look) -> Option<RailResul
         None
     };
     let worst = if look.worst_corner { beside(Some(analysis.view), Corner::Worst) } else { None };
-    Some(RailResult { analysis, findings, plot, other_view, worst })
+    let verdict = match look.view {
+        Some(_) if rail.package.is_some() => {
+            let scan_only = AnalysisOptions { curve: None, branch_curves: false, view: None, ..options };
+            analyze_rail(board, index, &scan_only).filter(|v| v.view != analysis.view).map(Box::new)
+        }
+        _ => None,
+    };
+    Some(RailResult { analysis, findings, plot, other_view, worst, verdict })
 }
 
 /// A point in plot coordinates, or `None` where |Z| cannot be drawn on a log axis (zero, infinite, NaN).

@@ -81,6 +81,12 @@ impl Default for SuggestState {
 }
 
 impl SuggestState {
+    /// Forget the search running and its answer (a new board replaced the one they were for).
+    pub fn forget(&mut self) {
+        self.running = None;
+        self.done = None;
+    }
+
     /// True while a search runs.
     pub fn is_running(&self) -> bool {
         self.running.is_some()
@@ -236,6 +242,9 @@ impl App {
             };
         }
         let offered = s.offered(&self.doc.board, rail.voltage_v);
+        if let Some(Err(e)) = s.shelf.as_ref().filter(|_| s.from_shelf) {
+            ui.label(RichText::new(format!("The built-in shelf could not be read: {e}")).color(pal.fail));
+        }
         let chosen = offered.iter().filter(|p| !s.excluded.contains(&p.id)).count();
         egui::CollapsingHeader::new(format!("Candidates: {chosen} of {} offered", offered.len()))
             .id_salt("suggest-candidates")

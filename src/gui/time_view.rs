@@ -13,14 +13,46 @@ use egui::{RichText, Ui};
 use egui_plot::{GridMark, HLine, HoverPosition, Line, LineStyle, MarkerShape, Plot, PlotPoints, Points, Polygon};
 use std::ops::RangeInclusive;
 use std::sync::Arc;
+use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
-/// The worst-case pattern's response, kept with the droop it was built from.
-#[derive(Debug, Clone)]
+/// The worst-case pattern's response, kept with the droop it was built from. It costs about as much as the droop
+/// itself, so it too is computed on its own thread.
+#[derive(Debug)]
 pub struct PatternView {
     /// The droop whose pattern it is (compared by identity, so a new droop computes a new response).
     pub of: Arc<DroopResult>,
-    /// The response, or why it could not be computed.
-    pub response: Result<PatternResponse, String>,
+    /// The response, or why it could not be computed; `None` while it is computed.
+    pub response: Option<Result<PatternResponse, String>>,
+    rx: Option<Receiver<Result<PatternResponse, String>>>,
+}
+
+impl PatternView {
+    /// Start computing the response to `d`'s worst-case pattern on rail `index` of `board`.
+    fn start(board: &crate::model::Board, index: usize, of: Arc<DroopResult>, d: &Droop) -> PatternView {
+        let (tx, rx) = channel();
+        let (board, pattern) = (board.clone(), d.worst_case_pattern.clone());
+        std::thread::spawn(move || {
+            let answer = pattern_response(&board, index, &pattern, &droop_options()).map_err(|e| e.to_string());
+            let _ = tx.send(answer);
+        });
+        PatternView { of, response: None, rx: Some(rx) }
+    }
+
+    /// Take the answer when it has come.
+    fn poll(&mut self) {
+        let Some(rx) = &self.rx else { return };
+        match rx.try_recv() {
+            Ok(answer) => {
+                self.response = Some(answer);
+                self.rx = None;
+            }
+            Err(TryRecvError::Empty) => {}
+            Err(TryRecvError::Disconnected) => {
+                self.response = Some(Err("the pattern's response could not be computed".into()));
+                self.rx = None;
+            }
+        }
+    }
 }
 
 /// The figures of a droop in words, as the window shows them, one line each.
@@ -48,7 +80,23 @@ impl App {
     pub(super) fn time_view(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
         let index = self.selected_rail;
-        let Some(result) = self.results.droop(&self.doc.board, index) else { return };
+        let now = self.results.droop(&self.doc.board, index);
+        if !now.current {
+            // Look for the new droop again shortly, even if the user does nothing.
+            ui.ctx().request_repaint_after(std::time::Duration::from_millis(30));
+        }
+        let Some(result) = now.result else {
+            ui.horizontal(|ui| {
+                ui.add(egui::Spinner::new());
+                ui.label("Computing the step response…");
+            });
+            return;
+        };
+        if !now.current {
+            ui.label(
+                RichText::new("Updating: the figures below are for the rail before the last change.").color(pal.note),
+            );
+        }
         let d = match &*result {
             Ok(d) => d,
             Err(reason) => {
@@ -85,11 +133,23 @@ impl App {
         let pattern = if self.show_worst_pattern {
             let stale = self.pattern.as_ref().is_none_or(|p| !Arc::ptr_eq(&p.of, &result));
             if stale {
-                let response = pattern_response(&self.doc.board, index, &d.worst_case_pattern, &droop_options())
-                    .map_err(|e| e.to_string());
-                self.pattern = Some(PatternView { of: result.clone(), response });
+                self.pattern = Some(PatternView::start(&self.doc.board, index, result.clone(), d));
             }
-            self.pattern.as_ref().map(|p| p.response.clone())
+            let view = self.pattern.as_mut().map(|p| {
+                p.poll();
+                p.response.clone()
+            });
+            match view.flatten() {
+                Some(response) => Some(response),
+                None => {
+                    ui.horizontal(|ui| {
+                        ui.add(egui::Spinner::new());
+                        ui.label("Computing the worst-case pattern's response…");
+                    });
+                    ui.ctx().request_repaint_after(std::time::Duration::from_millis(30));
+                    None
+                }
+            }
         } else {
             None
         };
