@@ -8,8 +8,9 @@
 //! - "whole frame": the drag step plus laying out every panel and the plot (egui without a renderer).
 //! - "... worst corner and both views": the drag step with the worst derating corner and the other view analysed
 //!   too (two more analyses of the dragged rail, without per-group curves).
-//! - "... droop": the drag step plus asking for the dragged rail's droop as the time view does: the droop runs on
-//!   its own thread (one at a time), so the frame pays only for starting it or taking its answer.
+//! - "... droop": the drag step plus asking for the dragged rail's droop as the time view does at 60 frames a
+//!   second: the droop waits for the drag to pause and then runs on its own thread, so a frame pays only for
+//!   asking.
 //! - "droop of one rail": one droop as the window runs it, the work that thread does.
 
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -40,46 +41,10 @@ fn six_rails() -> Board {
 fn frame(c: &mut Criterion) {
     let base = six_rails();
 
-    c.bench_function("drag step: edit + analysis + plot data, 6 rails", |b| {
-        let mut board = base.clone();
-        let mut history = History::new();
-        let mut results = Results::default();
-        results.refresh(&board);
-        let mut count = 24;
-        b.iter(|| {
-            count = if count >= 40 { 10 } else { count + 1 };
-            history.apply(&mut board, Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
-            black_box(results.refresh(&board))
-        })
-    });
-
-    c.bench_function("drag step with the worst corner and both views, 6 rails", |b| {
-        let mut board = base.clone();
-        let mut history = History::new();
-        let mut results = Results::default();
-        results.set_look(Look { view: None, both_views: true, worst_corner: true });
-        results.refresh(&board);
-        let mut count = 24;
-        b.iter(|| {
-            count = if count >= 40 { 10 } else { count + 1 };
-            history.apply(&mut board, Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
-            black_box(results.refresh(&board))
-        })
-    });
-
-    c.bench_function("drag step with the time view's droop, 6 rails", |b| {
-        let mut board = base.clone();
-        let mut history = History::new();
-        let mut results = Results::default();
-        results.refresh(&board);
-        let mut count = 24;
-        b.iter(|| {
-            count = if count >= 40 { 10 } else { count + 1 };
-            history.apply(&mut board, Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
-            results.refresh(&board);
-            black_box(results.droop(&board, 0))
-        })
-    });
+    drag_step(c, &base, "drag step: edit + analysis + plot data, 6 rails", Look::default(), false);
+    let both = Look { view: None, both_views: true, worst_corner: true };
+    drag_step(c, &base, "drag step with the worst corner and both views, 6 rails", both, false);
+    drag_step(c, &base, "drag step with the time view's droop, 6 rails", Look::default(), true);
 
     c.bench_function("droop of one rail (VCORE, on the time view's thread)", |b| {
         b.iter(|| black_box(hushrail::analysis::droop(&base, 0, &hushrail::gui::results::droop_options())))
@@ -104,6 +69,29 @@ fn frame(c: &mut Criterion) {
     ] {
         whole_frame(c, &base, name, time_view, look);
     }
+}
+
+/// One step of a count drag without the window: the edit through the history and the results brought up to date
+/// as `look` asks, and with `droop` the dragged rail's droop asked for as the time view asks (a frame apart).
+fn drag_step(c: &mut Criterion, base: &Board, name: &str, look: Look, droop: bool) {
+    c.bench_function(name, |b| {
+        let mut board = base.clone();
+        let mut history = History::new();
+        let mut results = Results::default();
+        results.set_look(look);
+        results.refresh(&board);
+        let (mut count, mut now_s) = (24, 0.0);
+        b.iter(|| {
+            count = if count >= 40 { 10 } else { count + 1 };
+            now_s += 1.0 / 60.0;
+            history.apply(&mut board, Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
+            let analysed = results.refresh(&board);
+            if droop {
+                black_box(results.droop(&board, 0, now_s));
+            }
+            black_box(analysed)
+        })
+    });
 }
 
 /// One frame of the window during a count drag: the edit, the analysis and the layout of every panel.

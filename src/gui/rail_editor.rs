@@ -174,21 +174,10 @@ impl App {
             .id_salt(("source", i))
             .default_open(true)
             .show(ui, |ui| {
-                let mut fitted = rail.source.is_some();
-                if ui.checkbox(&mut fitted, "the rail has a regulator (series R-L to ground)").changed() {
-                    let key = format!("rails[{i}].source");
-                    let result = set_rail(
-                        doc,
-                        i,
-                        &key,
-                        format!("{} source of {}", if fitted { "add" } else { "remove" }, rail.name),
-                        |r| r.source = fitted.then_some(NEW_SOURCE),
-                    );
-                    if let Err(reason) = result {
-                        fields.set_error(&key, String::new(), reason);
-                    }
-                }
-                show_error(ui, fields, &format!("rails[{i}].source"), pal.fail);
+                let text = "the rail has a regulator (series R-L to ground)";
+                toggle(ui, fields, doc, i, "source", text, rail.source.is_some(), pal.fail, |r, on| {
+                    r.source = on.then_some(NEW_SOURCE)
+                });
                 if let Some(s) = rail.source {
                     egui::Grid::new(("source-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
                         rail_number(ui, fields, doc, i, "R", "source.r_ohm", s.r_ohm, Unit::Ohm, |r, v| {
@@ -209,21 +198,10 @@ impl App {
             .id_salt(("plane", i))
             .default_open(true)
             .show(ui, |ui| {
-                let mut fitted = rail.plane.is_some();
-                if ui.checkbox(&mut fitted, "count the plane pair's capacitance").changed() {
-                    let key = format!("rails[{i}].plane");
-                    let result = set_rail(
-                        doc,
-                        i,
-                        &key,
-                        format!("{} plane of {}", if fitted { "add" } else { "remove" }, rail.name),
-                        |r| r.plane = fitted.then_some(NEW_PLANE),
-                    );
-                    if let Err(reason) = result {
-                        fields.set_error(&key, String::new(), reason);
-                    }
-                }
-                show_error(ui, fields, &format!("rails[{i}].plane"), pal.fail);
+                let text = "count the plane pair's capacitance";
+                toggle(ui, fields, doc, i, "plane", text, rail.plane.is_some(), pal.fail, |r, on| {
+                    r.plane = on.then_some(NEW_PLANE)
+                });
                 if let Some(p) = rail.plane {
                     egui::Grid::new(("plane-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
                         rail_number(
@@ -552,20 +530,12 @@ fn geometry_editor(
 /// The package between the board and the die, and the die's own capacitance. With a package the rail's verdict
 /// is taken at the die.
 fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, rail: &Rail, fail: egui::Color32) {
-    let key = format!("rails[{i}].package");
-    let mut fitted = rail.package.is_some();
-    if ui.checkbox(&mut fitted, "a package between the board and the die (series R-L)").changed() {
-        let words = if fitted { "add" } else { "remove" };
-        let result = set_rail(doc, i, &key, format!("{words} package of {}", rail.name), |r| {
-            r.package = fitted.then_some(NEW_PACKAGE);
-            // A die sits behind a package; without one there is nothing to hold it.
-            r.die = if fitted { Some(r.die.unwrap_or(NEW_DIE)) } else { None };
-        });
-        if let Err(reason) = result {
-            fields.set_error(&key, String::new(), reason);
-        }
-    }
-    show_error(ui, fields, &key, fail);
+    let text = "a package between the board and the die (series R-L)";
+    toggle(ui, fields, doc, i, "package", text, rail.package.is_some(), fail, |r, on| {
+        r.package = on.then_some(NEW_PACKAGE);
+        // A die sits behind a package; without one there is nothing to hold it.
+        r.die = if on { Some(r.die.unwrap_or(NEW_DIE)) } else { None };
+    });
     let Some(p) = rail.package else { return };
     egui::Grid::new(("package-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
         rail_number(ui, fields, doc, i, "package R", "package.r_ohm", p.r_ohm, Unit::Ohm, |r, v| {
@@ -579,18 +549,9 @@ fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize
             }
         });
     });
-    let dkey = format!("rails[{i}].die");
-    let mut has_die = rail.die.is_some();
-    if ui.checkbox(&mut has_die, "on-die capacitance").changed() {
-        let words = if has_die { "add" } else { "remove" };
-        let result = set_rail(doc, i, &dkey, format!("{words} die capacitance of {}", rail.name), |r| {
-            r.die = has_die.then_some(NEW_DIE)
-        });
-        if let Err(reason) = result {
-            fields.set_error(&dkey, String::new(), reason);
-        }
-    }
-    show_error(ui, fields, &dkey, fail);
+    toggle(ui, fields, doc, i, "die", "on-die capacitance", rail.die.is_some(), fail, |r, on| {
+        r.die = on.then_some(NEW_DIE)
+    });
     if let Some(d) = rail.die {
         egui::Grid::new(("die-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
             rail_number(ui, fields, doc, i, "die C", "die.capacitance_f", d.capacitance_f, Unit::Farad, |r, v| {
@@ -605,6 +566,32 @@ fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize
             });
         });
     }
+}
+
+/// A checkbox that fits or takes out one optional input of the rail (`field`: source, plane, package, die)
+/// through the history, with a refusal shown under it.
+#[allow(clippy::too_many_arguments)]
+fn toggle(
+    ui: &mut Ui,
+    fields: &mut Fields,
+    doc: &mut Document,
+    i: usize,
+    field: &str,
+    text: &str,
+    on: bool,
+    fail: egui::Color32,
+    change: impl FnOnce(&mut Rail, bool),
+) {
+    let key = format!("rails[{i}].{field}");
+    let mut fitted = on;
+    if ui.checkbox(&mut fitted, text).changed() {
+        let words = if fitted { "add" } else { "remove" };
+        let rail_name = doc.board.rails.get(i).map(|r| r.name.clone()).unwrap_or_default();
+        if let Err(reason) = set_rail(doc, i, &key, format!("{words} {field} of {rail_name}"), |r| change(r, fitted)) {
+            fields.set_error(&key, String::new(), reason);
+        }
+    }
+    show_error(ui, fields, &key, fail);
 }
 
 fn show_error(ui: &mut Ui, fields: &Fields, key: &str, color: egui::Color32) {

@@ -23,6 +23,10 @@ pub const CURVE_POINTS: usize = 600;
 /// are more than a plot a few hundred pixels wide can show.
 pub const DROOP_POINTS: usize = 600;
 
+/// How long a rail's inputs must stand still before its droop is computed again, s: long enough that a drag
+/// does not start one at every step, short enough to feel immediate when the drag pauses.
+pub const DROOP_SETTLE_S: f64 = 0.12;
+
 /// How far the drawn curve reaches beyond the band on each side, as a factor in frequency.
 pub const VIEW_MARGIN: f64 = 10.0;
 
@@ -139,6 +143,8 @@ pub struct Results {
     droops: Vec<Option<(Inputs, Arc<DroopResult>)>>,
     /// At most one droop in flight (the machine has few cores and the latest inputs are all that matter).
     job: Option<DroopJob>,
+    /// The inputs last asked about and when they were first seen, s: a droop waits for a drag to pause.
+    seen: Option<(usize, Inputs, f64)>,
     look: Look,
 }
 
@@ -169,12 +175,14 @@ impl Results {
         self.look = look;
     }
 
-    /// The droop of rail `index` after a step of its ΔI. A droop takes from milliseconds to a few hundred
-    /// milliseconds (a long window on a rail with a low anti-resonance), too long for a frame during a drag, so it
-    /// is computed on its own thread when the rail's inputs change: meanwhile the last one stays on show, marked
-    /// not current, and the caller asks for another frame. Only the latest inputs are computed; steps of a drag
-    /// that pass while one is computed are skipped.
-    pub fn droop(&mut self, board: &Board, index: usize) -> DroopNow {
+    /// The droop of rail `index` after a step of its ΔI, asked at time `now_s` (the window's clock, s).
+    ///
+    /// A droop takes from milliseconds to a few hundred milliseconds (a long window on a rail with a low
+    /// anti-resonance), too long for a frame during a drag. So it is computed on its own thread, once the rail's
+    /// inputs have stood still for [`DROOP_SETTLE_S`] (a drag that pauses) or at once when the rail has no droop
+    /// yet; meanwhile the last one stays on show, marked not current, and the caller asks for another frame. Only
+    /// the latest inputs are computed, one at a time, so a drag never competes with a droop for the processor.
+    pub fn droop(&mut self, board: &Board, index: usize, now_s: f64) -> DroopNow {
         let Some(rail) = board.rails.get(index) else { return DroopNow::default() };
         self.droops.resize(board.rails.len(), None);
         // Take a finished job's answer.
@@ -195,7 +203,11 @@ impl Results {
         let kept = self.droops[index].as_ref();
         let current = kept.is_some_and(|(known, _)| *known == inputs);
         let result = kept.map(|(_, d)| d.clone());
-        if !current && self.job.is_none() {
+        if !matches!(&self.seen, Some((i, known, _)) if *i == index && *known == inputs) {
+            self.seen = Some((index, inputs.clone(), now_s));
+        }
+        let still_for = self.seen.as_ref().map_or(0.0, |(_, _, since)| now_s - since);
+        if !current && self.job.is_none() && (result.is_none() || still_for >= DROOP_SETTLE_S) {
             let (tx, rx) = channel();
             let board = board.clone();
             std::thread::spawn(move || {
@@ -217,6 +229,7 @@ impl Results {
         self.entries.clear();
         self.droops.clear();
         self.job = None;
+        self.seen = None;
     }
 }
 
