@@ -432,48 +432,47 @@ impl App {
                 }
             }
         };
+        // Each entry: its swatches (0 line, 1 diamond, 2 fill) and its words.
+        let mut entries: Vec<(Vec<(egui::Color32, u8)>, String)> =
+            vec![(vec![(pal.curve, 0)], format!("|Z| {}", view_words(result.analysis.view)))];
+        if let Some(o) = &result.other_view {
+            entries.push((vec![(pal.other_view, 0)], format!("|Z| {}", view_words(o.analysis.view))));
+        }
+        if result.worst.is_some() {
+            entries.push((vec![(pal.worst, 0)], "worst derating corner (dashed)".into()));
+        }
+        entries.push((vec![(pal.target, 0)], format!("target {}, band edges dashed", format(target_ohm, Unit::Ohm))));
+        entries.push((vec![(pal.violation_fill.gamma_multiply(3.0), 2)], "above target".into()));
+        if peaks {
+            entries.push((vec![(pal.fail, 1), (pal.note, 1)], "anti-resonance above / under target".into()));
+        }
+        if self.selected_finding.is_some() {
+            entries.push((vec![(pal.highlight.gamma_multiply(2.0), 2)], "selected finding".into()));
+        }
+        for pin in pins {
+            entries.push((vec![(pin.color, 0)], pin.name.clone()));
+        }
+        if self.show_group_curves {
+            entries.push((vec![(pal.branch.gamma_multiply(2.5), 0)], "each group alone".into()));
+        }
         ui.horizontal_wrapped(|ui| {
             ui.spacing_mut().item_spacing.x = 4.0;
-            // Each entry stays on one line; the row wraps between entries.
             ui.style_mut().wrap_mode = Some(egui::TextWrapMode::Extend);
-            swatch(ui, pal.curve, 0);
-            ui.label(RichText::new(format!("|Z| {}", view_words(result.analysis.view))).small());
-            if let Some(o) = &result.other_view {
-                ui.add_space(8.0);
-                swatch(ui, pal.other_view, 0);
-                ui.label(RichText::new(format!("|Z| {}", view_words(o.analysis.view))).small());
-            }
-            if result.worst.is_some() {
-                ui.add_space(8.0);
-                swatch(ui, pal.worst, 0);
-                ui.label(RichText::new("worst derating corner (dashed)").small());
-            }
-            ui.add_space(8.0);
-            swatch(ui, pal.target, 0);
-            ui.label(RichText::new(format!("target {}, band edges dashed", format(target_ohm, Unit::Ohm))).small());
-            ui.add_space(8.0);
-            swatch(ui, pal.violation_fill.gamma_multiply(3.0), 2);
-            ui.label(RichText::new("above target").small());
-            if peaks {
-                ui.add_space(8.0);
-                swatch(ui, pal.fail, 1);
-                swatch(ui, pal.note, 1);
-                ui.label(RichText::new("anti-resonance above / under target").small());
-            }
-            if self.selected_finding.is_some() {
-                ui.add_space(8.0);
-                swatch(ui, pal.highlight.gamma_multiply(2.0), 2);
-                ui.label(RichText::new("selected finding").small());
-            }
-            for pin in pins {
-                ui.add_space(8.0);
-                swatch(ui, pin.color, 0);
-                ui.label(RichText::new(&pin.name).small());
-            }
-            if self.show_group_curves {
-                ui.add_space(8.0);
-                swatch(ui, pal.branch.gamma_multiply(2.5), 0);
-                ui.label(RichText::new("each group alone").small());
+            let font = egui::TextStyle::Small.resolve(ui.style());
+            for (n, (swatches, text)) in entries.iter().enumerate() {
+                // An entry stays whole on one line: measure it, and start a new row when it would not fit, so a
+                // swatch is never left at the end of a row without its words.
+                let words = ui.painter().layout_no_wrap(text.clone(), font.clone(), egui::Color32::WHITE).size().x;
+                let width = swatches.len() as f32 * 22.0 + words + 12.0;
+                if n > 0 && ui.available_size_before_wrap().x < width {
+                    ui.end_row();
+                } else if n > 0 {
+                    ui.add_space(8.0);
+                }
+                for &(color, kind) in swatches {
+                    swatch(ui, color, kind);
+                }
+                ui.label(RichText::new(text).small());
             }
         });
         ui.label(
