@@ -163,8 +163,27 @@ impl App {
         // Everything drawn fits the first view: the floor, nominal and every waveform, with a little room.
         let mut drawn: Vec<&[[f64; 2]]> = vec![&d.waveform];
         drawn.extend(d.board_node.as_ref().map(|b| b.waveform.as_slice()));
+        // A pattern that swings far wider than the step would flatten the step to a line: then the view keeps to
+        // the step and says where the pattern goes.
+        let scale = d.droop_v.abs().max(d.allowed_v);
+        let pattern_fits = match &pattern {
+            Some(Ok(p)) => d.nominal_v - p.min_v <= 4.0 * scale,
+            _ => true,
+        };
         if let Some(Ok(p)) = &pattern {
-            drawn.push(&p.waveform);
+            if pattern_fits {
+                drawn.push(&p.waveform);
+            } else {
+                ui.label(
+                    RichText::new(format!(
+                        "The worst-case pattern swings far beyond this view (lowest {} at {}): scroll out to see it.",
+                        format_sig(p.min_v, Unit::Volt, 4),
+                        format(p.t_min_s, Unit::Second)
+                    ))
+                    .small()
+                    .color(pal.note),
+                );
+            }
         }
         let (v_lo, v_hi) = drawn
             .iter()
@@ -174,7 +193,7 @@ impl App {
         // The markers too: a dip narrower than the drawn points' spacing is missing from the line, not from the
         // figures (they come from the full-resolution run).
         let marked_lo = match &pattern {
-            Some(Ok(p)) => d.min_v.min(p.min_v),
+            Some(Ok(p)) if pattern_fits => d.min_v.min(p.min_v),
             _ => d.min_v,
         };
         let line_lo = v_lo;
@@ -343,9 +362,13 @@ mod tests {
 
     #[test]
     fn linear_marks_are_round_and_labelled_every_fifth() {
-        let marks = linear_marks(egui_plot::GridInput { bounds: (0.0, 61.0), base_step_size: 0.1 });
+        let marks = linear_marks(egui_plot::GridInput { bounds: (0.0, 55.0), base_step_size: 0.1 });
         let major: Vec<f64> = marks.iter().filter(|m| m.step_size == 10.0).map(|m| m.value).collect();
-        assert_eq!(major, vec![0.0, 10.0, 20.0, 30.0, 40.0, 50.0, 60.0]);
+        assert_eq!(major, vec![0.0, 10.0, 20.0, 30.0, 40.0, 50.0]);
+        // A wider view steps by 20.
+        let wide = linear_marks(egui_plot::GridInput { bounds: (0.0, 61.0), base_step_size: 0.1 });
+        let major: Vec<f64> = wide.iter().filter(|m| m.step_size == 20.0).map(|m| m.value).collect();
+        assert_eq!(major, vec![0.0, 20.0, 40.0, 60.0]);
         assert!(marks.iter().any(|m| (m.value - 2.0).abs() < 1e-12 && m.step_size == 2.0));
         assert!(linear_marks(egui_plot::GridInput { bounds: (1.0, 1.0), base_step_size: 0.1 }).is_empty());
         assert_eq!(time_unit(60e-6), (1e6, "µs"));
