@@ -219,6 +219,7 @@ impl App {
             .default_x_bounds(0.0, t_end * k)
             .default_y_bounds(v_lo - pad, v_hi + pad)
             .x_grid_spacer(linear_marks)
+            .y_grid_spacer(linear_marks)
             .x_axis_formatter(move |m: GridMark, r: &RangeInclusive<f64>| {
                 // A label centred on the very end of the axis would be cut in half: leave it out.
                 let span = r.end() - r.start();
