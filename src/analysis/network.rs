@@ -11,8 +11,8 @@
 use crate::model::{Board, Rail};
 use crate::physics::measured::ImpedanceTable;
 use crate::physics::{Corner, SeriesRlc, TWO_PI, derate, mounting::group_mounting_h};
-use std::sync::Arc;
 use num_complex::Complex64;
+use std::sync::Arc;
 
 /// Which input a branch comes from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]

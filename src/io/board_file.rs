@@ -6,17 +6,16 @@
 //! never ignored.
 
 use super::{BoardError, Place, write_atomically};
+use crate::model::Measurement;
 use crate::model::{
     Board, Combine, DecapGroup, Die, Fixture, Load, MountingGeometry, Package, Part, PartKind, Plane, Problem, Rail,
-    Source,
-    validate_board,
+    Source, validate_board,
 };
-use crate::model::Measurement;
 use crate::physics::measured::ImpedanceTable;
 use serde::Serialize;
-use std::sync::Arc;
 use serde_json::{Map, Value};
 use std::path::Path;
+use std::sync::Arc;
 
 /// The `format` tag every board file carries.
 pub const FORMAT_TAG: &str = "hushrail-board";

@@ -9,8 +9,8 @@ mod svg_plot;
 mod touchstone;
 
 pub use board_file::{
-    FORMAT_TAG, FORMAT_VERSION, board_to_string, load_measurements, parse_board, read_board, read_board_keeping_unusable,
-    write_board,
+    FORMAT_TAG, FORMAT_VERSION, board_to_string, load_measurements, parse_board, read_board,
+    read_board_keeping_unusable, write_board,
 };
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};

@@ -134,7 +134,10 @@ fn check_part(c: &mut Checker, path: &str, part: &Part) {
     if part.kind == PartKind::Measured {
         // Its values come from the measurement; what it needs is a file and a fixture.
         if part.touchstone.as_deref().is_none_or(|t| t.trim().is_empty()) {
-            c.push(format!("{path}.touchstone"), "a measured part needs its Touchstone file (path relative to the board)");
+            c.push(
+                format!("{path}.touchstone"),
+                "a measured part needs its Touchstone file (path relative to the board)",
+            );
         }
         if part.fixture.is_none() {
             c.push(format!("{path}.fixture"), "a measured part needs its fixture: \"one-port\" or \"shunt-through\"");

@@ -24,7 +24,11 @@ impl ImpedanceTable {
     /// Build a table and its fit from measured points (at least two, frequencies strictly increasing and > 0).
     /// `None` when the data cannot describe a capacitor (too few points, or a fit with no positive C).
     pub fn new(freq_hz: Vec<f64>, z: Vec<Complex64>) -> Option<ImpedanceTable> {
-        if freq_hz.len() < 2 || freq_hz.len() != z.len() || freq_hz.windows(2).any(|w| w[1] <= w[0]) || freq_hz[0] <= 0.0 {
+        if freq_hz.len() < 2
+            || freq_hz.len() != z.len()
+            || freq_hz.windows(2).any(|w| w[1] <= w[0])
+            || freq_hz[0] <= 0.0
+        {
             return None;
         }
         let fit = fit_rlc(&freq_hz, &z)?;
