@@ -21,6 +21,31 @@ fn engine(c: &mut Criterion) {
         let options = AnalysisOptions { band_points: 10_000, ..Default::default() };
         b.iter(|| analyze_rail(black_box(&board), 0, &options))
     });
+    // Everything switched on: package and die (verdict at the die), mounting from geometry, the worst corner.
+    let mut full = board.clone();
+    full.rails[0].package = Some(hushrail::model::Package { r_ohm: 1e-3, l_h: 4e-11 });
+    full.rails[0].die = Some(hushrail::model::Die { capacitance_f: 1.5e-7, esr_ohm: 2e-3 });
+    for group in &mut full.rails[0].decaps {
+        group.mounting = Some(hushrail::model::MountingGeometry {
+            trace_length_m: 0.5e-3,
+            trace_width_m: 0.3e-3,
+            trace_height_m: 0.1e-3,
+            via_drill_m: 0.25e-3,
+            via_length_m: 0.8e-3,
+            via_pitch_m: 0.7e-3,
+            vias_per_pad: 2,
+        });
+    }
+    for part in &mut full.parts {
+        part.dielectric = Some("X7R".into());
+        part.rated_voltage_v = Some(6.3);
+        part.tolerance_pct = Some(10.0);
+    }
+    c.bench_function("analyze 10 groups, 1000 points, die view, geometry, worst corner", |b| {
+        let options =
+            AnalysisOptions { band_points: 1000, corner: hushrail::physics::Corner::Worst, ..Default::default() };
+        b.iter(|| analyze_rail(black_box(&full), 0, &options))
+    });
     let grid = log_grid(1e3, 1e9, 10_000);
     c.bench_function("sweep 10 groups, 10000 points", |b| b.iter(|| sweep(black_box(&board), rail, &grid)));
 }

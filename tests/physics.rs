@@ -259,3 +259,25 @@ fn e_series_follow_iec_60063() {
     assert!((ESeries::E12.next_up(8.3) - 10.0).abs() < 1e-12);
     assert!((ESeries::E12.next_up(4.7e-9) - 4.7e-9).abs() < 1e-21, "a preferred value is its own next value up");
 }
+
+/// At the die, the package (plus the board's inductance behind it) against the die capacitance makes a parallel
+/// resonance at f ≈ 1/(2π√((L_package + L_board)·C_die)) (textbook parallel LC tank); the finding names the die
+/// as its capacitive side.
+#[test]
+fn die_view_peak_is_the_package_path_against_the_die() {
+    let board = hushrail::io::read_board(&root().join("tests/networks/package_die.json")).unwrap();
+    let rail = &board.rails[0];
+    let a = analyze_rail(&board, 0, &AnalysisOptions::default()).unwrap();
+    assert_eq!(a.view, hushrail::analysis::View::Die);
+    let (pkg, die) = (rail.package.unwrap(), rail.die.unwrap());
+    let peak = a
+        .antiresonances
+        .iter()
+        .find(|p| p.capacitive_side.as_ref().is_some_and(|b| b.kind == hushrail::analysis::BranchKind::Die))
+        .expect("a peak against the die capacitance");
+    let board_only = Network::of_rail(&board, &hushrail::model::Rail { package: None, die: None, ..rail.clone() });
+    let w = std::f64::consts::TAU * peak.freq_hz;
+    let l_board = board_only.impedance(peak.freq_hz).im / w;
+    let f_tank = 1.0 / (std::f64::consts::TAU * ((pkg.l_h + l_board) * die.capacitance_f).sqrt());
+    assert!((peak.freq_hz - f_tank).abs() < 0.1 * f_tank, "peak {} vs tank {f_tank}", peak.freq_hz);
+}

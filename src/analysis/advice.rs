@@ -73,6 +73,50 @@ pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Findi
     }
     out.sort_by(|a, b| a.range_hz[0].total_cmp(&b.range_hz[0]));
     out.extend(derating_notes(board, rail, analysis));
+    out.extend(measured_notes(board, rail, analysis));
+    out
+}
+
+/// Measured parts: one that cannot be used (its groups are out of the network), and one whose data do not cover
+/// the band (its fitted R-L-C stands in outside the data).
+fn measured_notes(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Finding> {
+    let [lo, hi] = analysis.band_hz;
+    let mut out = Vec::new();
+    let mut seen = Vec::new();
+    for g in rail.decaps.iter().filter(|g| g.count > 0) {
+        let Some(part) = board.part(&g.part) else { continue };
+        if seen.contains(&part.id) {
+            continue;
+        }
+        seen.push(part.id.clone());
+        if let Some(why) = part.unusable() {
+            out.push(Finding {
+                severity: Severity::Fail,
+                range_hz: [lo, hi],
+                text: format!("{} cannot be used, so its groups are left out of this rail: {why}.", part.id),
+                hint: "Fix or replace the Touchstone file the part names, then open the board again.".into(),
+            });
+        } else if let Some(t) = part.table() {
+            let [a, b] = t.range_hz();
+            if lo < a || hi > b {
+                out.push(Finding {
+                    severity: Severity::Note,
+                    range_hz: [lo, hi],
+                    text: format!(
+                        "{} is measured from {} to {}; outside that range its fitted R-L-C stands in (C {}, ESR \
+                         {}, ESL {}).",
+                        part.id,
+                        hz(a),
+                        hz(b),
+                        format(part.capacitance_f, Unit::Farad),
+                        format(part.esr_ohm, Unit::Ohm),
+                        format(part.esl_h, Unit::Henry)
+                    ),
+                    hint: "Measure over the whole band, or check the fit against the part's data.".into(),
+                });
+            }
+        }
+    }
     out
 }
 

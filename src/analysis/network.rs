@@ -202,9 +202,10 @@ impl Network {
 
     /// The branches that bracket a peak at `f_hz` in `view`: the one already inductive just below it and the
     /// one still capacitive just above it. At the board these are the branches with the nearest self-resonances
-    /// below and above. At the die, a peak where the path behind the die (package plus board) is inductive is
-    /// that path against the die capacitance; its inductive side is the package when the package's reactance
-    /// exceeds the board's, else the board's inductive branch.
+    /// below and above. At the die, a peak where the path behind the die (package plus board) is inductive and
+    /// the die's admittance is of the order of the path's is that path against the die capacitance; its
+    /// inductive side is the package when the package's reactance exceeds the board's, else the board's
+    /// inductive branch.
     pub fn bracketing(&self, f_hz: f64, view: View) -> (Option<&Branch>, Option<&Branch>) {
         let (below, above) = self.board_bracketing(f_hz);
         if view == View::Die
@@ -212,7 +213,11 @@ impl Network {
         {
             let board_z = invert(admittance(self.branches.iter().map(|b| b.impedance(f_hz))));
             let package_z = p.impedance(f_hz);
-            if (board_z + package_z).im > 0.0 {
+            let path_z = board_z + package_z;
+            // The die capacitance makes the peak only where its admittance is of the order of the path's (they
+            // cancel at the peak); far below, the die is a bystander to a peak of the board's own.
+            let die_y = invert(d.impedance(f_hz)).norm();
+            if path_z.im > 0.0 && die_y >= 0.3 * invert(path_z).norm() {
                 let inductive = if package_z.im > board_z.im { Some(p) } else { below };
                 return (inductive, Some(d));
             }

@@ -1,8 +1,8 @@
 //! `hushrail droop`: the rail's voltage after a load step, and the worst case over on/off load patterns.
 
 use super::{EXIT_MISS, EXIT_PASS, emit, load_board};
-use crate::analysis::{DroopOptions, droop};
-use crate::units::{Unit, format, parse, push_full_precision};
+use crate::analysis::droop;
+use crate::units::{Unit, format, push_full_precision};
 use clap::Args;
 use serde_json::json;
 use std::fmt::Write;
@@ -41,15 +41,7 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     super::find_rail(&board, &file, &args.rail)?;
     let index = board.rail_index(&args.rail).unwrap_or(0);
-    let value = |opt: &Option<String>, unit: Unit, flag: &str| -> Result<Option<f64>, String> {
-        opt.as_ref().map(|t| parse(t, unit).map_err(|e| format!("--{flag}: {e}"))).transpose()
-    };
-    let options = DroopOptions {
-        step_a: value(&args.step, Unit::Ampere, "step")?,
-        rise_s: value(&args.rise, Unit::Second, "rise")?,
-        window_s: value(&args.window, Unit::Second, "window")?,
-        points: Some(args.points),
-    };
+    let options = super::droop_options(&args.step, &args.rise, &args.window, args.points)?;
     let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
     if args.csv {
         let mut t = String::with_capacity(48 * d.waveform.len() + 8);

@@ -158,6 +158,25 @@ fn frequency_range(from: &Option<String>, to: &Option<String>, band_hz: [f64; 2]
     Ok((from, to))
 }
 
+/// Droop options from the command line's --step, --rise and --window (engineering notation), with `points`.
+fn droop_options(
+    step: &Option<String>,
+    rise: &Option<String>,
+    window: &Option<String>,
+    points: usize,
+) -> Result<crate::analysis::DroopOptions, String> {
+    use crate::units::{Unit, parse};
+    let value = |opt: &Option<String>, unit: Unit, flag: &str| -> Result<Option<f64>, String> {
+        opt.as_ref().map(|t| parse(t, unit).map_err(|e| format!("--{flag}: {e}"))).transpose()
+    };
+    Ok(crate::analysis::DroopOptions {
+        step_a: value(step, Unit::Ampere, "step")?,
+        rise_s: value(rise, Unit::Second, "rise")?,
+        window_s: value(window, Unit::Second, "window")?,
+        points: Some(points),
+    })
+}
+
 /// Write text to stdout; a closed pipe (as with `| head`) ends the output quietly instead of panicking.
 fn emit(text: &str) {
     let mut out = std::io::stdout().lock();

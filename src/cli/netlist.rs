@@ -1,7 +1,7 @@
 //! `hushrail netlist`: one rail's network as a SPICE netlist that ngspice runs to the same |Z|.
 
 use super::{EXIT_PASS, emit, load_board};
-use crate::analysis::{DroopOptions, droop};
+use crate::analysis::droop;
 use crate::io::{AcSweep, Transient, rail_netlist, rail_tran_netlist, write_atomically};
 use crate::units::{Unit, parse};
 use clap::Args;
@@ -53,15 +53,7 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
     if args.droop {
-        let value = |opt: &Option<String>, unit: Unit, flag: &str| -> Result<Option<f64>, String> {
-            opt.as_ref().map(|t| parse(t, unit).map_err(|e| format!("--{flag}: {e}"))).transpose()
-        };
-        let options = DroopOptions {
-            step_a: value(&args.step, Unit::Ampere, "step")?,
-            rise_s: value(&args.rise, Unit::Second, "rise")?,
-            window_s: value(&args.window, Unit::Second, "window")?,
-            points: Some(2),
-        };
+        let options = super::droop_options(&args.step, &args.rise, &args.window, 2)?;
         let index = board.rail_index(&rail.name).unwrap_or(0);
         let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
         let tran = Transient {

@@ -2,7 +2,7 @@
 
 use super::{EXIT_PASS, emit, load_board};
 use crate::analysis::{log_grid, magnitude_phase, sweep_in, target_impedance};
-use crate::units::{Unit, full_precision, parse, push_full_precision};
+use crate::units::{full_precision, push_full_precision};
 use clap::Args;
 use std::path::PathBuf;
 
@@ -35,22 +35,7 @@ pub struct SweepArgs {
 pub fn run(args: &SweepArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
-    let freq = |opt: &Option<String>, default: f64, flag: &str| -> Result<f64, String> {
-        match opt {
-            None => Ok(default),
-            Some(text) => match parse(text, Unit::Hertz) {
-                Ok(f) if f > 0.0 => Ok(f),
-                Ok(f) => Err(format!("--{flag}: frequency must be greater than 0, not {f}")),
-                Err(e) => Err(format!("--{flag}: {e}")),
-            },
-        }
-    };
-    let band = rail.band_hz_or_default();
-    let from = freq(&args.from, band[0], "from")?;
-    let to = freq(&args.to, band[1], "to")?;
-    if to <= from {
-        return Err(format!("--to ({to} Hz) must be above --from ({from} Hz)"));
-    }
+    let (from, to) = super::frequency_range(&args.from, &args.to, rail.band_hz_or_default())?;
     if args.points < 2 {
         return Err(format!("--points must be at least 2, not {}", args.points));
     }

@@ -93,6 +93,9 @@ fn network_text(board: &Board, rail: &Rail, drive: &str) -> String {
             BranchKind::Die => ("die".to_string(), DIE_NODE, "0"),
         };
         let _ = writeln!(t, "* branch {i}: {}", b.label);
+        if b.measured.is_some() {
+            let _ = writeln!(t, "* (a measured part: written as the R-L-C fitted to its data)");
+        }
         let mut elements: Vec<(char, f64)> = Vec::new();
         if b.rlc.r_ohm > 0.0 {
             elements.push(('R', b.rlc.r_ohm));
