@@ -27,13 +27,8 @@ fn engine(c: &mut Criterion) {
     full.rails[0].die = Some(hushrail::model::Die { capacitance_f: 1.5e-7, esr_ohm: 2e-3 });
     for group in &mut full.rails[0].decaps {
         group.mounting = Some(hushrail::model::MountingGeometry {
-            trace_length_m: 0.5e-3,
-            trace_width_m: 0.3e-3,
-            trace_height_m: 0.1e-3,
-            via_drill_m: 0.25e-3,
-            via_length_m: 0.8e-3,
-            via_pitch_m: 0.7e-3,
             vias_per_pad: 2,
+            ..hushrail::physics::mounting::TYPICAL_GEOMETRY
         });
     }
     for part in &mut full.parts {

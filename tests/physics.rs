@@ -53,15 +53,7 @@ fn microstrip_inductance_hammerstad() {
 }
 
 fn geometry() -> MountingGeometry {
-    MountingGeometry {
-        trace_length_m: 0.5e-3,
-        trace_width_m: 0.3e-3,
-        trace_height_m: 0.1e-3,
-        via_drill_m: 0.25e-3,
-        via_length_m: 0.8e-3,
-        via_pitch_m: 0.7e-3,
-        vias_per_pad: 2,
-    }
+    MountingGeometry { vias_per_pad: 2, ..hushrail::physics::mounting::TYPICAL_GEOMETRY }
 }
 
 #[test]

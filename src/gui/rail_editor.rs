@@ -18,18 +18,8 @@ const NEW_SOURCE: Source = Source { r_ohm: 1e-3, l_h: 10e-9 };
 const NEW_PLANE: Plane = Plane { capacitance_f: 1e-9, esr_ohm: 2e-3, esl_h: 10e-12 };
 /// Mounting inductance of a newly added group (invented start value, of the order of a small part on two vias).
 const NEW_MOUNTING_H: f64 = 0.6e-9;
-/// The geometry a group gets when the user switches it from a given inductance to geometry: the command line's
-/// `mounting` defaults (an invented, typical-looking small-case mounting for the user to replace with the board's
-/// own dimensions).
-const NEW_GEOMETRY: MountingGeometry = MountingGeometry {
-    trace_length_m: 0.5e-3,
-    trace_width_m: 0.3e-3,
-    trace_height_m: 0.1e-3,
-    via_drill_m: 0.25e-3,
-    via_length_m: 0.8e-3,
-    via_pitch_m: 0.7e-3,
-    vias_per_pad: 1,
-};
+/// The geometry a group gets when the user switches it from a given inductance to geometry.
+const NEW_GEOMETRY: MountingGeometry = crate::physics::mounting::TYPICAL_GEOMETRY;
 /// The package a rail gets when the user turns it on (invented start values).
 const NEW_PACKAGE: Package = Package { r_ohm: 1e-3, l_h: 50e-12 };
 /// The die capacitance a rail gets when the user turns it on (invented start values).

@@ -21,6 +21,19 @@ pub const C0: f64 = 299_792_458.0;
 /// Metres per inch (exact).
 const M_PER_INCH: f64 = 0.0254;
 
+/// A typical small-case mounting (0.5 mm traces 0.3 mm wide, 0.1 mm over their plane; one 0.25 mm via per pad,
+/// 0.8 mm to the planes, 0.7 mm apart): an invented starting point for the user to replace with the board's own
+/// dimensions. The command line's `mounting` defaults are the same.
+pub const TYPICAL_GEOMETRY: MountingGeometry = MountingGeometry {
+    trace_length_m: 0.5e-3,
+    trace_width_m: 0.3e-3,
+    trace_height_m: 0.1e-3,
+    via_drill_m: 0.25e-3,
+    via_length_m: 0.8e-3,
+    via_pitch_m: 0.7e-3,
+    vias_per_pad: 1,
+};
+
 /// One term of the breakdown.
 #[derive(Debug, Clone, PartialEq)]
 pub struct MountingTerm {
