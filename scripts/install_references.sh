@@ -1,7 +1,7 @@
 #!/usr/bin/env bash
-# The one test command (README). Installs the outside references the tests compare against when they are
-# missing: ngspice (Debian package, needs root or sudo) and scikit-rf (PyPI). Under CI (CI=true) both must end up
-# installed; elsewhere a failed install leaves the matching live check skipped with a message. Then runs every test.
+# Installs the outside references the tests compare against when they are missing: ngspice (Debian package, needs
+# root or sudo) and scikit-rf (PyPI). Under CI (CI=true) both must end up installed; elsewhere a failed install
+# leaves the matching live check skipped with a message. The README's test command runs this, then cargo test.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 export DEBIAN_FRONTEND=noninteractive
@@ -18,4 +18,3 @@ if ! python3 -c 'import skrf' >/dev/null 2>&1; then
   python3 -m pip install --quiet scikit-rf || python3 -m pip install --quiet --break-system-packages scikit-rf \
     || { [ "${CI:-}" = true ] && exit 1; echo "scikit-rf could not be installed: its live check will be skipped"; }
 fi
-cargo test --all-targets
