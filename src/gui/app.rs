@@ -632,24 +632,9 @@ impl App {
                 Pending::OpenDialog => "Open another board instead?".into(),
                 Pending::Close => "Close the window?".into(),
             };
-            let mut choice = None;
-            egui::Modal::new(egui::Id::unique("discard-changes")).show(ctx, |ui| {
-                ui.set_max_width(420.0);
-                ui.heading("Unsaved changes");
-                ui.label(format!("The board \"{}\" has changes that are not saved. {what}", self.doc.board.name));
-                ui.add_space(8.0);
-                ui.horizontal(|ui| {
-                    if ui.button("Save them").clicked() {
-                        choice = Some(0);
-                    }
-                    if ui.button("Discard them").clicked() {
-                        choice = Some(1);
-                    }
-                    if ui.button("Cancel").clicked() {
-                        choice = Some(2);
-                    }
-                });
-            });
+            let text = format!("The board \"{}\" has changes that are not saved. {what}", self.doc.board.name);
+            let choice =
+                ask(ctx, "discard-changes", 420.0, "Unsaved changes", &text, ["Save them", "Discard them", "Cancel"]);
             match choice {
                 Some(0) => {
                     self.pending = None;
@@ -665,34 +650,19 @@ impl App {
                 None => {}
             }
         } else if let Some(left) = self.left_over.clone() {
-            let mut choice = None;
-            egui::Modal::new(egui::Id::unique("left-over")).show(ctx, |ui| {
-                ui.set_max_width(460.0);
-                ui.heading("Unsaved work found");
-                let from = match &left.origin {
-                    Some(p) => format!("opened from {}", p.display()),
-                    None => "not saved to any file".into(),
-                };
-                let when = left
-                    .modified
-                    .and_then(|t| t.elapsed().ok())
-                    .map(|d| format!(", autosaved {} ago", human_duration(d.as_secs())))
-                    .unwrap_or_default();
-                ui.label(format!(
-                    "An earlier session ended without saving its work (the board was {from}{when}). Restore it?"
-                ));
-                ui.horizontal(|ui| {
-                    if ui.button("Restore").clicked() {
-                        choice = Some(0);
-                    }
-                    if ui.button("Discard it").clicked() {
-                        choice = Some(1);
-                    }
-                    if ui.button("Decide later").clicked() {
-                        choice = Some(2);
-                    }
-                });
-            });
+            let from = match &left.origin {
+                Some(p) => format!("opened from {}", p.display()),
+                None => "not saved to any file".into(),
+            };
+            let when = left
+                .modified
+                .and_then(|t| t.elapsed().ok())
+                .map(|d| format!(", autosaved {} ago", human_duration(d.as_secs())))
+                .unwrap_or_default();
+            let text =
+                format!("An earlier session ended without saving its work (the board was {from}{when}). Restore it?");
+            let choice =
+                ask(ctx, "left-over", 460.0, "Unsaved work found", &text, ["Restore", "Discard it", "Decide later"]);
             match choice {
                 Some(0) => {
                     self.left_over = None;
@@ -804,4 +774,23 @@ fn fallback_board() -> Board {
         decaps: Vec::new(),
     });
     board
+}
+
+/// A modal question with three answers; the index of the one clicked this frame, if any.
+fn ask(ctx: &egui::Context, id: &str, width: f32, heading: &str, text: &str, answers: [&str; 3]) -> Option<usize> {
+    let mut choice = None;
+    egui::Modal::new(egui::Id::unique(id)).show(ctx, |ui| {
+        ui.set_max_width(width);
+        ui.heading(heading);
+        ui.label(text);
+        ui.add_space(8.0);
+        ui.horizontal(|ui| {
+            for (i, answer) in answers.iter().enumerate() {
+                if ui.button(*answer).clicked() {
+                    choice = Some(i);
+                }
+            }
+        });
+    });
+    choice
 }
