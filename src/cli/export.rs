@@ -26,31 +26,19 @@ pub struct ExportArgs {
     /// Write freq_hz,z_re_ohm,z_im_ohm,z_mag_ohm,z_phase_deg,target_ohm as CSV.
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
-    /// Number of log-spaced points, both ends included.
-    #[arg(long, default_value_t = 1000)]
-    pub points: usize,
-    /// Lowest frequency, in engineering notation ("1k") [default: the rail's band].
-    #[arg(long)]
-    pub from: Option<String>,
-    /// Highest frequency, in engineering notation ("1G") [default: the rail's band].
-    #[arg(long)]
-    pub to: Option<String>,
-    /// Where to look from: the board's rail node or the die (through the package).
-    #[arg(long, value_enum, default_value = "board")]
-    pub view: super::ViewArg,
-    /// Which derating corner of the parts' capacitance.
-    #[arg(long, value_enum, default_value = "nominal")]
-    pub corner: super::CornerArg,
+    /// The frequencies and how the rail is seen.
+    #[command(flatten)]
+    pub spec: super::SweepSpec,
 }
 
 /// Write the requested files; nothing is written when an option is bad.
 pub fn run(args: &ExportArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
-    let (from, to) = super::frequency_range(&args.from, &args.to, rail.band_hz_or_default())?;
-    let view = args.view.resolve(rail)?;
-    if args.points < 2 {
-        return Err(format!("--points must be at least 2, not {}", args.points));
+    let (from, to) = super::frequency_range(&args.spec.from, &args.spec.to, rail.band_hz_or_default())?;
+    let view = args.spec.view.resolve(rail)?;
+    if args.spec.points < 2 {
+        return Err(format!("--points must be at least 2, not {}", args.spec.points));
     }
     if let Some(path) = &args.touchstone {
         let ext = path.extension().map(|e| e.to_string_lossy().to_ascii_lowercase());
@@ -58,8 +46,8 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
             return Err(format!("{}: a one-port Touchstone file must end in .s1p", path.display()));
         }
     }
-    let grid = log_grid(from, to, args.points);
-    let z = sweep_in(&board, rail, &grid, view, args.corner.into());
+    let grid = log_grid(from, to, args.spec.points);
+    let z = sweep_in(&board, rail, &grid, view, args.spec.corner.into());
     if let Some(path) = &args.touchstone {
         let comments = vec![
             format!(
@@ -68,7 +56,7 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
                 rail.name,
                 board.name,
                 view.name(),
-                crate::physics::Corner::from(args.corner).name()
+                crate::physics::Corner::from(args.spec.corner).name()
             ),
             format!("source: {file}"),
             "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),

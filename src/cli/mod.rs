@@ -102,6 +102,26 @@ fn load_board(path: Option<&PathBuf>) -> Result<(Board, String), String> {
     }
 }
 
+/// The frequencies a command sweeps and how it sees the rail (shared by `sweep` and `export`).
+#[derive(Debug, clap::Args)]
+pub struct SweepSpec {
+    /// Lowest frequency, in engineering notation ("1k", "100") [default: the rail's band].
+    #[arg(long)]
+    pub from: Option<String>,
+    /// Highest frequency, in engineering notation ("1G", "200meg") [default: the rail's band].
+    #[arg(long)]
+    pub to: Option<String>,
+    /// Where to look from: the board's rail node or the die (through the package).
+    #[arg(long, value_enum, default_value = "board")]
+    pub view: ViewArg,
+    /// Which derating corner of the parts' capacitance.
+    #[arg(long, value_enum, default_value = "nominal")]
+    pub corner: CornerArg,
+    /// Number of log-spaced points, both ends included.
+    #[arg(long, default_value_t = 1000)]
+    pub points: usize,
+}
+
 /// Where to look from, as the command line spells it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum ViewArg {

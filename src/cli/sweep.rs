@@ -14,35 +14,23 @@ pub struct SweepArgs {
     /// Name of the rail to sweep.
     #[arg(long)]
     pub rail: String,
-    /// Lowest frequency, in engineering notation ("1k", "100") [default: the rail's band].
-    #[arg(long)]
-    pub from: Option<String>,
-    /// Highest frequency, in engineering notation ("1G", "200meg") [default: the rail's band].
-    #[arg(long)]
-    pub to: Option<String>,
-    /// Where to look from: the board's rail node or the die (through the package).
-    #[arg(long, value_enum, default_value = "board")]
-    pub view: super::ViewArg,
-    /// Which derating corner of the parts' capacitance.
-    #[arg(long, value_enum, default_value = "nominal")]
-    pub corner: super::CornerArg,
-    /// Number of log-spaced points, both ends included.
-    #[arg(long, default_value_t = 1000)]
-    pub points: usize,
+    /// The frequencies and how the rail is seen.
+    #[command(flatten)]
+    pub spec: super::SweepSpec,
 }
 
 /// Print the CSV; errors are messages for stderr.
 pub fn run(args: &SweepArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
-    let (from, to) = super::frequency_range(&args.from, &args.to, rail.band_hz_or_default())?;
-    if args.points < 2 {
-        return Err(format!("--points must be at least 2, not {}", args.points));
+    let (from, to) = super::frequency_range(&args.spec.from, &args.spec.to, rail.band_hz_or_default())?;
+    if args.spec.points < 2 {
+        return Err(format!("--points must be at least 2, not {}", args.spec.points));
     }
     let target = target_impedance(rail);
-    let grid = log_grid(from, to, args.points);
-    let view = args.view.resolve(rail)?;
-    let z = sweep_in(&board, rail, &grid, view, args.corner.into());
+    let grid = log_grid(from, to, args.spec.points);
+    let view = args.spec.view.resolve(rail)?;
+    let z = sweep_in(&board, rail, &grid, view, args.spec.corner.into());
     let mut text = String::with_capacity(64 * grid.len() + 64);
     text.push_str("freq_hz,z_mag_ohm,z_phase_deg,target_ohm\n");
     let target_text = full_precision(target);
