@@ -10,7 +10,7 @@ if ! command -v ngspice >/dev/null 2>&1; then
   as_root apt-get update -qq
   as_root apt-get install -y -qq ngspice >/dev/null
 fi
-# scikit-rf (a general-purpose RF library) is the outside reference of tests/touchstone.rs.
+# scikit-rf (a general-purpose RF library) is the outside reference of tests/integration/touchstone.rs.
 if ! python3 -c 'import skrf' >/dev/null 2>&1; then
   if ! python3 -m pip --version >/dev/null 2>&1; then
     as_root apt-get update -qq && as_root apt-get install -y -qq python3-pip >/dev/null || true

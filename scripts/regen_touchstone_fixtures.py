@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Write the Touchstone fixtures of tests/touchstone.rs with scikit-rf (a general-purpose RF library from PyPI:
+"""Write the Touchstone fixtures of tests/integration/touchstone.rs with scikit-rf (a general-purpose RF library from PyPI:
 pip install scikit-rf), and record what scikit-rf reads from them.
 
 (a) Invented capacitors (series R-L-C; the values are invented, not data of any real part) as one-port

@@ -9,9 +9,9 @@
 //! - Malformed files (tests/touchstone/bad, listed in EXPECTED.tsv) give an error naming the file, the line and
 //!   the reason.
 
-mod common;
 
-use common::*;
+
+use crate::common::*;
 use hushrail::analysis::sweep;
 use hushrail::io::{Fixture, read_board, read_touchstone};
 use num_complex::Complex64;

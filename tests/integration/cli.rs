@@ -1,8 +1,8 @@
 //! The command-line contract: output shapes, exit codes (0 pass, 1 miss, 2 bad input) and error messages.
 
-mod common;
 
-use common::*;
+
+use crate::common::*;
 use hushrail::analysis::{AnalysisOptions, analyze_rail};
 use hushrail::io::read_board;
 

@@ -1,9 +1,9 @@
 //! The mix optimizer: exact on small problems (against a brute force judged by the full engine), close to the
 //! best known cost on larger ones, every reported option re-checked by the engine `check` uses and by ngspice.
 
-mod common;
 
-use common::*;
+
+use crate::common::*;
 use hushrail::analysis::{
     AnalysisOptions, Candidate, MixEvaluator, Network, Objective, SuggestOptions, analyze_rail, apply_mix,
     magnitude_phase, suggest,

@@ -1,7 +1,7 @@
 //! The planner window, driven headless through its accessibility tree the way a user would: click, type, press
 //! keys, drop a file. The figures it shows are checked against what the engine computes for the same board.
 
-mod common;
+
 
 use egui::accesskit::Role;
 use egui::{Key, Modifiers};
@@ -195,7 +195,7 @@ fn drop_file(harness: &mut Harness<'_, App>, path: PathBuf) {
 fn a_broken_file_leaves_the_board_untouched_and_shows_its_errors() {
     let board = sample();
     let mut harness = window(board.clone());
-    let broken = common::root().join("tests/bad_boards/negative_esl.json");
+    let broken = crate::common::root().join("tests/bad_boards/negative_esl.json");
     let expected = hushrail::io::read_board(&broken).expect_err("the file is broken");
 
     drop_file(&mut harness, broken.clone());
@@ -209,7 +209,7 @@ fn a_broken_file_leaves_the_board_untouched_and_shows_its_errors() {
     // Dismissing the errors leaves the board as it was; a good file dropped then opens.
     click(&mut harness, "Dismiss");
     assert!(harness.query_by_label(&heading).is_none());
-    let good = common::root().join("sample_boards/motor_drive.json");
+    let good = crate::common::root().join("sample_boards/motor_drive.json");
     drop_file(&mut harness, good.clone());
     assert_eq!(harness.state().board(), &hushrail::io::read_board(&good).unwrap());
     assert_eq!(harness.state().path(), Some(good.as_path()));
@@ -221,7 +221,7 @@ fn opening_over_unsaved_changes_asks_first() {
     let mut harness = window(board.clone());
     click(&mut harness, "one more mlcc-100n-0402");
     let edited = harness.state().board().clone();
-    let other = common::root().join("sample_boards/sensor_hub.json");
+    let other = crate::common::root().join("sample_boards/sensor_hub.json");
 
     drop_file(&mut harness, other.clone());
     assert!(harness.query_by_label("Unsaved changes").is_some(), "the window asks before discarding");
@@ -365,7 +365,7 @@ fn dragging_a_count_moves_the_figures_at_every_step_and_undoes_in_one_step() {
 
 #[test]
 fn a_broken_file_named_on_the_command_line_opens_the_sample_with_its_errors() {
-    let broken = common::root().join("tests/bad_boards/syntax_trailing_comma.json");
+    let broken = crate::common::root().join("tests/bad_boards/syntax_trailing_comma.json");
     let expected = hushrail::io::read_board(&broken).expect_err("the file is broken");
     let app = App::open(Some(&broken), hushrail::gui::files::Store::new(None));
     let mut harness =
@@ -403,7 +403,7 @@ fn odd_but_valid_boards_do_not_upset_the_window() {
 
 #[test]
 fn a_band_from_the_loads_can_be_fixed_and_taken_back_and_the_die_view_is_named() {
-    let path = common::root().join("sample_boards/sensor_hub.json");
+    let path = crate::common::root().join("sample_boards/sensor_hub.json");
     let board = hushrail::io::read_board(&path).unwrap();
     let radio = board.rail_index("VRADIO").unwrap();
     assert_eq!(board.rails[radio].band_hz, None, "the sample's radio rail takes its band from its loads");
@@ -442,7 +442,7 @@ fn one_line(a: &RailAnalysis) -> String {
 }
 
 fn sensor_hub() -> Board {
-    hushrail::io::read_board(&common::root().join("sample_boards/sensor_hub.json")).unwrap()
+    hushrail::io::read_board(&crate::common::root().join("sample_boards/sensor_hub.json")).unwrap()
 }
 
 #[test]
@@ -578,10 +578,10 @@ fn a_suggested_mix_applies_as_one_undo_step_and_the_rail_then_meets_target() {
 /// A copy of the sample board in a fresh folder with two measured parts on its first rail: one whose Touchstone
 /// file is good, one whose file has a line with a value missing.
 fn board_with_measured_parts(dir: &Path) -> PathBuf {
-    let touchstone = common::root().join("tests/touchstone");
+    let touchstone = crate::common::root().join("tests/touchstone");
     std::fs::copy(touchstone.join("bulk_ri_hz_50.s1p"), dir.join("good.s1p")).unwrap();
     std::fs::copy(touchstone.join("bad/wrong_columns.s1p"), dir.join("broken.s1p")).unwrap();
-    let text = std::fs::read_to_string(common::root().join("sample_boards/edge_camera.json")).unwrap();
+    let text = std::fs::read_to_string(crate::common::root().join("sample_boards/edge_camera.json")).unwrap();
     let mut b: serde_json::Value = serde_json::from_str(&text).unwrap();
     for (id, file) in [("meas-good", "good.s1p"), ("meas-broken", "broken.s1p")] {
         b["parts"].as_array_mut().unwrap().push(serde_json::json!({
@@ -630,7 +630,7 @@ fn a_board_with_a_broken_measured_part_opens_with_that_part_marked_unusable_and_
 fn the_window_writes_the_same_report_as_the_command_line() {
     let dir = tempfile::tempdir().unwrap();
     let board_path = dir.path().join("edge_camera.json");
-    std::fs::copy(common::root().join("sample_boards/edge_camera.json"), &board_path).unwrap();
+    std::fs::copy(crate::common::root().join("sample_boards/edge_camera.json"), &board_path).unwrap();
     let board = hushrail::io::read_board(&board_path).unwrap();
     let mut app = App::open(Some(&board_path), hushrail::gui::files::Store::new(None));
     let out = dir.path().join("report.html");

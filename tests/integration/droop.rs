@@ -4,9 +4,9 @@
 //! patterns never droop more than it (linear superposition, the basis of the reverse pulse technique, Drabkin et
 //! al., EPEP 2002).
 
-mod common;
 
-use common::*;
+
+use crate::common::*;
 use hushrail::analysis::{Droop, DroopError, DroopOptions, Pulse, droop, pattern_response};
 use hushrail::io::{Transient, parse_wrdata, rail_tran_netlist};
 use hushrail::model::Board;

@@ -1,9 +1,9 @@
 //! The physics beyond the lumped list: mounting geometry, derating corners, the band from rise times, load
 //! combination and coupling capacitor sizing, each against its named source.
 
-mod common;
 
-use common::*;
+
+use crate::common::*;
 use hushrail::analysis::{AnalysisOptions, Network, analyze_rail, explain_band, target_impedance};
 use hushrail::io::parse_board;
 use hushrail::model::{Board, Combine, DecapGroup, Load, MountingGeometry, Part, PartKind, Rail};
