@@ -172,7 +172,13 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, ParseError> {
         }
     }
     if !value.is_finite() {
-        return Err(err("is not a finite number".into()));
+        return Err(err("is too large to be a number hushrail can use".into()));
+    }
+    // A value written with non-zero digits that rounds to 0 (as 1e-400 does) is not 0: refuse it rather than
+    // silently read it as 0.
+    if value == 0.0 && number_text.bytes().take_while(|b| !matches!(b, b'e' | b'E')).any(|b| (b'1'..=b'9').contains(&b))
+    {
+        return Err(err("is too small to be a number hushrail can use (it rounds to 0)".into()));
     }
     Ok(value)
 }

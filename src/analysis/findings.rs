@@ -50,14 +50,24 @@ pub struct Scan {
     pub violations: Vec<ViolationBand>,
 }
 
-/// Scan an impedance `z_at(f)` over the closed band [lo, hi] with `points` log-spaced samples (at least 3 are
-/// used).
+/// |Z| for the scan: a sample that is not a number (it cannot come from a validated board, but the scan must
+/// cope with any) counts as infinitely high, so it can only fail a rail, never pass one or stall the scan.
+fn magnitude(z: Complex64) -> f64 {
+    let m = z.norm();
+    if m.is_nan() { f64::INFINITY } else { m }
+}
+
+/// Scan an impedance `z_at(f)` over the closed band [lo, hi] with `points` log-spaced samples (at least 3 and at
+/// most [`ranges::SCAN_POINTS`]'s maximum are used). Total: it ends, without a panic, for any samples at all.
+///
+/// [`ranges::SCAN_POINTS`]: crate::model::ranges::SCAN_POINTS
 pub fn scan(z_at: &dyn Fn(f64) -> Complex64, band_hz: [f64; 2], points: usize, target_ohm: f64) -> Scan {
     let [lo, hi] = band_hz;
-    let freq_hz = super::grid::log_grid(lo, hi, points.max(3));
+    let most = crate::model::ranges::SCAN_POINTS.max as usize;
+    let freq_hz = super::grid::log_grid(lo, hi, points.clamp(3, most));
     let z: Vec<Complex64> = freq_hz.iter().map(|&f| z_at(f)).collect();
-    let mag: Vec<f64> = z.iter().map(|z| z.norm()).collect();
-    let mag_at = |f: f64| z_at(f).norm();
+    let mag: Vec<f64> = z.iter().map(|&z| magnitude(z)).collect();
+    let mag_at = |f: f64| magnitude(z_at(f));
 
     let peaks = refine_extrema(&freq_hz, &z, &mag, true, &mag_at);
     let dips = refine_extrema(&freq_hz, &z, &mag, false, &mag_at);
@@ -155,7 +165,7 @@ fn crossing(f_below: f64, f_above: f64, target: f64, mag_at: &dyn Fn(f64) -> f64
             break;
         }
         let mid = (below + above) / 2.0;
-        if mag_at(mid.exp()) > target {
+        if is_above(mag_at(mid.exp()), target) {
             above = mid;
         } else {
             below = mid;
@@ -164,17 +174,24 @@ fn crossing(f_below: f64, f_above: f64, target: f64, mag_at: &dyn Fn(f64) -> f64
     ((below + above) / 2.0).exp()
 }
 
+/// Whether |Z| is above target; a value that is not a number counts as above (it can only fail a rail).
+fn is_above(m: f64, target: f64) -> bool {
+    m.partial_cmp(&target) != Some(std::cmp::Ordering::Less) && m != target
+}
+
 /// Runs of samples above target, with their edges refined between the last sample below and the first above.
+/// A sample that is not at or below target (NaN included) counts as above, so every pass of the loop moves on.
 fn violation_bands(samples: &[(f64, f64)], target: f64, mag_at: &dyn Fn(f64) -> f64) -> Vec<ViolationBand> {
+    let above = |m: f64| is_above(m, target);
     let mut bands = Vec::new();
     let mut i = 0;
     while i < samples.len() {
-        if samples[i].1 <= target {
+        if !above(samples[i].1) {
             i += 1;
             continue;
         }
         let start = i;
-        while i < samples.len() && samples[i].1 > target {
+        while i < samples.len() && above(samples[i].1) {
             i += 1;
         }
         let end = i - 1; // last sample above target

@@ -7,10 +7,11 @@ pub fn log_grid(from: f64, to: f64, n: usize) -> Vec<f64> {
         0 => Vec::new(),
         1 => vec![from],
         _ => {
-            let ratio = to / from;
+            // In logarithms, so that a ratio to/from beyond f64's range (a subnormal lower edge) cannot overflow.
+            let (ln_from, ln_to) = (from.ln(), to.ln());
             let last = (n - 1) as f64;
-            let mut grid: Vec<f64> = (0..n).map(|i| from * ratio.powf(i as f64 / last)).collect();
-            // powf may land one ulp off at the top; the ends are promised exactly.
+            let mut grid: Vec<f64> = (0..n).map(|i| (ln_from + (ln_to - ln_from) * (i as f64 / last)).exp()).collect();
+            // exp may land one ulp off; the ends are promised exactly.
             grid[0] = from;
             grid[n - 1] = to;
             grid

@@ -11,7 +11,7 @@ mod rail;
 
 pub use advice::{Finding, Severity, explain, explain_band};
 pub use droop::{Droop, DroopError, DroopOptions, NodeDroop, PatternResponse, Pulse, droop, pattern_response};
-pub use findings::{Extremum, ViolationBand};
+pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, View, magnitude_phase};
 pub use optimize::{

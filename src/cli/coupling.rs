@@ -2,7 +2,7 @@
 
 use super::{EXIT_PASS, emit};
 use crate::physics::coupling::{COUPLING_NOTES, ESeries, size_coupling};
-use crate::units::{Unit, format, parse};
+use crate::units::{Unit, format};
 use clap::Args;
 use serde_json::json;
 use std::fmt::Write;
@@ -42,14 +42,10 @@ pub struct CouplingArgs {
 
 /// Print the sized capacitor and its cautions.
 pub fn run(args: &CouplingArgs) -> Result<i32, String> {
-    let positive = |text: &str, unit: Unit, flag: &str| match parse(text, unit) {
-        Ok(v) if v > 0.0 => Ok(v),
-        Ok(v) => Err(format!("--{flag}: must be greater than 0, not {v}")),
-        Err(e) => Err(format!("--{flag}: {e}")),
-    };
-    let z = positive(&args.impedance, Unit::Ohm, "impedance")?;
-    let f = positive(&args.lowest, Unit::Hertz, "lowest")?;
-    let factor = positive(&args.factor, Unit::None, "factor")?;
+    use crate::model::ranges::{COUPLING_FACTOR, COUPLING_IMPEDANCE, FREQUENCY};
+    let z = super::flag_value(&args.impedance, Unit::Ohm, &COUPLING_IMPEDANCE, "impedance")?;
+    let f = super::flag_value(&args.lowest, Unit::Hertz, &FREQUENCY, "lowest")?;
+    let factor = super::flag_value(&args.factor, Unit::None, &COUPLING_FACTOR, "factor")?;
     let series = match args.series {
         SeriesArg::E6 => ESeries::E6,
         SeriesArg::E12 => ESeries::E12,

@@ -2,8 +2,8 @@
 
 use super::{EXIT_PASS, load_board};
 use crate::analysis::{log_grid, magnitude_phase, sweep_in, target_impedance};
-use crate::io::{s1p_string, write_atomically};
-use crate::units::{Unit, full_precision, parse, push_full_precision};
+use crate::io::s1p_string;
+use crate::units::{full_precision, push_full_precision};
 use clap::Args;
 use num_complex::Complex64;
 use std::path::PathBuf;
@@ -37,17 +37,16 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
     let rail = super::find_rail(&board, &file, &args.rail)?;
     let (from, to) = super::frequency_range(&args.spec.from, &args.spec.to, rail.band_hz_or_default())?;
     let view = args.spec.view.resolve(rail)?;
-    if args.spec.points < 2 {
-        return Err(format!("--points must be at least 2, not {}", args.spec.points));
-    }
+    let points = args.spec.points()?;
     if let Some(path) = &args.touchstone {
         let ext = path.extension().map(|e| e.to_string_lossy().to_ascii_lowercase());
         if ext.as_deref() != Some("s1p") {
             return Err(format!("{}: a one-port Touchstone file must end in .s1p", path.display()));
         }
     }
-    let grid = log_grid(from, to, args.spec.points);
+    let grid = log_grid(from, to, points);
     let z = sweep_in(&board, rail, &grid, view, args.spec.corner.into());
+    let mut outputs: Vec<(&PathBuf, String)> = Vec::new();
     if let Some(path) = &args.touchstone {
         let comments = vec![
             format!(
@@ -61,13 +60,13 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
             format!("source: {file}"),
             "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),
         ];
-        write_atomically(path, s1p_string(&grid, &z, EXPORT_Z0_OHM, &comments).as_bytes())
-            .map_err(|e| format!("{}: cannot write: {e}", path.display()))?;
+        outputs.push((path, s1p_string(&grid, &z, EXPORT_Z0_OHM, &comments)));
     }
     if let Some(path) = &args.csv {
-        write_atomically(path, csv_text(&grid, &z, target_impedance(rail)).as_bytes())
-            .map_err(|e| format!("{}: cannot write: {e}", path.display()))?;
+        outputs.push((path, csv_text(&grid, &z, target_impedance(rail))));
     }
+    let files: Vec<(&std::path::Path, &[u8])> = outputs.iter().map(|(p, t)| (p.as_path(), t.as_bytes())).collect();
+    super::write_files(&files, args.board.as_ref(), &board)?;
     Ok(EXIT_PASS)
 }
 
@@ -86,13 +85,4 @@ fn csv_text(freq_hz: &[f64], z: &[Complex64], target_ohm: f64) -> String {
         text.push('\n');
     }
     text
-}
-
-/// Parse a frequency option (positive, engineering notation).
-pub(super) fn frequency(text: &str, flag: &str) -> Result<f64, String> {
-    match parse(text, Unit::Hertz) {
-        Ok(f) if f > 0.0 => Ok(f),
-        Ok(f) => Err(format!("--{flag}: frequency must be greater than 0, not {f}")),
-        Err(e) => Err(format!("--{flag}: {e}")),
-    }
 }

@@ -86,7 +86,7 @@ pub fn run(command: Command) -> i32 {
     match result {
         Ok(code) => code,
         Err(message) => {
-            eprintln!("hushrail: {message}");
+            eprintln!("hushrail: {}", crate::io::printable(&message));
             EXIT_BAD_INPUT
         }
     }
@@ -100,6 +100,26 @@ fn load_board(path: Option<&PathBuf>) -> Result<(Board, String), String> {
             .map(|b| (b, format!("built-in sample \"{}\"", crate::samples::DEFAULT_SAMPLE_NAME)))
             .map_err(|e| e.to_string()),
     }
+}
+
+/// The files a command reads: the board file and every measured part's data, so that no output overwrites them.
+fn inputs_of(board_path: Option<&PathBuf>, board: &Board) -> Vec<PathBuf> {
+    let Some(path) = board_path else { return Vec::new() };
+    let dir = path.parent().unwrap_or(std::path::Path::new(""));
+    std::iter::once(path.clone())
+        .chain(board.parts.iter().filter_map(|p| p.touchstone.as_ref().map(|t| dir.join(t))))
+        .collect()
+}
+
+/// Write a command's output files, all or none, never over one of its inputs.
+fn write_files(
+    outputs: &[(&std::path::Path, &[u8])],
+    board_path: Option<&PathBuf>,
+    board: &Board,
+) -> Result<(), String> {
+    let inputs = inputs_of(board_path, board);
+    let inputs: Vec<&std::path::Path> = inputs.iter().map(PathBuf::as_path).collect();
+    crate::io::write_outputs(outputs, &inputs)
 }
 
 /// The frequencies a command sweeps and how it sees the rail (shared by `sweep` and `export`).
@@ -117,9 +137,16 @@ pub struct SweepSpec {
     /// Which derating corner of the parts' capacitance.
     #[arg(long, value_enum, default_value = "nominal")]
     pub corner: CornerArg,
-    /// Number of log-spaced points, both ends included.
+    /// Number of log-spaced points, both ends included (2 to 1,000,000).
     #[arg(long, default_value_t = 1000)]
     pub points: usize,
+}
+
+impl SweepSpec {
+    /// The number of points, inside its documented range.
+    fn points(&self) -> Result<usize, String> {
+        flag_count(self.points, &crate::model::ranges::SWEEP_POINTS, "points")
+    }
 }
 
 /// Where to look from, as the command line spells it.
@@ -170,8 +197,10 @@ fn find_rail<'b>(board: &'b Board, file: &str, name: &str) -> Result<&'b crate::
 
 /// The frequency range of --from/--to, each defaulting to the rail's band; both positive, from below to.
 fn frequency_range(from: &Option<String>, to: &Option<String>, band_hz: [f64; 2]) -> Result<(f64, f64), String> {
-    let from = from.as_deref().map(|t| export::frequency(t, "from")).transpose()?.unwrap_or(band_hz[0]);
-    let to = to.as_deref().map(|t| export::frequency(t, "to")).transpose()?.unwrap_or(band_hz[1]);
+    use crate::units::Unit;
+    let frequency = |t: &str, flag: &str| flag_value(t, Unit::Hertz, &crate::model::ranges::FREQUENCY, flag);
+    let from = from.as_deref().map(|t| frequency(t, "from")).transpose()?.unwrap_or(band_hz[0]);
+    let to = to.as_deref().map(|t| frequency(t, "to")).transpose()?.unwrap_or(band_hz[1]);
     if to <= from {
         return Err(format!("--to ({to} Hz) must be above --from ({from} Hz)"));
     }
@@ -185,16 +214,46 @@ fn droop_options(
     window: &Option<String>,
     points: usize,
 ) -> Result<crate::analysis::DroopOptions, String> {
+    use crate::model::ranges::{LOAD_STEP, RISE_TIME};
     use crate::units::{Unit, parse};
-    let value = |opt: &Option<String>, unit: Unit, flag: &str| -> Result<Option<f64>, String> {
-        opt.as_ref().map(|t| parse(t, unit).map_err(|e| format!("--{flag}: {e}"))).transpose()
+    let value = |opt: &Option<String>, unit: Unit, range: &crate::model::ranges::Range, flag: &str| {
+        opt.as_ref().map(|t| flag_value(t, unit, range, flag)).transpose()
     };
+    let window_s = window
+        .as_ref()
+        .map(|t| match parse(t, Unit::Second) {
+            Ok(w) if w > 0.0 => Ok(w),
+            Ok(w) => Err(format!("--window: must be a time greater than 0, not {w}")),
+            Err(e) => Err(format!("--window: {e}")),
+        })
+        .transpose()?;
     Ok(crate::analysis::DroopOptions {
-        step_a: value(step, Unit::Ampere, "step")?,
-        rise_s: value(rise, Unit::Second, "rise")?,
-        window_s: value(window, Unit::Second, "window")?,
+        step_a: value(step, Unit::Ampere, &LOAD_STEP, "step")?,
+        rise_s: value(rise, Unit::Second, &RISE_TIME, "rise")?,
+        window_s,
         points: Some(points),
     })
+}
+
+/// A flag's value in engineering notation, inside its documented range: `--flag: reason` otherwise.
+fn flag_value(
+    text: &str,
+    unit: crate::units::Unit,
+    range: &crate::model::ranges::Range,
+    flag: &str,
+) -> Result<f64, String> {
+    let value = crate::units::parse(text, unit).map_err(|e| format!("--{flag}: {e}"))?;
+    range.problem(value).map_or(Ok(value), |why| Err(format!("--{flag}: {why}")))
+}
+
+/// A whole-number flag inside its documented range.
+fn flag_count(value: usize, range: &crate::model::ranges::Range, flag: &str) -> Result<usize, String> {
+    let x = value as f64;
+    if range.contains(x) {
+        Ok(value)
+    } else {
+        Err(format!("--{flag}: must be a whole number {} ({}), not {value}", range.words(), range.what))
+    }
 }
 
 /// Write text to stdout; a closed pipe (as with `| head`) ends the output quietly instead of panicking.

@@ -2,8 +2,8 @@
 
 use super::{EXIT_PASS, emit, load_board};
 use crate::analysis::droop;
-use crate::io::{AcSweep, Transient, rail_netlist, rail_tran_netlist, write_atomically};
-use crate::units::{Unit, parse};
+use crate::io::{AcSweep, Transient, rail_netlist, rail_tran_netlist};
+use crate::units::Unit;
 use clap::Args;
 use std::path::PathBuf;
 
@@ -62,27 +62,25 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
             stop_s: d.window_s,
             max_step_s: d.dt_s,
         };
-        return write_out(args, &rail_tran_netlist(&board, rail, &tran, &args.data));
+        return write_out(args, &board, &rail_tran_netlist(&board, rail, &tran, &args.data));
     }
-    let from = parse(&args.from, Unit::Hertz).map_err(|e| format!("--from: {e}"))?;
-    let to = parse(&args.to, Unit::Hertz).map_err(|e| format!("--to: {e}"))?;
-    if !(from > 0.0 && to > from) {
-        return Err(format!("--from and --to must satisfy 0 < from < to, not {from} and {to}"));
+    let from = super::flag_value(&args.from, Unit::Hertz, &crate::model::ranges::FREQUENCY, "from")?;
+    let to = super::flag_value(&args.to, Unit::Hertz, &crate::model::ranges::FREQUENCY, "to")?;
+    if to <= from {
+        return Err(format!("--to ({to} Hz) must be above --from ({from} Hz)"));
     }
-    if args.per_decade == 0 {
-        return Err("--per-decade must be at least 1".into());
+    if !(1..=10_000).contains(&args.per_decade) {
+        return Err(format!("--per-decade: must be a whole number from 1 to 10000, not {}", args.per_decade));
     }
     let view = args.view.resolve(rail)?;
     let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade };
     let text = rail_netlist(&board, rail, &sweep, view, &args.data);
-    write_out(args, &text)
+    write_out(args, &board, &text)
 }
 
-fn write_out(args: &NetlistArgs, text: &str) -> Result<i32, String> {
+fn write_out(args: &NetlistArgs, board: &crate::model::Board, text: &str) -> Result<i32, String> {
     match &args.output {
-        Some(path) => {
-            write_atomically(path, text.as_bytes()).map_err(|e| format!("{}: cannot write: {e}", path.display()))?
-        }
+        Some(path) => super::write_files(&[(path, text.as_bytes())], args.board.as_ref(), board)?,
         None => emit(text),
     }
     Ok(EXIT_PASS)

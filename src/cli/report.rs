@@ -2,7 +2,7 @@
 
 use super::{EXIT_PASS, load_board};
 use crate::analysis::{DroopOptions, droop};
-use crate::io::{ReportContext, report_html, utc_date_today, write_report};
+use crate::io::{ReportContext, report_html, utc_date_today};
 use clap::Args;
 use std::path::PathBuf;
 
@@ -27,6 +27,6 @@ pub fn run(args: &ReportArgs) -> Result<i32, String> {
         (!args.no_droop).then(|| (0..board.rails.len()).map(|i| droop(&board, i, &DroopOptions::default())).collect());
     let context = ReportContext { source: file, date: utc_date_today() };
     let html = report_html(&board, &context, droops.as_deref());
-    write_report(&args.output, &html).map_err(|e| format!("{}: cannot write: {e}", args.output.display()))?;
+    super::write_files(&[(&args.output, html.as_bytes())], args.board.as_ref(), &board)?;
     Ok(EXIT_PASS)
 }

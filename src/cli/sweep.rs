@@ -24,11 +24,9 @@ pub fn run(args: &SweepArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
     let (from, to) = super::frequency_range(&args.spec.from, &args.spec.to, rail.band_hz_or_default())?;
-    if args.spec.points < 2 {
-        return Err(format!("--points must be at least 2, not {}", args.spec.points));
-    }
+    let points = args.spec.points()?;
     let target = target_impedance(rail);
-    let grid = log_grid(from, to, args.spec.points);
+    let grid = log_grid(from, to, points);
     let view = args.spec.view.resolve(rail)?;
     let z = sweep_in(&board, rail, &grid, view, args.spec.corner.into());
     let mut text = String::with_capacity(64 * grid.len() + 64);

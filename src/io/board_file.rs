@@ -40,8 +40,9 @@ pub fn read_board(path: &Path) -> Result<Board, BoardError> {
 /// Read and check a board file, loading measured parts' data; a measured part whose data cannot be used stays on
 /// the board, marked unusable with the reason (its groups are left out of the network).
 pub fn read_board_keeping_unusable(path: &Path) -> Result<Board, BoardError> {
-    let text = std::fs::read_to_string(path)
-        .map_err(|e| BoardError::single(path, Place::Whole, format!("cannot read the file: {e}")))?;
+    let bytes = super::read_limited(path, crate::model::ranges::MAX_BOARD_BYTES)
+        .map_err(|why| BoardError::single(path, Place::Whole, why))?;
+    let text = super::text_of(bytes).map_err(|(place, why)| BoardError::single(path, place, why))?;
     let mut board = parse_board(&text, &path.display().to_string())?;
     let dir = path.parent().unwrap_or(Path::new(""));
     load_measurements(&mut board, dir);
@@ -50,11 +51,19 @@ pub fn read_board_keeping_unusable(path: &Path) -> Result<Board, BoardError> {
 
 /// Load every measured part's Touchstone file (paths relative to `dir`), fit it, and fill in the part's fitted C,
 /// ESR and ESL; a file that cannot be used marks the part unusable with the file, line and reason.
+///
+/// Each file is read once however many parts name it (twenty parts naming one large file read it once).
 pub fn load_measurements(board: &mut Board, dir: &Path) {
+    use std::collections::HashMap;
+    let mut files: HashMap<std::path::PathBuf, Result<Arc<super::Touchstone>, String>> = HashMap::new();
     for part in board.parts.iter_mut().filter(|p| p.kind == PartKind::Measured) {
         let (Some(file), Some(fixture)) = (&part.touchstone, part.fixture) else { continue };
         let path = dir.join(file);
-        let loaded = super::touchstone::read_touchstone(&path).map_err(|e| e.to_string()).and_then(|t| {
+        let read = files
+            .entry(path.clone())
+            .or_insert_with(|| super::touchstone::read_touchstone(&path).map(Arc::new).map_err(|e| e.to_string()))
+            .clone();
+        let loaded = read.and_then(|t| {
             let z = t.impedance(fixture).map_err(|e| format!("{}: {e}", path.display()))?;
             ImpedanceTable::new(t.freq_hz.clone(), z).ok_or_else(|| {
                 format!("{}: the data do not describe a capacitor (no positive capacitance fits them)", path.display())
@@ -75,10 +84,8 @@ pub fn load_measurements(board: &mut Board, dir: &Path) {
 
 /// Parse and check board text. `file` is the name shown in errors.
 pub fn parse_board(text: &str, file: &str) -> Result<Board, BoardError> {
-    let value: Value = serde_json::from_str(text).map_err(|e| {
-        let place = if e.line() == 0 { Place::Whole } else { Place::LineColumn(e.line(), e.column().max(1)) };
-        BoardError::single(file, place, format!("not valid JSON: {}", syntax_reason(&e)))
-    })?;
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let value = super::strict_json::parse(text).map_err(|(place, why)| BoardError::single(file, place, why))?;
     let mut d = Decoder { problems: Vec::new() };
     let board = d.board(&value);
     let mut problems = d.problems;
@@ -96,15 +103,6 @@ pub fn parse_board(text: &str, file: &str) -> Result<Board, BoardError> {
     };
     problems.extend(validate_board(&board).into_iter().filter(|p| !covered(&p.path)));
     if problems.is_empty() { Ok(board) } else { Err(BoardError::from_problems(file, problems)) }
-}
-
-/// serde_json's message without its own " at line L column C" tail (we give the place ourselves).
-fn syntax_reason(e: &serde_json::Error) -> String {
-    let msg = e.to_string();
-    match msg.rfind(" at line ") {
-        Some(i) => msg[..i].to_string(),
-        None => msg,
-    }
 }
 
 /// The board as written to a file: the format tag and version first, then the board's own fields.
@@ -144,8 +142,15 @@ struct Fields<'v> {
     known: &'static [&'static str],
 }
 
+/// The JSON path of `key` inside `path`: `a.b`, or `a["odd key"]` for a key that is not a plain word (empty, or
+/// with spaces, dots, brackets or control characters), so every place can be found again.
 fn join(path: &str, key: &str) -> String {
-    if path.is_empty() { key.to_string() } else { format!("{path}.{key}") }
+    let plain = !key.is_empty() && key.chars().all(|c| c.is_ascii_alphanumeric() || c == '_');
+    match (plain, path.is_empty()) {
+        (true, true) => key.to_string(),
+        (true, false) => format!("{path}.{key}"),
+        (false, _) => format!("{path}[{}]", serde_json::Value::String(key.to_string())),
+    }
 }
 
 impl Decoder {
@@ -262,6 +267,10 @@ impl Decoder {
                 Some(v) if v > FORMAT_VERSION => self.problem(
                     "version",
                     format!("version {v} is newer than this program reads (up to {FORMAT_VERSION}): update hushrail"),
+                ),
+                _ if FORMAT_VERSION == 1 => self.problem(
+                    "version",
+                    format!("must be 1 written as a whole number (the only format version there is), not {n}"),
                 ),
                 _ => self.problem("version", format!("must be a whole number from 1 to {FORMAT_VERSION}, not {n}")),
             },
@@ -530,7 +539,10 @@ impl Decoder {
         if f.known.is_empty() {
             return DecapGroup::new("", 1, 0.0);
         }
-        let count = self.required(&f, "count").and_then(|v| self.count(v, &join(path, "count"))).unwrap_or(1);
+        let count = self
+            .required(&f, "count")
+            .and_then(|v| self.count(v, &join(path, "count"), &crate::model::ranges::COUNT))
+            .unwrap_or(1);
         let part = self.string(&f, "part");
         match (f.map.get("mounting_h"), f.map.get("mounting")) {
             (Some(_), Some(_)) => {
@@ -580,7 +592,7 @@ impl Decoder {
         // One via per pad unless the file says more.
         let vias_per_pad = match f.map.get("vias_per_pad") {
             None => 1,
-            Some(v) => self.count(v, &join(path, "vias_per_pad")).unwrap_or(1),
+            Some(v) => self.count(v, &join(path, "vias_per_pad"), &crate::model::ranges::VIAS_PER_PAD).unwrap_or(1),
         };
         (self.problems.len() == before).then_some(MountingGeometry {
             trace_length_m,
@@ -593,11 +605,15 @@ impl Decoder {
         })
     }
 
-    /// A count: a whole number >= 0 (written as 3 or 3.0), within u32.
-    fn count(&mut self, value: &Value, path: &str) -> Option<u32> {
+    /// A count: a whole number (written as 3 or 3.0) inside `range`.
+    fn count(&mut self, value: &Value, path: &str, range: &crate::model::ranges::Range) -> Option<u32> {
         let x = self.number_at(value, path)?;
-        if x < 0.0 || x.fract() != 0.0 || x > u32::MAX as f64 {
-            self.problem(path, format!("must be a whole number >= 0, not {x}"));
+        if x.fract() != 0.0 || !range.contains(x) {
+            let shown = match value {
+                Value::Number(n) => n.to_string(),
+                _ => crate::units::full_precision(x),
+            };
+            self.problem(path, format!("must be a whole number {} ({}), not {shown}", range.words(), range.what));
             return None;
         }
         Some(x as u32)

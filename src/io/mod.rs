@@ -6,8 +6,10 @@ mod bom;
 mod netlist;
 mod png_image;
 mod report;
+mod strict_json;
 mod svg_plot;
 mod touchstone;
+mod write;
 
 pub use board_file::{
     FORMAT_TAG, FORMAT_VERSION, board_to_string, load_measurements, parse_board, read_board,
@@ -19,15 +21,16 @@ pub use png_image::{png_bytes, write_png};
 pub use report::{
     CAUTIONS, DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report,
 };
+pub use strict_json::parse as parse_json_strict;
 pub use svg_plot::{PLOT_POINTS, PLOT_SIZE, impedance_svg, plot_range_hz};
 pub use touchstone::{
     DataFormat, Fixture, Parameter, Touchstone, TouchstoneError, Version, one_port_s_to_z, parse_touchstone,
     ports_from_extension, read_touchstone, s1p_string, shunt_through_s21_to_z, write_s1p, z_to_one_port_s,
 };
+pub use write::{write_atomically, write_outputs};
 
 use crate::model::Problem;
 use std::fmt;
-use std::io::Write;
 use std::path::Path;
 
 /// Where in a file a problem is.
@@ -90,13 +93,13 @@ impl BoardError {
         BoardError { file: file.to_string(), problems }
     }
 
-    /// One line per problem: `file:place: reason`.
+    /// One line per problem: `file:place: reason`, with control characters escaped (see [`printable`]).
     pub fn lines(&self) -> Vec<String> {
         self.problems
             .iter()
             .map(|p| match p.place {
-                Place::Whole => format!("{}: {}", self.file, p.reason),
-                _ => format!("{}:{}: {}", self.file, p.place, p.reason),
+                Place::Whole => printable(&format!("{}: {}", self.file, p.reason)),
+                _ => printable(&format!("{}:{}: {}", self.file, p.place, p.reason)),
             })
             .collect()
     }
@@ -110,26 +113,59 @@ impl fmt::Display for BoardError {
 
 impl std::error::Error for BoardError {}
 
-/// Write `bytes` to `path` so that a crash at any moment leaves either the old file or the new one, never half of
-/// one: a temporary file beside the target (same directory, so the rename stays on one file system), written,
-/// flushed and synced, then renamed over the target.
-pub fn write_atomically(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
-    let dir = match path.parent() {
-        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
-        _ => std::path::PathBuf::from("."),
-    };
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "board".into());
-    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
-    let result = (|| {
-        let mut file = std::fs::File::create(&tmp)?;
-        file.write_all(bytes)?;
-        file.flush()?;
-        file.sync_all()?;
-        drop(file);
-        std::fs::rename(&tmp, path)
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
+/// Read a whole file of at most `max_bytes`, refusing anything that is not a regular file (a FIFO would block
+/// forever, /dev/zero never ends) before opening it. The error says why in plain words.
+pub fn read_limited(path: &Path, max_bytes: u64) -> Result<Vec<u8>, String> {
+    use std::io::Read;
+    let meta = std::fs::metadata(path).map_err(|e| format!("cannot read the file: {e}"))?;
+    if !meta.is_file() {
+        let what = if meta.is_dir() { "a folder" } else { "not a regular file (a device, a pipe or a socket)" };
+        return Err(format!("cannot read the file: it is {what}"));
     }
-    result
+    if meta.len() > max_bytes {
+        return Err(format!(
+            "the file is {} bytes, more than the {} MiB hushrail reads (no real file of this kind is near that size)",
+            meta.len(),
+            max_bytes >> 20
+        ));
+    }
+    let file = std::fs::File::open(path).map_err(|e| format!("cannot read the file: {e}"))?;
+    let mut bytes = Vec::new();
+    // The size may change between the look and the read: never take more than the limit.
+    file.take(max_bytes + 1).read_to_end(&mut bytes).map_err(|e| format!("cannot read the file: {e}"))?;
+    if bytes.len() as u64 > max_bytes {
+        return Err(format!("the file grew past the {} MiB hushrail reads while it was read", max_bytes >> 20));
+    }
+    Ok(bytes)
+}
+
+/// Text from a file's bytes: UTF-8, with a leading byte-order mark dropped (JSON allows a reader to ignore one).
+/// An invalid byte is named with its line, column and offset.
+pub fn text_of(bytes: Vec<u8>) -> Result<String, (Place, String)> {
+    let body = bytes.strip_prefix("\u{feff}".as_bytes()).map(<[u8]>::to_vec).unwrap_or(bytes);
+    String::from_utf8(body).map_err(|e| {
+        let good = e.utf8_error().valid_up_to();
+        let bytes = e.as_bytes();
+        let prefix = String::from_utf8_lossy(&bytes[..good]);
+        let line = prefix.matches('\n').count() + 1;
+        let column = prefix.rsplit('\n').next().map_or(0, |l| l.chars().count()) + 1;
+        (
+            Place::LineColumn(line, column),
+            format!("not UTF-8 text: byte 0x{:02x} at offset {good} is not valid UTF-8", bytes[good]),
+        )
+    })
+}
+
+/// A message fit for a terminal: every control character (CR, LF, ESC...) written as an escape, so text from a
+/// file can never forge a line of the message or drive the terminal.
+pub fn printable(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    for ch in text.chars() {
+        if ch.is_control() {
+            out.extend(ch.escape_default());
+        } else {
+            out.push(ch);
+        }
+    }
+    out
 }

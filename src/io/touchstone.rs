@@ -159,11 +159,8 @@ pub fn shunt_through_s21_to_z(s21: Complex64, z0_ohm: f64) -> Complex64 {
 /// [Number of Ports] for version 2.0 (whose files may end in .ts).
 pub fn read_touchstone(path: &Path) -> Result<Touchstone, TouchstoneError> {
     let file = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|e| TouchstoneError {
-        file: file.clone(),
-        line: None,
-        reason: format!("cannot read: {e}"),
-    })?;
+    let bytes = super::read_limited(path, crate::model::ranges::MAX_TOUCHSTONE_BYTES)
+        .map_err(|reason| TouchstoneError { file: file.clone(), line: None, reason })?;
     let text = String::from_utf8(bytes).map_err(|e| TouchstoneError {
         file: file.clone(),
         line: None,

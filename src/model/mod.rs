@@ -3,6 +3,7 @@
 //! Everything here is in SI base units (F, Ω, H, Hz, V, A, s). Nothing here touches files, the window or the
 //! command line; reading and writing board files lives in `io`.
 
+pub mod ranges;
 mod validate;
 
 pub use validate::{Problem, validate_board, validate_part, validate_rail};

@@ -1,6 +1,7 @@
 //! The rules a board must keep before it is analysed. Every rule reports where (a JSON path such as
 //! `rails[1].decaps[0].part`) and why, and all problems are reported at once.
 
+use super::ranges::{self, Range};
 use super::{Board, DecapGroup, Die, Load, Package, Part, PartKind, Plane, Rail, Source};
 use crate::physics::mounting::geometry_problems;
 use crate::units::full_precision as num;
@@ -39,27 +40,19 @@ impl Checker<'_> {
         self.problems.push(Problem::new(path, reason));
     }
 
-    /// A finite number, > 0.
-    fn positive(&mut self, path: String, value: f64) {
-        if !value.is_finite() {
-            self.push(path, format!("must be a finite number, not {}", num(value)));
-        } else if value <= 0.0 {
-            self.push(path, format!("must be greater than 0, not {}", num(value)));
+    /// A number inside its documented plausible range.
+    fn range(&mut self, path: String, value: f64, range: &Range) {
+        if let Some(reason) = range.problem(value) {
+            self.push(path, reason);
         }
     }
 
-    /// A finite number, >= 0.
-    fn non_negative(&mut self, path: String, value: f64) {
-        if !value.is_finite() {
-            self.push(path, format!("must be a finite number, not {}", num(value)));
-        } else if value < 0.0 {
-            self.push(path, format!("must not be negative, not {}", num(value)));
-        }
-    }
-
+    /// A name: not empty, and no control characters (they would forge lines in messages and exports).
     fn name(&mut self, path: String, name: &str, what: &str) {
         if name.trim().is_empty() {
             self.push(path, format!("{what} must not be empty"));
+        } else if name.chars().any(char::is_control) {
+            self.push(path, format!("{what} must not contain control characters (line breaks, tabs, escapes)"));
         }
     }
 }
@@ -68,13 +61,21 @@ impl Checker<'_> {
 pub fn validate_board(board: &Board) -> Vec<Problem> {
     let mut problems = Vec::new();
     let mut c = Checker { problems: &mut problems };
-    if let Some([lo, hi]) = board.temperature_c
-        && (!lo.is_finite() || !hi.is_finite() || lo >= hi || lo < -273.15)
+    c.name("name".to_string(), &board.name, "the board's name");
+    if let Some(d) = &board.description
+        && d.chars().any(|ch| ch.is_control() && ch != '\n' && ch != '\t')
     {
-        c.push(
-            "temperature_c".to_string(),
-            format!("must be [min, max] in °C with min < max, not [{}, {}]", num(lo), num(hi)),
-        );
+        c.push("description".to_string(), "must not contain control characters other than line breaks and tabs");
+    }
+    if let Some([lo, hi]) = board.temperature_c {
+        c.range("temperature_c[0]".to_string(), lo, &ranges::TEMPERATURE_C);
+        c.range("temperature_c[1]".to_string(), hi, &ranges::TEMPERATURE_C);
+        if lo.is_finite() && hi.is_finite() && lo >= hi {
+            c.push(
+                "temperature_c".to_string(),
+                format!("must be [min, max] in °C with min < max, not [{}, {}]", num(lo), num(hi)),
+            );
+        }
     }
     let mut ids = HashSet::new();
     for (i, part) in board.parts.iter().enumerate() {
@@ -111,17 +112,17 @@ pub fn validate_rail(board: &Board, rail: &Rail, path: &str) -> Vec<Problem> {
 }
 
 fn check_part(c: &mut Checker, path: &str, part: &Part) {
-    if let Some(t) = part.tolerance_pct
-        && (!t.is_finite() || !(0.0..100.0).contains(&t))
-    {
-        c.push(format!("{path}.tolerance_pct"), format!("must be from 0 to under 100, not {}", num(t)));
+    if let Some(t) = part.tolerance_pct {
+        c.range(format!("{path}.tolerance_pct"), t, &ranges::TOLERANCE_PCT);
     }
     if let Some(curve) = &part.dc_bias {
         let mut last_v = 0.0;
         for (i, [v, r]) in curve.iter().enumerate() {
             let pp = format!("{path}.dc_bias[{i}]");
-            if !v.is_finite() || *v <= last_v {
-                c.push(format!("{pp}[0]"), format!("volts must be finite, above 0 and increasing, not {}", num(*v)));
+            if !ranges::BIAS_VOLTAGE.contains(*v) {
+                c.range(format!("{pp}[0]"), *v, &ranges::BIAS_VOLTAGE);
+            } else if *v <= last_v {
+                c.push(format!("{pp}[0]"), format!("volts must increase along the curve, not {}", num(*v)));
             } else {
                 last_v = *v;
             }
@@ -143,31 +144,35 @@ fn check_part(c: &mut Checker, path: &str, part: &Part) {
             c.push(format!("{path}.fixture"), "a measured part needs its fixture: \"one-port\" or \"shunt-through\"");
         }
     } else {
-        c.positive(format!("{path}.capacitance_f"), part.capacitance_f);
-        c.non_negative(format!("{path}.esr_ohm"), part.esr_ohm);
-        c.non_negative(format!("{path}.esl_h"), part.esl_h);
+        c.range(format!("{path}.capacitance_f"), part.capacitance_f, &ranges::CAPACITANCE);
+        c.range(format!("{path}.esr_ohm"), part.esr_ohm, &ranges::RESISTANCE);
+        c.range(format!("{path}.esl_h"), part.esl_h, &ranges::INDUCTANCE);
     }
     if let Some(v) = part.rated_voltage_v {
-        c.positive(format!("{path}.rated_voltage_v"), v);
+        c.range(format!("{path}.rated_voltage_v"), v, &ranges::RATED_VOLTAGE);
     }
     if let Some(v) = part.unit_cost {
-        c.non_negative(format!("{path}.unit_cost"), v);
+        c.range(format!("{path}.unit_cost"), v, &ranges::UNIT_COST);
     }
     if let Some(v) = part.area_m2 {
-        c.positive(format!("{path}.area_m2"), v);
+        c.range(format!("{path}.area_m2"), v, &ranges::AREA);
+    }
+    if let Some(t) = &part.touchstone
+        && t.chars().any(char::is_control)
+    {
+        c.push(format!("{path}.touchstone"), "must not contain control characters");
     }
 }
 
 fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>) {
     c.name(format!("{path}.name"), &rail.name, "rail name");
-    c.positive(format!("{path}.voltage_v"), rail.voltage_v);
-    let ripple = rail.ripple_pct;
-    if !ripple.is_finite() || ripple <= 0.0 || ripple >= 100.0 {
-        c.push(format!("{path}.ripple_pct"), format!("must be between 0 and 100 (exclusive), not {}", num(ripple)));
-    }
+    c.range(format!("{path}.voltage_v"), rail.voltage_v, &ranges::RAIL_VOLTAGE);
+    c.range(format!("{path}.ripple_pct"), rail.ripple_pct, &ranges::RIPPLE_PCT);
     match rail.band_hz {
         Some([lo, hi]) => {
-            if !lo.is_finite() || !hi.is_finite() || lo <= 0.0 || hi <= lo {
+            c.range(format!("{path}.band_hz[0]"), lo, &ranges::FREQUENCY);
+            c.range(format!("{path}.band_hz[1]"), hi, &ranges::FREQUENCY);
+            if lo.is_finite() && hi.is_finite() && hi <= lo {
                 c.push(
                     format!("{path}.band_hz"),
                     format!("must be [low, high] with 0 < low < high, not [{}, {}]", num(lo), num(hi)),
@@ -196,24 +201,31 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
         }
     }
     if let Some(Source { r_ohm, l_h }) = rail.source {
-        c.non_negative(format!("{path}.source.r_ohm"), r_ohm);
-        c.non_negative(format!("{path}.source.l_h"), l_h);
+        c.range(format!("{path}.source.r_ohm"), r_ohm, &ranges::RESISTANCE);
+        c.range(format!("{path}.source.l_h"), l_h, &ranges::SOURCE_INDUCTANCE);
+        if r_ohm == 0.0 && l_h == 0.0 {
+            c.push(
+                format!("{path}.source"),
+                "a source with neither resistance nor inductance holds the rail perfectly at every frequency, so \
+                 nothing else would matter: give its output resistance or inductance",
+            );
+        }
     }
     if let Some(Package { r_ohm, l_h }) = rail.package {
-        c.non_negative(format!("{path}.package.r_ohm"), r_ohm);
-        c.non_negative(format!("{path}.package.l_h"), l_h);
+        c.range(format!("{path}.package.r_ohm"), r_ohm, &ranges::RESISTANCE);
+        c.range(format!("{path}.package.l_h"), l_h, &ranges::INDUCTANCE);
     }
     if let Some(Die { capacitance_f, esr_ohm }) = rail.die {
-        c.positive(format!("{path}.die.capacitance_f"), capacitance_f);
-        c.non_negative(format!("{path}.die.esr_ohm"), esr_ohm);
+        c.range(format!("{path}.die.capacitance_f"), capacitance_f, &ranges::DIE_CAPACITANCE);
+        c.range(format!("{path}.die.esr_ohm"), esr_ohm, &ranges::RESISTANCE);
         if rail.package.is_none() {
             c.push(format!("{path}.die"), "a die needs a package to connect it to the board: give package");
         }
     }
     if let Some(Plane { capacitance_f, esr_ohm, esl_h }) = rail.plane {
-        c.positive(format!("{path}.plane.capacitance_f"), capacitance_f);
-        c.non_negative(format!("{path}.plane.esr_ohm"), esr_ohm);
-        c.non_negative(format!("{path}.plane.esl_h"), esl_h);
+        c.range(format!("{path}.plane.capacitance_f"), capacitance_f, &ranges::PLANE_CAPACITANCE);
+        c.range(format!("{path}.plane.esr_ohm"), esr_ohm, &ranges::RESISTANCE);
+        c.range(format!("{path}.plane.esl_h"), esl_h, &ranges::INDUCTANCE);
     }
     if rail.loads.is_empty() {
         c.push(format!("{path}.loads"), "a rail needs at least one load (its current step sets the target)");
@@ -221,18 +233,19 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
     for (i, Load { name, step_a, rise_time_s }) in rail.loads.iter().enumerate() {
         let lp = format!("{path}.loads[{i}]");
         c.name(format!("{lp}.name"), name, "load name");
-        c.positive(format!("{lp}.step_a"), *step_a);
+        c.range(format!("{lp}.step_a"), *step_a, &ranges::LOAD_STEP);
         if let Some(t) = rise_time_s {
-            c.positive(format!("{lp}.rise_time_s"), *t);
+            c.range(format!("{lp}.rise_time_s"), *t, &ranges::RISE_TIME);
         }
     }
-    for (i, DecapGroup { part, mounting_h, mounting, .. }) in rail.decaps.iter().enumerate() {
+    for (i, DecapGroup { part, count, mounting_h, mounting }) in rail.decaps.iter().enumerate() {
         let gp = format!("{path}.decaps[{i}]");
+        c.range(format!("{gp}.count"), f64::from(*count), &ranges::COUNT);
         if !part_ids.contains(part.as_str()) {
             c.push(format!("{gp}.part"), format!("no part has the id \"{part}\""));
         }
         match mounting {
-            None => c.non_negative(format!("{gp}.mounting_h"), *mounting_h),
+            None => c.range(format!("{gp}.mounting_h"), *mounting_h, &ranges::INDUCTANCE),
             Some(g) => {
                 for (field, reason) in geometry_problems(g) {
                     c.push(format!("{gp}.mounting.{field}"), reason);

@@ -88,21 +88,21 @@ pub fn via_partial_inductance(h: f64, d: f64) -> f64 {
 /// Check a geometry's values: every length finite and > 0 (a trace length may be 0), at least one via per pad,
 /// and the vias not overlapping. Returns (field, reason) pairs.
 pub fn geometry_problems(g: &MountingGeometry) -> Vec<(&'static str, String)> {
+    use crate::model::ranges;
     let mut out = Vec::new();
-    let mut positive = |name: &'static str, v: f64, zero_ok: bool| {
-        if !v.is_finite() || v < 0.0 || (v == 0.0 && !zero_ok) {
-            let want = if zero_ok { "0 or more" } else { "greater than 0" };
-            out.push((name, format!("must be a finite length {want} (metres), not {v}")));
+    let fields = [
+        ("trace_length_m", g.trace_length_m, &ranges::TRACE_LENGTH),
+        ("trace_width_m", g.trace_width_m, &ranges::TRACE_SECTION),
+        ("trace_height_m", g.trace_height_m, &ranges::TRACE_SECTION),
+        ("via_drill_m", g.via_drill_m, &ranges::VIA_DRILL),
+        ("via_length_m", g.via_length_m, &ranges::VIA_LENGTH),
+        ("via_pitch_m", g.via_pitch_m, &ranges::VIA_PITCH),
+        ("vias_per_pad", f64::from(g.vias_per_pad), &ranges::VIAS_PER_PAD),
+    ];
+    for (name, value, range) in fields {
+        if let Some(reason) = range.problem(value) {
+            out.push((name, reason));
         }
-    };
-    positive("trace_length_m", g.trace_length_m, true);
-    positive("trace_width_m", g.trace_width_m, false);
-    positive("trace_height_m", g.trace_height_m, false);
-    positive("via_drill_m", g.via_drill_m, false);
-    positive("via_length_m", g.via_length_m, false);
-    positive("via_pitch_m", g.via_pitch_m, false);
-    if g.vias_per_pad == 0 {
-        out.push(("vias_per_pad", "must be at least 1".to_string()));
     }
     if g.via_pitch_m.is_finite() && g.via_drill_m.is_finite() && g.via_pitch_m > 0.0 && g.via_pitch_m <= g.via_drill_m {
         out.push(("via_pitch_m", format!("must exceed the via drill ({} m): the vias would overlap", g.via_drill_m)));

@@ -1,8 +1,6 @@
 //! The planner window, driven headless through its accessibility tree the way a user would: click, type, press
 //! keys, drop a file. The figures it shows are checked against what the engine computes for the same board.
 
-
-
 use egui::accesskit::Role;
 use egui::{Key, Modifiers};
 use egui_kittest::Harness;
@@ -163,7 +161,7 @@ fn a_bad_entry_is_refused_at_the_field_with_its_reason() {
     // A number that is not physical: the board's rule says why.
     select_all_and_type(&mut harness, "Voltage", "-1");
     assert_eq!(harness.state().board(), &board);
-    assert!(harness.query_by_label_contains("must be greater than 0").is_some(), "rule reason shown");
+    assert!(harness.query_by_label_contains("must be from 1 mV to 100 kV").is_some(), "rule reason shown");
 
     // A good entry lands and the message goes away.
     select_all_and_type(&mut harness, "Voltage", "900m");
@@ -384,7 +382,7 @@ fn odd_but_valid_boards_do_not_upset_the_window() {
         r#"{"format": "hushrail-board", "version": 1, "name": "empty", "parts": [], "rails": []}"#,
         r#"{"format": "hushrail-board", "version": 1, "name": "bare", "parts": [], "rails": [
             {"name": "R", "voltage_v": 1, "ripple_pct": 5, "band_hz": [1e3, 1e6],
-             "source": {"r_ohm": 0, "l_h": 0}, "loads": [{"name": "l", "step_a": 1}], "decaps": []}]}"#,
+             "source": {"r_ohm": 0.001, "l_h": 0}, "loads": [{"name": "l", "step_a": 1}], "decaps": []}]}"#,
     ];
     for text in texts {
         let board = hushrail::io::parse_board(text, "odd.json").expect("valid board");

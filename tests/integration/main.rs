@@ -5,6 +5,8 @@ mod common;
 mod droop;
 mod exports;
 mod formulas;
+mod fuzz;
+mod fuzz_harness;
 mod gui;
 mod measured;
 mod ngspice;

@@ -83,7 +83,7 @@ fn board_strategy() -> impl Strategy<Value = Board> {
                 });
         let source = proptest::option::of(
             (zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-10.0, -6.0)))
-                .prop_map(|(r, l)| Source { r_ohm: r, l_h: l }),
+                .prop_map(|(r, l)| Source { r_ohm: r, l_h: if r == 0.0 && l == 0.0 { 1e-9 } else { l } }),
         );
         let plane = proptest::option::of(
             (log_value(-11.0, -7.0), zero_or(log_value(-5.0, -1.0)), zero_or(log_value(-13.0, -10.0)))
@@ -267,4 +267,99 @@ fn json_strategy() -> impl Strategy<Value = serde_json::Value> {
                 .prop_map(|m| Value::Object(m.into_iter().collect())),
         ]
     })
+}
+
+/// A value anywhere in a documented range: log-uniform between its ends, the ends themselves, or 0 where the
+/// range takes 0.
+fn in_range(r: &'static hushrail::model::ranges::Range) -> BoxedStrategy<f64> {
+    let (lo, hi) = (r.min.max(1e-300).log10(), r.max.log10());
+    let mut choices: Vec<(u32, BoxedStrategy<f64>)> = vec![
+        (6, (lo..=hi).prop_map(|e| 10f64.powf(e).clamp(r.min, r.max)).boxed()),
+        (1, Just(r.min).boxed()),
+        (1, Just(r.max).boxed()),
+    ];
+    if r.zero_ok {
+        choices.push((1, Just(0.0).boxed()));
+    }
+    proptest::strategy::Union::new_weighted(choices).boxed()
+}
+
+/// A board whose every value is drawn from the whole of its documented range, ends included.
+fn extreme_board_strategy() -> impl Strategy<Value = Board> {
+    use hushrail::model::ranges::*;
+    let part = (in_range(&CAPACITANCE), in_range(&RESISTANCE), in_range(&INDUCTANCE))
+        .prop_map(|(c, r, l)| Part::new("p", PartKind::Ceramic, c, r, l));
+    let rail = (
+        (in_range(&RAIL_VOLTAGE), in_range(&RIPPLE_PCT), in_range(&LOAD_STEP)),
+        (in_range(&FREQUENCY), in_range(&FREQUENCY)),
+        (in_range(&RESISTANCE), in_range(&SOURCE_INDUCTANCE)),
+        (in_range(&PLANE_CAPACITANCE), in_range(&RESISTANCE), in_range(&INDUCTANCE)),
+        (in_range(&RESISTANCE), in_range(&INDUCTANCE), in_range(&DIE_CAPACITANCE), in_range(&RESISTANCE)),
+        (0u32..=1_000_000, in_range(&INDUCTANCE)),
+        any::<[bool; 3]>(),
+    );
+    (part, rail).prop_map(|(part, (vrs, band, src, plane, pkg, group, on))| {
+        let (lo, hi) = if band.0 < band.1 { band } else { (band.1, band.0) };
+        let hi = if hi > lo { hi } else { lo * 2.0 };
+        Board {
+            parts: vec![part],
+            rails: vec![Rail {
+                name: "R".into(),
+                voltage_v: vrs.0,
+                ripple_pct: vrs.1,
+                band_hz: Some([lo, hi.min(FREQUENCY.max)]),
+                combine: Combine::Sum,
+                source: on[0].then_some(Source { r_ohm: src.0, l_h: src.1 }),
+                plane: on[1].then_some(Plane { capacitance_f: plane.0, esr_ohm: plane.1, esl_h: plane.2 }),
+                package: on[2].then_some(Package { r_ohm: pkg.0, l_h: pkg.1 }),
+                die: on[2].then_some(Die { capacitance_f: pkg.2, esr_ohm: pkg.3 }),
+                loads: vec![Load { name: "L".into(), step_a: vrs.2, rise_time_s: None }],
+                decaps: vec![DecapGroup::new("p", group.0.max(1), group.1)],
+            }],
+            ..Board::named("extreme")
+        }
+    })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
+
+    /// Any board inside the documented ranges (README, "Ranges"), ends included, computes finite figures: the
+    /// ranges are what makes every answer a number.
+    #[test]
+    fn boards_inside_the_ranges_give_finite_answers(board in extreme_board_strategy()) {
+        let problems = validate_board(&board);
+        prop_assume!(problems.is_empty());
+        for corner in [Corner::Nominal, Corner::Worst] {
+            for view in [Some(View::Board), Some(View::Die)] {
+                let options = AnalysisOptions { band_points: 60, corner, view, ..Default::default() };
+                let a = analyze_rail(&board, 0, &options).unwrap();
+                prop_assert!(a.target_ohm.is_finite() && a.target_ohm > 0.0, "target {}", a.target_ohm);
+                prop_assert!(a.worst_ohm.is_finite() && a.margin_db.is_finite() && a.margin_ratio.is_finite(),
+                    "worst {} margin {} dB", a.worst_ohm, a.margin_db);
+                for z in &a.scan.z { prop_assert!(z.re.is_finite() && z.im.is_finite()); }
+                for v in &a.violations { prop_assert!(v.from_hz.is_finite() && v.to_hz.is_finite() && v.peak_ohm.is_finite()); }
+                for p in &a.antiresonances { prop_assert!(p.freq_hz.is_finite() && p.z_ohm.is_finite()); }
+                for f in hushrail::analysis::explain(&board, &board.rails[0], &a) { prop_assert!(!f.text.contains("NaN") && !f.text.contains(" inf")); }
+            }
+        }
+    }
+
+    /// The scan is total: any samples at all (NaN, infinities, zeros, huge values) give an answer, with no panic and
+    /// no endless loop, and a sample that is not a number can only fail the band, never pass it.
+    #[test]
+    fn the_scan_is_total(samples in proptest::collection::vec(
+        prop_oneof![Just(f64::NAN), Just(f64::INFINITY), Just(0.0), Just(1e308), any::<f64>(), 0.0f64..2.0], 3..40),
+        target in prop_oneof![Just(f64::NAN), 0.0f64..2.0]) {
+        let n = samples.len();
+        let z_at = |f: f64| {
+            // Piecewise constant in ln f over [1, e^n): any sequence, refined points included.
+            let i = (f.ln().max(0.0) as usize).min(n - 1);
+            num_complex::Complex64::new(samples[i], 0.0)
+        };
+        let s = hushrail::analysis::scan(&z_at, [1.0, (n as f64).exp()], 3 * n, target);
+        if samples.iter().any(|m| m.is_nan()) {
+            prop_assert!(s.worst.z_ohm.is_nan() || target.is_nan() || s.worst.z_ohm > target);
+        }
+    }
 }
