@@ -86,7 +86,10 @@ pub fn run(command: Command) -> i32 {
     match result {
         Ok(code) => code,
         Err(message) => {
-            eprintln!("hushrail: {}", crate::io::printable(&message));
+            // Each line of the message is made printable on its own: the line breaks between problems stay, any
+            // control character inside a line (from a file's text) is shown as an escape.
+            let lines: Vec<String> = message.split('\n').map(crate::io::printable).collect();
+            eprintln!("hushrail: {}", lines.join("\n"));
             EXIT_BAD_INPUT
         }
     }

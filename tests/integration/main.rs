@@ -8,6 +8,7 @@ mod formulas;
 mod fuzz;
 mod fuzz_harness;
 mod gui;
+mod hostile;
 mod measured;
 mod ngspice;
 mod physics;
