@@ -224,7 +224,7 @@ fn to_text(h: &Header, s: &Suggestion) -> String {
     let mut t = String::new();
     let _ = writeln!(
         t,
-        "{}: {} from {}, each part mounted with {}; least {} first.",
+        "{}: {} {}, each part mounted with {}; least {} first.",
         h.rail,
         plural(h.candidates.len() as u64, "candidate", "candidates"),
         h.from,
@@ -409,15 +409,21 @@ fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<(Vec<crate::
     if out.len() > MAX_CANDIDATES {
         return Err(format!("{} candidate parts; a search takes at most {MAX_CANDIDATES}: name fewer", out.len()));
     }
-    let mut from: Vec<String> = Vec::new();
-    if args.from_shelf {
-        from.push("the shelf".into());
-    }
-    if let Some(p) = &args.candidates_from {
-        from.push(p.display().to_string());
-    }
-    if from.is_empty() || !args.candidates.is_empty() {
-        from.insert(0, "the board".into());
-    }
-    Ok((out, from.join(", ")))
+    // Where the candidates came from, for the header.
+    let from = if !args.candidates.is_empty() {
+        "those named".to_string()
+    } else {
+        let mut sources: Vec<String> = Vec::new();
+        if args.from_shelf {
+            sources.push("the shelf".into());
+        }
+        if let Some(p) = &args.candidates_from {
+            sources.push(p.display().to_string());
+        }
+        if sources.is_empty() {
+            sources.push("the board's own parts".into());
+        }
+        format!("from {}", sources.join(" and "))
+    };
+    Ok((out, from))
 }

@@ -514,18 +514,22 @@ pub fn suggest(
             required,
         ));
         if blockers.is_empty() {
-            let margin = closest_option.as_ref().map(|o| o.judged.margin_db);
+            // No bound proves it: say what the search found (each that applies).
             if let Some(best) = tally.best_droop.filter(|_| tally.droop_failed > 0) {
                 blockers.push(Blocker::Droop {
                     checked: tally.droop_failed,
                     best_droop_v: best.droop_v,
                     allowed_v: best.allowed_v,
                 });
-            } else if let Some(m) = margin.filter(|m| *m >= 0.0 && *m < options.margin_db) {
+            }
+            let margin = closest_option.as_ref().map(|o| o.judged.margin_db);
+            if let Some(m) = margin.filter(|m| *m >= 0.0 && *m < options.margin_db) {
                 blockers.push(Blocker::Margin { margin_db: options.margin_db, best_margin_db: m });
-            } else if let Some(needed) = kinds_needed(&problem, required * tighten, &setting) {
+            }
+            if let Some(needed) = kinds_needed(&problem, required * tighten, &setting) {
                 blockers.push(Blocker::Kinds { max_kinds: options.max_kinds, needed_kinds: needed });
-            } else {
+            }
+            if blockers.is_empty() {
                 blockers.push(Blocker::NotFound { max_total: options.max_total, max_per_part: options.max_per_part });
             }
         }
