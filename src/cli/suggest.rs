@@ -284,12 +284,8 @@ fn corner_json(c: &CornerFigures) -> Value {
 }
 
 fn option_json(candidates: &[Candidate], o: &MixOption) -> Value {
-    let counts: serde_json::Map<String, Value> = candidates
-        .iter()
-        .zip(&o.counts)
-        .filter(|(_, n)| **n > 0)
-        .map(|(c, n)| (c.part.id.clone(), json!(n)))
-        .collect();
+    let counts: serde_json::Map<String, Value> =
+        candidates.iter().zip(&o.counts).filter(|(_, n)| **n > 0).map(|(c, n)| (c.part.id.clone(), json!(n))).collect();
     let mut v = json!({"counts": counts, "objective": o.objective, "count": o.count, "kinds": o.kinds,
                        "new_lines": o.new_lines, "corners": [corner_json(&o.judged), corner_json(&o.other)],
                        "accepted": o.accepted});

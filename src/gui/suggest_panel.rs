@@ -12,9 +12,9 @@ use crate::analysis::{
     Candidate, CornerFigures, MixOption, Objective, SuggestOptions, Suggestion, VERDICT_CORNER, apply_mix, area_words,
     corner_words, cost_words, default_mounting_h, offered_parts, plural, ranges, suggest,
 };
-use crate::physics::Corner;
 use crate::io::read_board_keeping_unusable;
 use crate::model::Board;
+use crate::physics::Corner;
 use crate::units::{Unit, format};
 use egui::{RichText, Ui};
 use std::collections::BTreeSet;
@@ -401,9 +401,12 @@ impl App {
         );
         if let Some(n) = s.shortlisted {
             ui.label(
-                RichText::new(format!("The {} candidates were cut to the {n} that could matter.", run.candidates.len()))
-                    .small()
-                    .weak(),
+                RichText::new(format!(
+                    "The {} candidates were cut to the {n} that could matter.",
+                    run.candidates.len()
+                ))
+                .small()
+                .weak(),
             );
         }
         if stale {

@@ -117,8 +117,14 @@ fn heuristic_is_within_two_percent_of_the_best_known_cost() {
         6e-10,
     );
     let (max, kinds, corner, margin_db) = (9, 4, Corner::Worst, 1.0);
-    let options =
-        SuggestOptions { max_per_part: max, max_total: 7 * max, max_kinds: kinds, corner, options: 1, ..Default::default() };
+    let options = SuggestOptions {
+        max_per_part: max,
+        max_total: 7 * max,
+        max_kinds: kinds,
+        corner,
+        options: 1,
+        ..Default::default()
+    };
     let s = suggest(&board, rail, &c, &options).unwrap();
     assert!(!s.exhaustive, "past the exhaustive limit");
     // Best known: every mix with at most four kinds, screened on the grid (the engine's refined worst |Z| is never
@@ -274,8 +280,7 @@ fn a_count_floor_is_a_true_bound() {
     let options = SuggestOptions { max_total: 6, max_per_part: 6, margin_db: 0.0, ..Default::default() };
     let s = suggest(&board, rail, &c, &options).unwrap();
     assert!(s.options.is_empty());
-    let Some(Blocker::Count { at_hz, floor_ohm, .. }) =
-        s.blockers.iter().find(|b| matches!(b, Blocker::Count { .. }))
+    let Some(Blocker::Count { at_hz, floor_ohm, .. }) = s.blockers.iter().find(|b| matches!(b, Blocker::Count { .. }))
     else {
         panic!("a count floor: {:?}", s.blockers)
     };
@@ -292,8 +297,7 @@ fn a_kinds_limit_that_binds_is_said() {
     let board = edge_camera();
     let rail = board.rail_index("VCORE").unwrap();
     let shelf = hushrail::samples::shelf().unwrap();
-    let c: Vec<Candidate> =
-        shelf.parts.iter().map(|p| Candidate { part: p.clone(), mounting_h: 6e-10 }).collect();
+    let c: Vec<Candidate> = shelf.parts.iter().map(|p| Candidate { part: p.clone(), mounting_h: 6e-10 }).collect();
     let s = suggest(&board, rail, &c, &SuggestOptions { max_kinds: 1, ..Default::default() }).unwrap();
     if s.options.is_empty() {
         assert!(
@@ -386,16 +390,8 @@ fn suggest_cli_explains_when_nothing_fits_and_refuses_absurd_settings() {
     assert!(o["corners"][0]["margin_db"].as_f64().unwrap() >= 1.0 - 1e-9, "the default margin is 1 dB");
 
     // Words: a board part list without areas says so, and one option is "1 option".
-    let text = run(&[
-        "suggest",
-        "sample_boards/edge_camera.json",
-        "--rail",
-        "VDDR",
-        "--objective",
-        "count",
-        "--options",
-        "1",
-    ]);
+    let text =
+        run(&["suggest", "sample_boards/edge_camera.json", "--rail", "VDDR", "--objective", "count", "--options", "1"]);
     let t = String::from_utf8_lossy(&text.stdout);
     assert!(t.contains("no area given"), "{t}");
     assert!(!t.contains("area 0.0") && !t.contains(" 1 parts") && !t.contains("1 options"), "{t}");

@@ -76,10 +76,7 @@ impl MixEvaluator {
         let ones: Vec<Option<Branch>> = candidates.iter().map(|c| maker.branch(c)).collect();
         // Each candidate's own resonance is where adding it changes |Z| most sharply: look there too.
         freq_hz.extend(
-            ones.iter()
-                .flatten()
-                .filter_map(|b| b.rlc.self_resonance_hz())
-                .filter(|f| *f > band[0] && *f < band[1]),
+            ones.iter().flatten().filter_map(|b| b.rlc.self_resonance_hz()).filter(|f| *f > band[0] && *f < band[1]),
         );
         freq_hz.sort_by(f64::total_cmp);
         freq_hz.dedup();

@@ -299,8 +299,7 @@ pub(super) fn count_floor(
         let l = x / (TWO_PI * f) - part.esl_h;
         (l > 0.0).then_some(l)
     });
-    let band_top_hz =
-        first_bad.filter(|&q| q > 0 && inductive).map(|q: usize| eval.freq_hz[q - 1]);
+    let band_top_hz = first_bad.filter(|&q| q > 0 && inductive).map(|q: usize| eval.freq_hz[q - 1]);
     Some(Blocker::Count {
         at_hz: f,
         floor_ohm,

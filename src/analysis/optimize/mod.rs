@@ -44,7 +44,7 @@ pub const DEFAULT_MARGIN_DB: f64 = 1.0;
 
 /// Two options whose figures (worst |Z| in both corners, area) differ by less than this fraction, and of which the
 /// costlier has no fewer parts, are the same option for a designer: the costlier is dropped.
-pub const DISTINCT_TOLERANCE: f64 = 0.03;
+pub const DISTINCT_TOLERANCE: f64 = 0.05;
 
 /// Combinations at or below which the search is exhaustive.
 pub const EXHAUSTIVE_LIMIT: u64 = 100_000;
@@ -110,7 +110,6 @@ pub struct Candidate {
     /// Mounting inductance of one fitted part, H.
     pub mounting_h: f64,
 }
-
 
 /// The mounting inductance candidates get when the user gives none: the mean of the rail's groups' (so a mix is
 /// mounted like the parts already there), or 0.5 nH for a rail with no groups (a typical small-case mounting
@@ -218,7 +217,11 @@ impl SuggestOptions {
             return bad("the most parts in all", self.max_total.to_string(), format!("1 to {}", ranges::MAX_TOTAL));
         }
         if !(1..=ranges::MAX_PER_PART).contains(&self.max_per_part) {
-            return bad("the most of one part", self.max_per_part.to_string(), format!("1 to {}", ranges::MAX_PER_PART));
+            return bad(
+                "the most of one part",
+                self.max_per_part.to_string(),
+                format!("1 to {}", ranges::MAX_PER_PART),
+            );
         }
         if !(1..=ranges::MAX_KINDS).contains(&self.max_kinds) {
             return bad("the most kinds of part", self.max_kinds.to_string(), format!("1 to {}", ranges::MAX_KINDS));
@@ -332,7 +335,12 @@ impl Shortfall {
         } else {
             "every other mix found is worse in every respect (objective, count, area, |Z|) than one shown".into()
         });
-        format!("{} of the {} asked for: {}.", plural(self.found as u64, "option", "options"), self.asked, why.join("; "))
+        format!(
+            "{} of the {} asked for: {}.",
+            plural(self.found as u64, "option", "options"),
+            self.asked,
+            why.join("; ")
+        )
     }
 }
 
@@ -453,7 +461,8 @@ pub fn suggest(
     let setting = Setting::of(board, rail, options);
     let kept = shortlist::shortlist(board, rail, candidates, &unit, options.corner);
     let sub: Vec<Candidate> = kept.iter().map(|&i| candidates[i].clone()).collect();
-    let eval = MixEvaluator::in_corner(board, rail_index, &sub, options.keep_existing, options.grid_points, options.corner);
+    let eval =
+        MixEvaluator::in_corner(board, rail_index, &sub, options.keep_existing, options.grid_points, options.corner);
     let problem = Problem {
         eval: &eval,
         unit: kept.iter().map(|&i| unit[i]).collect(),
@@ -491,7 +500,7 @@ pub fn suggest(
             _ => break,
         }
     }
-    let shortfall = (!found.is_empty() && found.len() < options.options).then(|| Shortfall {
+    let shortfall = (!found.is_empty() && found.len() < options.options).then_some(Shortfall {
         asked: options.options,
         found: found.len(),
         similar: tally.similar,
@@ -570,13 +579,8 @@ struct Setting {
 
 impl Setting {
     fn of(board: &Board, rail: &Rail, options: &SuggestOptions) -> Setting {
-        let existing_lines = board
-            .rails
-            .iter()
-            .flat_map(|r| r.decaps.iter())
-            .filter(|g| g.count > 0)
-            .map(|g| g.part.clone())
-            .collect();
+        let existing_lines =
+            board.rails.iter().flat_map(|r| r.decaps.iter()).filter(|g| g.count > 0).map(|g| g.part.clone()).collect();
         let rail_kinds: HashSet<String> = if options.keep_existing {
             rail.decaps.iter().filter(|g| g.count > 0).map(|g| g.part.clone()).collect()
         } else {

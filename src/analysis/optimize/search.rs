@@ -238,8 +238,7 @@ impl<'a> Search<'a> {
                         counts[x] = n.max(0) as u32;
                     }
                     let total: u32 = counts.iter().sum();
-                    let slots: u32 =
-                        counts.iter().zip(&self.p.slot).filter(|(n, _)| **n > 0).map(|(_, s)| s).sum();
+                    let slots: u32 = counts.iter().zip(&self.p.slot).filter(|(n, _)| **n > 0).map(|(_, s)| s).sum();
                     if !ok || total > self.p.max_total || slots > self.p.kinds_free {
                         continue;
                     }
@@ -347,14 +346,11 @@ pub(super) fn combinations(slot: &[u32], max_per_part: u32, kinds_free: u32) -> 
     let free = slot.iter().filter(|s| **s == 0).count() as u32;
     let taking = slot.len() as u128 - free as u128;
     // Σ_{j ≤ K} C(taking, j)·m^j for the candidates that take a slot, times (m+1)^free for those that do not.
-    let mut sum: u128 = 0;
-    let mut choose: u128 = 1;
-    let mut power: u128 = 1;
-    for j in 0..=(kinds_free as u128).min(taking) {
-        if j > 0 {
-            choose = choose.saturating_mul(taking - j + 1) / j;
-            power = power.saturating_mul(m);
-        }
+    let mut sum: u128 = 1;
+    let (mut choose, mut power) = (1u128, 1u128);
+    for j in 1..=(kinds_free as u128).min(taking) {
+        choose = choose.saturating_mul(taking - j + 1) / j;
+        power = power.saturating_mul(m);
         sum = sum.saturating_add(choose.saturating_mul(power));
     }
     let rest = (m + 1).checked_pow(free).unwrap_or(u128::MAX);

@@ -17,7 +17,13 @@ pub const SHORTLIST_SIZE: usize = 32;
 const PROBES: usize = 24;
 
 /// The indices of the parts kept, in the candidates' order.
-pub(super) fn shortlist(board: &Board, rail: &Rail, candidates: &[Candidate], unit: &[f64], corner: Corner) -> Vec<usize> {
+pub(super) fn shortlist(
+    board: &Board,
+    rail: &Rail,
+    candidates: &[Candidate],
+    unit: &[f64],
+    corner: Corner,
+) -> Vec<usize> {
     if candidates.len() <= SHORTLIST_SIZE {
         return (0..candidates.len()).collect();
     }
