@@ -233,9 +233,9 @@ fn best_option_agrees_with_ngspice() {
     }
 }
 
-/// A package too inductive for the band: no mix can help, the blame is the package with figures that match the
-/// parallel impedance of the package and the die (textbook circuit theory), nothing is offered to apply, and the
-/// package inductance it names as enough is enough.
+/// A package too inductive for the band: no mix qualifies, the blame is the package with figures that match the
+/// impedance of the package (and die) behind an ideal board (textbook circuit theory), nothing is offered to
+/// apply, and the package inductance it names is enough for an ideal board.
 #[test]
 fn a_package_above_target_alone_is_named_with_its_figures_and_no_option_is_offered() {
     let mut board = edge_camera();

@@ -1,6 +1,8 @@
 //! Why no mix meets the requirement: what stops it, in plain words and the engine's figures, and what would make
-//! it feasible. The bounds here are proofs (no mix within the limits can do better), the other reasons say what
-//! the search found.
+//! it feasible. The count floor is a proof (no mix within the limits does better at that frequency); the package
+//! figure is the ideal board's case (a real board's impedance adds to the package's, though its resistance can
+//! also damp a package-die resonance, so it is a diagnosis, not a proof); the other reasons say what the search
+//! found.
 
 use super::Candidate;
 use super::evaluator::{MixEvaluator, inverse};
@@ -12,7 +14,8 @@ use num_complex::Complex64;
 /// One thing that stops every mix from meeting the requirement.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Blocker {
-    /// The package alone: with the board's rail node held at 0 Ω, |Z| at the die is above what is required.
+    /// The package: even with an ideal board (its rail node held at 0 Ω), |Z| at the die is above what is required.
+    /// Reported only when no mix qualifies.
     Package {
         /// Where it is highest above the requirement, Hz.
         at_hz: f64,
@@ -111,12 +114,12 @@ impl Blocker {
                     fixes.push(format!("a band ending at {} or lower", hz(*f)));
                 }
                 format!(
-                    "The package alone is above target: even with the board's rail node held at 0 Ω, |Z| at the die \
-                     reaches {} at {}, above the {} required. No capacitor on the board can lower that.{}",
+                    "The package is the limit: even an ideal board (0 Ω at its rail node) leaves |Z| at the die at {} \
+                     at {}, above the {} required. With {}, an ideal board would meet it.",
                     ohm(*floor_ohm),
                     hz(*at_hz),
                     ohm(*required_ohm),
-                    feasible_with(&fixes)
+                    if fixes.is_empty() { "a lower package resistance".to_string() } else { either(&fixes) }
                 )
             }
             Blocker::Count {
@@ -193,16 +196,24 @@ pub fn plural(n: u64, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })
 }
 
+/// "a, b or c".
+fn either(fixes: &[String]) -> String {
+    match fixes {
+        [] => String::new(),
+        [one] => one.clone(),
+        [rest @ .., last] => format!("{}, or {last}", rest.join(", ")),
+    }
+}
+
 /// " It becomes feasible with a, b or c." (or nothing).
 fn feasible_with(fixes: &[String]) -> String {
     match fixes {
         [] => String::new(),
-        [one] => format!(" It becomes feasible with {one}."),
-        [rest @ .., last] => format!(" It becomes feasible with {}, or {last}.", rest.join(", ")),
+        _ => format!(" It becomes feasible with {}.", either(fixes)),
     }
 }
 
-/// The package bound: |Z| at the die with the board's rail node shorted, against `required`.
+/// The package with an ideal board: |Z| at the die with the board's rail node shorted, against `required`.
 pub(super) fn package_floor(rail: &Rail, eval: &MixEvaluator, required: f64) -> Option<Blocker> {
     let pkg = rail.package?;
     if !eval.at_die() {
