@@ -2,7 +2,7 @@
 //! Run with `cargo bench --bench engine`.
 
 use criterion::{Criterion, criterion_group, criterion_main};
-use hushrail::analysis::{AnalysisOptions, Candidate, SuggestOptions, analyze_rail, log_grid, suggest, sweep};
+use hushrail::analysis::{AnalysisOptions, analyze_rail, log_grid, sweep};
 use std::hint::black_box;
 
 fn ten_groups() -> hushrail::model::Board {
@@ -45,39 +45,5 @@ fn engine(c: &mut Criterion) {
     c.bench_function("sweep 10 groups, 10000 points", |b| b.iter(|| sweep(black_box(&board), rail, &grid)));
 }
 
-/// The optimizer: VCORE of the sample edge-camera board (band 1 kHz to 20 MHz, over four decades) with twelve
-/// candidates from the shelf, the best option with every check the command runs.
-fn optimizer(c: &mut Criterion) {
-    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/sample_boards/edge_camera.json");
-    let board = hushrail::io::read_board(std::path::Path::new(path)).expect("sample board");
-    let rail = board.rail_index("VCORE").expect("VCORE");
-    let shelf = hushrail::samples::shelf().expect("shelf");
-    let ids = [
-        "shelf-c10n-0402",
-        "shelf-c100n-0402",
-        "shelf-c220n-0402",
-        "shelf-c1u-0402",
-        "shelf-c2u2-0402",
-        "shelf-c4u7-0603",
-        "shelf-c10u-0603",
-        "shelf-c22u-0805",
-        "shelf-c47u-1206",
-        "shelf-poly-220u-7343",
-        "shelf-poly-470u-7343",
-        "shelf-alu-1m-d10",
-    ];
-    let candidates: Vec<Candidate> = ids
-        .iter()
-        .map(|id| Candidate { part: shelf.part(id).expect("shelf part").clone(), mounting_h: 6e-10 })
-        .collect();
-    let mut group = c.benchmark_group("optimizer");
-    group.sample_size(10);
-    group.bench_function("suggest, 12 candidates, VCORE 1 kHz to 20 MHz", |b| {
-        let options = SuggestOptions { options: 1, ..Default::default() };
-        b.iter(|| suggest(black_box(&board), rail, &candidates, &options).expect("search"))
-    });
-    group.finish();
-}
-
-criterion_group!(benches, engine, optimizer);
+criterion_group!(benches, engine);
 criterion_main!(benches);

@@ -15,8 +15,10 @@ pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, View, magnitude_phase};
 pub use optimize::{
-    Candidate, MixEvaluator, MixOption, Objective, SuggestError, SuggestOptions, Suggestion, apply_mix,
-    default_mounting_h, offered_parts, suggest,
+    Blocker, Candidate, CornerFigures, DEFAULT_MARGIN_DB, DISTINCT_TOLERANCE, DroopFigures, EXHAUSTIVE_LIMIT,
+    MAX_CANDIDATES, MixEvaluator, MixOption, Objective, SHORTLIST_SIZE, Shortfall, SuggestError, SuggestOptions,
+    Suggestion, VERDICT_CORNER, apply_mix, area_words, corner_words, cost_words, default_mounting_h, offered_parts,
+    other_corner, plural, ranges, suggest,
 };
 pub use rail::{
     AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, sweep,

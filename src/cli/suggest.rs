@@ -1,24 +1,39 @@
-//! `hushrail suggest`: mixes of candidate parts that meet a rail's target at the least cost, count or area.
+//! `hushrail suggest`: mixes of candidate parts that meet a rail's target with a margin in a corner, with few
+//! distinct parts, at the least cost, count or area. The engine finds and words everything; this prints it.
 
 use super::{EXIT_MISS, EXIT_PASS, emit, find_rail, load_board};
-use crate::analysis::{Candidate, Objective, SuggestOptions, default_mounting_h, offered_parts, suggest};
+use crate::analysis::{
+    Blocker, Candidate, CornerFigures, DEFAULT_MARGIN_DB, MAX_CANDIDATES, MixOption, Objective, SuggestOptions,
+    Suggestion, VERDICT_CORNER, area_words, corner_words, cost_words, default_mounting_h, offered_parts, plural,
+    ranges, suggest,
+};
 use crate::io::read_board;
 use crate::model::Board;
+use crate::physics::Corner;
 use crate::units::{Unit, format, parse};
 use clap::Args;
-use serde_json::json;
+use serde_json::{Value, json};
 use std::fmt::Write;
 use std::path::PathBuf;
 
 /// What to minimise, as the command line spells it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum ObjectiveArg {
-    /// Total cost of the parts.
+    /// Total cost of the parts (plus --line-cost per new line item).
     Cost,
     /// Number of parts.
     Count,
     /// Board area of the parts.
     Area,
+}
+
+/// The corner every option must meet target in, as the command line spells it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum SuggestCorner {
+    /// The corner the check's verdict uses.
+    Typical,
+    /// Lowest effective capacitance: DC bias, temperature class limit and tolerance.
+    Worst,
 }
 
 /// Options of `hushrail suggest`.
@@ -49,6 +64,22 @@ pub struct SuggestArgs {
     /// Most parts of one candidate.
     #[arg(long, default_value_t = 50)]
     pub max_per_part: u32,
+    /// Most distinct parts on the rail (with --keep-existing, the kept groups' parts count).
+    #[arg(long, default_value_t = 4)]
+    pub max_kinds: u32,
+    /// Cost of each line item the mix adds (a part the board does not use yet), added to the cost objective.
+    #[arg(long, default_value_t = 0.0)]
+    pub line_cost: f64,
+    /// Margin under target every option must keep, dB.
+    #[arg(long, default_value_t = DEFAULT_MARGIN_DB)]
+    pub margin_db: f64,
+    /// The corner every option must meet target in ("typical" is the one the check's verdict uses); the other
+    /// corner's figures are shown beside.
+    #[arg(long, value_enum, default_value = "typical")]
+    pub corner: SuggestCorner,
+    /// Every option must also keep the step droop within the allowed band (voltage × ripple).
+    #[arg(long)]
+    pub droop: bool,
     /// How many options to show.
     #[arg(long, default_value_t = 5)]
     pub options: usize,
@@ -63,19 +94,62 @@ pub struct SuggestArgs {
     pub json: bool,
 }
 
-/// Run the search and print the options; exit 0 when some option meets target, 1 when none can.
+/// The library's corner for the command line's.
+fn corner_of(c: SuggestCorner) -> Corner {
+    match c {
+        SuggestCorner::Typical => VERDICT_CORNER,
+        SuggestCorner::Worst => Corner::Worst,
+    }
+}
+
+/// Each flag inside its range, or a message naming the flag, the value and the range.
+fn check_flags(args: &SuggestArgs) -> Result<(), String> {
+    let outside = |flag: &str, value: String, range: String| Err(format!("--{flag}: {value} is outside {range}"));
+    if !(1..=ranges::MAX_TOTAL).contains(&args.max_total) {
+        return outside("max-total", args.max_total.to_string(), format!("1 to {}", ranges::MAX_TOTAL));
+    }
+    if !(1..=ranges::MAX_PER_PART).contains(&args.max_per_part) {
+        return outside("max-per-part", args.max_per_part.to_string(), format!("1 to {}", ranges::MAX_PER_PART));
+    }
+    if !(1..=ranges::MAX_KINDS).contains(&args.max_kinds) {
+        return outside("max-kinds", args.max_kinds.to_string(), format!("1 to {}", ranges::MAX_KINDS));
+    }
+    if !(1..=ranges::OPTIONS).contains(&args.options) {
+        return outside("options", args.options.to_string(), format!("1 to {}", ranges::OPTIONS));
+    }
+    if !(0.0..=ranges::MARGIN_DB).contains(&args.margin_db) {
+        return outside("margin-db", args.margin_db.to_string(), format!("0 to {} dB", ranges::MARGIN_DB));
+    }
+    if !(0.0..=ranges::LINE_COST).contains(&args.line_cost) {
+        return outside("line-cost", args.line_cost.to_string(), format!("0 to {}", ranges::LINE_COST));
+    }
+    if args.line_cost > 0.0 && args.objective != ObjectiveArg::Cost {
+        return Err("--line-cost is added to the cost objective: use it with --objective cost".into());
+    }
+    Ok(())
+}
+
+/// Run the search and print the options; exit 0 when some option qualifies, 1 when none does.
 pub fn run(args: &SuggestArgs) -> Result<i32, String> {
+    check_flags(args)?;
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = find_rail(&board, &file, &args.rail)?;
     let index = board.rail_index(&rail.name).unwrap_or(0);
     let mounting_h = match &args.mounting {
-        Some(text) => parse(text, Unit::Henry).map_err(|e| format!("--mounting: {e}"))?,
+        Some(text) => {
+            let l = parse(text, Unit::Henry).map_err(|e| format!("--mounting: {e}"))?;
+            if !(0.0..=ranges::MOUNTING_H).contains(&l) {
+                return Err(format!(
+                    "--mounting: {text} is outside 0 to {} (real mountings are about 0.2-2 nH)",
+                    format(ranges::MOUNTING_H, Unit::Henry)
+                ));
+            }
+            l
+        }
         None => default_mounting_h(rail),
     };
-    let candidates = gather(args, &board, rail.voltage_v)?
-        .into_iter()
-        .map(|part| Candidate { part, mounting_h })
-        .collect::<Vec<_>>();
+    let (parts, from) = gather(args, &board, rail.voltage_v)?;
+    let candidates = parts.into_iter().map(|part| Candidate { part, mounting_h }).collect::<Vec<_>>();
     let objective = match args.objective {
         ObjectiveArg::Cost => Objective::Cost,
         ObjectiveArg::Count => Objective::Count,
@@ -85,74 +159,213 @@ pub fn run(args: &SuggestArgs) -> Result<i32, String> {
         objective,
         max_total: args.max_total,
         max_per_part: args.max_per_part,
-        options: args.options.max(1),
+        max_kinds: args.max_kinds,
+        line_cost: args.line_cost,
+        margin_db: args.margin_db,
+        corner: corner_of(args.corner),
+        droop: args.droop,
+        options: args.options,
         keep_existing: args.keep_existing,
         ..Default::default()
     };
     let s = suggest(&board, index, &candidates, &options).map_err(|e| format!("{file}: rail {}: {e}", rail.name))?;
-    let any = s.options.iter().any(|o| o.meets_target);
-    if args.json {
-        let opts: Vec<_> = s
-            .options
-            .iter()
-            .map(|o| {
-                let counts: serde_json::Map<String, serde_json::Value> = candidates
-                    .iter()
-                    .zip(&o.counts)
-                    .filter(|(_, n)| **n > 0)
-                    .map(|(c, n)| (c.part.id.clone(), json!(n)))
-                    .collect();
-                json!({"counts": counts, "cost": o.cost, "count": o.count, "area_m2": o.area_m2,
-                       "worst_ohm": o.worst_ohm, "worst_hz": o.worst_hz, "margin_db": o.margin_db,
-                       "meets_target": o.meets_target})
-            })
-            .collect();
-        let value = json!({"rail": rail.name, "objective": objective.name(), "exhaustive": s.exhaustive,
-                           "mounting_h": mounting_h, "keep_existing": args.keep_existing,
-                           "candidates": candidates.iter().map(|c| c.part.id.clone()).collect::<Vec<_>>(),
-                           "options": opts, "limit": s.limit});
-        emit(&(serde_json::to_string_pretty(&value).unwrap_or_default() + "\n"));
-    } else {
-        let mut t = String::new();
+    let header = Header { rail: &rail.name, from: &from, candidates: &candidates, options: &options, mounting_h };
+    emit(&if args.json { to_json(&header, &s) } else { to_text(&header, &s) });
+    Ok(if s.options.is_empty() { EXIT_MISS } else { EXIT_PASS })
+}
+
+/// What a search was asked, for its printout.
+struct Header<'a> {
+    rail: &'a str,
+    from: &'a str,
+    candidates: &'a [Candidate],
+    options: &'a SuggestOptions,
+    mounting_h: f64,
+}
+
+/// The parts of a mix in words: "3 × a + 5 × b".
+fn mix_words(candidates: &[Candidate], counts: &[u32]) -> String {
+    let parts: Vec<String> =
+        candidates.iter().zip(counts).filter(|(_, n)| **n > 0).map(|(c, n)| format!("{n} × {}", c.part.id)).collect();
+    if parts.is_empty() { "no parts added".into() } else { parts.join(" + ") }
+}
+
+/// One corner's line: "nominal corner: worst |Z| ... (meets target)".
+fn corner_line(c: &CornerFigures) -> String {
+    let verdict = if c.meets_target { "meets target" } else { "MISSES target" };
+    format!("{} corner: {}, {verdict}", c.corner.name(), corner_words(c))
+}
+
+/// The figures of one option, indented under its title.
+fn option_text(t: &mut String, o: &MixOption) {
+    let _ = writeln!(t, "  {}", corner_line(&o.judged));
+    let _ = writeln!(t, "  {}", corner_line(&o.other));
+    if let Some(d) = &o.droop {
         let _ = writeln!(
             t,
-            "{}: {} candidates, least {} first, each part mounted with {}{}",
-            rail.name,
-            candidates.len(),
-            objective.name(),
-            format(mounting_h, Unit::Henry),
-            if s.exhaustive { " (every combination tried)" } else { "" }
+            "  step droop {} against {} allowed{}",
+            format(d.droop_v, Unit::Volt),
+            format(d.allowed_v, Unit::Volt),
+            if d.meets { "" } else { ": OUTSIDE" }
         );
-        for (n, o) in s.options.iter().enumerate() {
-            let parts: Vec<String> = candidates
-                .iter()
-                .zip(&o.counts)
-                .filter(|(_, k)| **k > 0)
-                .map(|(c, k)| format!("{k} × {}", c.part.id))
-                .collect();
-            let verdict = if o.meets_target { "meets target" } else { "MISSES target" };
-            let _ = writeln!(t, "option {}: {}", n + 1, parts.join(" + "));
-            let _ = writeln!(
-                t,
-                "  {verdict}: worst |Z| {} at {}, margin {:+.1} dB; {} parts, cost {:.3}, area {:.1} mm²",
-                format(o.worst_ohm, Unit::Ohm),
-                format(o.worst_hz, Unit::Hertz),
-                o.margin_db,
-                o.count,
-                o.cost,
-                o.area_m2 * 1e6
-            );
-        }
-        if let Some(limit) = &s.limit {
-            let _ = writeln!(t, "no mix meets target: {limit}");
-        }
-        emit(&t);
     }
-    Ok(if any { EXIT_PASS } else { EXIT_MISS })
+    let _ = writeln!(
+        t,
+        "  {}, {}, {}, {}",
+        plural(o.count as u64, "part", "parts"),
+        plural(o.kinds as u64, "kind", "kinds"),
+        cost_words(o),
+        area_words(o.area_m2)
+    );
+}
+
+fn to_text(h: &Header, s: &Suggestion) -> String {
+    let o = h.options;
+    let mut t = String::new();
+    let _ = writeln!(
+        t,
+        "{}: {} {}, each part mounted with {}; least {} first.",
+        h.rail,
+        plural(h.candidates.len() as u64, "candidate", "candidates"),
+        h.from,
+        format(h.mounting_h, Unit::Henry),
+        o.objective.name()
+    );
+    let mut rules = format!(
+        "Every option meets target ({}) with {:.1} dB margin (|Z| at most {}) in the {} corner, with at most {}",
+        format(s.target_ohm, Unit::Ohm),
+        o.margin_db,
+        format(s.required_ohm, Unit::Ohm),
+        o.corner.name(),
+        plural(o.max_kinds as u64, "kind of part", "kinds of part"),
+    );
+    if o.line_cost > 0.0 {
+        let _ = write!(rules, ", each new line item costing {}", o.line_cost);
+    }
+    if o.droop {
+        rules.push_str(", and keeps the step droop within the allowed band");
+    }
+    rules.push('.');
+    if s.exhaustive {
+        rules.push_str(" Every combination was tried.");
+    }
+    if let Some(n) = s.shortlisted {
+        let _ = write!(rules, " The {} candidates were cut to the {n} that could matter.", h.candidates.len());
+    }
+    let _ = writeln!(t, "{rules}");
+    for (n, m) in s.options.iter().enumerate() {
+        let _ = writeln!(t, "option {}: {}", n + 1, mix_words(h.candidates, &m.counts));
+        option_text(&mut t, m);
+    }
+    if let Some(f) = &s.shortfall {
+        let _ = writeln!(t, "{}", f.words());
+    }
+    if s.options.is_empty() {
+        let _ = writeln!(
+            t,
+            "No mix meets target with {:.1} dB margin in the {} corner within the limits.",
+            o.margin_db,
+            o.corner.name()
+        );
+        for b in &s.blockers {
+            let _ = writeln!(t, "  {}", b.words());
+        }
+        if let Some(c) = &s.closest {
+            let _ = writeln!(t, "closest mix found (not offered: it misses): {}", mix_words(h.candidates, &c.counts));
+            option_text(&mut t, c);
+        }
+    }
+    t
+}
+
+fn corner_json(c: &CornerFigures) -> Value {
+    json!({"corner": c.corner.name(), "worst_ohm": c.worst_ohm, "worst_hz": c.worst_hz, "margin_db": c.margin_db,
+           "meets_target": c.meets_target})
+}
+
+fn option_json(candidates: &[Candidate], o: &MixOption) -> Value {
+    let counts: serde_json::Map<String, Value> =
+        candidates.iter().zip(&o.counts).filter(|(_, n)| **n > 0).map(|(c, n)| (c.part.id.clone(), json!(n))).collect();
+    let mut v = json!({"counts": counts, "objective": o.objective, "count": o.count, "kinds": o.kinds,
+                       "new_lines": o.new_lines, "corners": [corner_json(&o.judged), corner_json(&o.other)],
+                       "accepted": o.accepted});
+    // A missing cost or area is left out rather than written as a number that is not one.
+    if let Some(c) = o.cost {
+        v["cost"] = json!(c);
+    }
+    if let Some(a) = o.area_m2 {
+        v["area_m2"] = json!(a);
+    }
+    if let Some(d) = &o.droop {
+        v["droop"] = json!({"droop_v": d.droop_v, "allowed_v": d.allowed_v, "meets": d.meets});
+    }
+    v
+}
+
+fn blocker_json(b: &Blocker) -> Value {
+    let mut v = match b {
+        Blocker::Package { at_hz, floor_ohm, required_ohm, package_l_h, needed_l_h, band_top_hz } => {
+            json!({"at_hz": at_hz, "floor_ohm": floor_ohm, "required_ohm": required_ohm, "package_l_h": package_l_h,
+                   "needed_l_h": needed_l_h, "band_top_hz": band_top_hz})
+        }
+        Blocker::Count {
+            at_hz,
+            floor_ohm,
+            required_ohm,
+            best_part,
+            inductive,
+            allowed_parts,
+            needed_parts,
+            mounting_h,
+            needed_mounting_h,
+            band_top_hz,
+        } => json!({"at_hz": at_hz, "floor_ohm": floor_ohm, "required_ohm": required_ohm, "best_part": best_part,
+                    "inductive": inductive, "allowed_parts": allowed_parts, "needed_parts": needed_parts,
+                    "mounting_h": mounting_h, "needed_mounting_h": needed_mounting_h, "band_top_hz": band_top_hz}),
+        Blocker::Kinds { max_kinds, needed_kinds } => json!({"max_kinds": max_kinds, "needed_kinds": needed_kinds}),
+        Blocker::Margin { margin_db, best_margin_db } => {
+            json!({"margin_db": margin_db, "best_margin_db": best_margin_db})
+        }
+        Blocker::Droop { checked, best_droop_v, allowed_v } => {
+            json!({"checked": checked, "best_droop_v": best_droop_v, "allowed_v": allowed_v})
+        }
+        Blocker::NotFound { max_total, max_per_part } => json!({"max_total": max_total, "max_per_part": max_per_part}),
+    };
+    // Figures that do not apply (null) are left out.
+    if let Some(map) = v.as_object_mut() {
+        map.retain(|_, x| !x.is_null());
+    }
+    v["kind"] = json!(b.kind());
+    v["text"] = json!(b.words());
+    v
+}
+
+fn to_json(h: &Header, s: &Suggestion) -> String {
+    let o = h.options;
+    let mut v = json!({
+        "rail": h.rail, "objective": o.objective.name(), "corner": o.corner.name(), "margin_db": o.margin_db,
+        "target_ohm": s.target_ohm, "required_ohm": s.required_ohm, "max_kinds": o.max_kinds,
+        "max_total": o.max_total, "max_per_part": o.max_per_part, "line_cost": o.line_cost, "droop": o.droop,
+        "exhaustive": s.exhaustive, "mounting_h": h.mounting_h, "keep_existing": o.keep_existing,
+        "candidates": h.candidates.iter().map(|c| c.part.id.clone()).collect::<Vec<_>>(),
+        "options": s.options.iter().map(|m| option_json(h.candidates, m)).collect::<Vec<_>>(),
+        "blockers": s.blockers.iter().map(blocker_json).collect::<Vec<_>>(),
+    });
+    if let Some(n) = s.shortlisted {
+        v["shortlisted"] = json!(n);
+    }
+    if let Some(c) = &s.closest {
+        v["closest"] = option_json(h.candidates, c);
+    }
+    if let Some(f) = &s.shortfall {
+        v["shortfall"] = json!({"asked": f.asked, "found": f.found, "similar": f.similar,
+                                "droop_failed": f.droop_failed, "text": f.words()});
+    }
+    serde_json::to_string_pretty(&v).unwrap_or_default() + "\n"
 }
 
 /// The candidate parts the options name, deduplicated by id, in a stable order.
-fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<Vec<crate::model::Part>, String> {
+fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<(Vec<crate::model::Part>, String), String> {
     let shelf = if args.from_shelf { Some(crate::samples::shelf().map_err(|e| e.to_string())?) } else { None };
     let other = match &args.candidates_from {
         Some(p) => Some(read_board(p).map_err(|e| e.to_string())?),
@@ -189,5 +402,24 @@ fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<Vec<crate::m
     if out.is_empty() {
         return Err("no candidate parts: name some with --candidates, or use --from-shelf".into());
     }
-    Ok(out)
+    if out.len() > MAX_CANDIDATES {
+        return Err(format!("{} candidate parts; a search takes at most {MAX_CANDIDATES}: name fewer", out.len()));
+    }
+    // Where the candidates came from, for the header.
+    let from = if !args.candidates.is_empty() {
+        "those named".to_string()
+    } else {
+        let mut sources: Vec<String> = Vec::new();
+        if args.from_shelf {
+            sources.push("the shelf".into());
+        }
+        if let Some(p) = &args.candidates_from {
+            sources.push(p.display().to_string());
+        }
+        if sources.is_empty() {
+            sources.push("the board's own parts".into());
+        }
+        format!("from {}", sources.join(" and "))
+    };
+    Ok((out, from))
 }

@@ -9,10 +9,12 @@ use super::pins::Pin;
 use super::results::{Look, compute_with};
 use super::theme;
 use crate::analysis::{
-    Candidate, Objective, SuggestOptions, Suggestion, apply_mix, default_mounting_h, offered_parts, suggest,
+    Candidate, CornerFigures, MixOption, Objective, SuggestOptions, Suggestion, VERDICT_CORNER, apply_mix, area_words,
+    corner_words, cost_words, default_mounting_h, offered_parts, plural, ranges, suggest,
 };
 use crate::io::read_board_keeping_unusable;
 use crate::model::Board;
+use crate::physics::Corner;
 use crate::units::{Unit, format};
 use egui::{RichText, Ui};
 use std::collections::BTreeSet;
@@ -32,6 +34,10 @@ pub struct SearchRun {
     pub candidates: Vec<Candidate>,
     /// Whether the rail's existing groups were kept.
     pub keep_existing: bool,
+    /// The margin asked, dB.
+    pub margin_db: f64,
+    /// The corner the options were judged in.
+    pub corner: Corner,
 }
 
 /// The suggest panel's choices and its last search.
@@ -50,6 +56,16 @@ pub struct SuggestState {
     pub max_total: u32,
     /// Most parts of one candidate.
     pub max_per_part: u32,
+    /// Most distinct parts on the rail.
+    pub max_kinds: u32,
+    /// Cost of each new line item, added to the cost objective.
+    pub line_cost: f64,
+    /// Margin under target, dB.
+    pub margin_db: f64,
+    /// The corner every option must meet target in.
+    pub corner: Corner,
+    /// Every option must also keep the step droop within the allowed band.
+    pub droop: bool,
     /// How many options to show.
     pub options: usize,
     /// Keep the rail's existing groups (else the mix replaces them).
@@ -71,6 +87,11 @@ impl Default for SuggestState {
             objective: d.objective,
             max_total: d.max_total,
             max_per_part: d.max_per_part,
+            max_kinds: d.max_kinds,
+            line_cost: d.line_cost,
+            margin_db: d.margin_db,
+            corner: d.corner,
+            droop: d.droop,
             options: d.options,
             keep_existing: d.keep_existing,
             shelf: None,
@@ -141,6 +162,11 @@ impl App {
             objective: s.objective,
             max_total: s.max_total,
             max_per_part: s.max_per_part,
+            max_kinds: s.max_kinds,
+            line_cost: if s.objective == Objective::Cost { s.line_cost } else { 0.0 },
+            margin_db: s.margin_db,
+            corner: s.corner,
+            droop: s.droop,
             options: s.options.max(1),
             keep_existing: s.keep_existing,
             ..SuggestOptions::default()
@@ -151,6 +177,8 @@ impl App {
             revision: self.doc.history.revision(),
             candidates: candidates.clone(),
             keep_existing: s.keep_existing,
+            margin_db: s.margin_db,
+            corner: s.corner,
         };
         let board = self.doc.board.clone();
         let (tx, rx) = channel();
@@ -163,10 +191,12 @@ impl App {
         s.done = None;
     }
 
-    /// Pin option `n` of the last search on the plot, drawn from the board with that mix applied.
+    /// Pin option `n` of the last search on the plot (or, past the options, the closest mix of a search that
+    /// found none), drawn from the board with that mix applied.
     pub fn pin_option(&mut self, n: usize) {
         let Some((run, Ok(s))) = &self.suggest.done else { return };
-        let Some(option) = s.options.get(n) else { return };
+        let Some(option) = s.options.get(n).or(s.closest.as_ref().filter(|_| n == s.options.len())) else { return };
+        let label = if n < s.options.len() { format!("option {}", n + 1) } else { "closest mix".into() };
         if run.rail >= self.doc.board.rails.len() {
             return;
         }
@@ -179,14 +209,15 @@ impl App {
         let pal = theme::palette(self.prefs.dark);
         let color = pal.pins[(self.next_pin - 1) % pal.pins.len()];
         self.next_pin += 1;
-        self.pins.push(Pin::of(format!("option {}", n + 1), run.rail_name.clone(), color, &result));
+        self.pins.push(Pin::of(label, run.rail_name.clone(), color, &result));
     }
 
     /// Apply option `n` of the last search to the board as one undoable edit: the candidates it uses are added
     /// to the board's parts and the rail's groups are set.
     pub fn apply_option(&mut self, n: usize) {
         let Some((run, Ok(s))) = &self.suggest.done else { return };
-        let Some(option) = s.options.get(n) else { return };
+        // Only an option that qualifies is ever applied (the closest mix of a failed search is not one).
+        let Some(option) = s.options.get(n).filter(|o| o.accepted) else { return };
         if run.revision != self.doc.history.revision() || run.rail >= self.doc.board.rails.len() {
             self.status = Some(("The board changed since this search: find mixes again.".into(), true));
             return;
@@ -283,19 +314,40 @@ impl App {
             });
             ui.end_row();
             let l = ui.label("Most parts in all");
-            ui.add(egui::DragValue::new(&mut s.max_total).range(1..=2000)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.max_total).range(1..=ranges::MAX_TOTAL)).labelled_by(l.id);
             ui.end_row();
             let l = ui.label("Most of one part");
-            ui.add(egui::DragValue::new(&mut s.max_per_part).range(1..=500)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.max_per_part).range(1..=ranges::MAX_PER_PART)).labelled_by(l.id);
+            ui.end_row();
+            let l = ui.label("Most kinds of part");
+            ui.add(egui::DragValue::new(&mut s.max_kinds).range(1..=ranges::MAX_KINDS)).labelled_by(l.id);
+            ui.end_row();
+            let l = ui.label("Cost per new line item");
+            ui.add_enabled(
+                s.objective == Objective::Cost,
+                egui::DragValue::new(&mut s.line_cost).range(0.0..=ranges::LINE_COST).speed(0.01),
+            )
+            .labelled_by(l.id);
+            ui.end_row();
+            let l = ui.label("Margin under target, dB");
+            ui.add(egui::DragValue::new(&mut s.margin_db).range(0.0..=ranges::MARGIN_DB).speed(0.1).fixed_decimals(1))
+                .labelled_by(l.id);
+            ui.end_row();
+            ui.label("Meet target in");
+            ui.horizontal(|ui| {
+                ui.radio_value(&mut s.corner, VERDICT_CORNER, "the check's corner");
+                ui.radio_value(&mut s.corner, Corner::Worst, "the worst corner");
+            });
             ui.end_row();
             let l = ui.label("Options to show");
-            ui.add(egui::DragValue::new(&mut s.options).range(1..=10)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.options).range(1..=ranges::OPTIONS)).labelled_by(l.id);
             ui.end_row();
         });
+        ui.checkbox(&mut s.droop, "also keep the step droop within the allowed band (slower)");
         ui.checkbox(&mut s.keep_existing, "keep the rail's existing groups (else the mix replaces them)");
         ui.label(
             RichText::new(format!(
-                "Each candidate is mounted with {} (the mean of the rail's groups).",
+                "Each candidate is mounted with {} (the mean of the rail's groups, or 0.5 nH on a rail with none).",
                 format(default_mounting_h(&rail), Unit::Henry)
             ))
             .small()
@@ -328,49 +380,76 @@ impl App {
             }
         };
         let stale = run.revision != self.doc.history.revision();
+        let mut title = if s.options.is_empty() {
+            format!("No option for {}", run.rail_name)
+        } else {
+            format!("{} for {}", plural(s.options.len() as u64, "option", "options"), run.rail_name)
+        };
+        if s.exhaustive {
+            title.push_str(" (every combination tried)");
+        }
+        ui.label(RichText::new(title).strong());
         ui.label(
             RichText::new(format!(
-                "{} options for {}{}",
-                s.options.len(),
-                run.rail_name,
-                if s.exhaustive { " (every combination tried)" } else { "" }
+                "Each meets target ({}) with {:.1} dB margin (|Z| at most {}) in the {} corner.",
+                format(s.target_ohm, Unit::Ohm),
+                run.margin_db,
+                format(s.required_ohm, Unit::Ohm),
+                run.corner.name()
             ))
-            .strong(),
+            .small(),
         );
+        if let Some(n) = s.shortlisted {
+            ui.label(
+                RichText::new(format!(
+                    "The {} candidates were cut to the {n} that could matter.",
+                    run.candidates.len()
+                ))
+                .small()
+                .weak(),
+            );
+        }
         if stale {
             ui.label(
                 RichText::new("The board changed since this search: find mixes again to apply one.").color(pal.note),
             );
         }
-        if let Some(limit) = &s.limit {
-            ui.label(RichText::new(format!("No mix meets target: {limit}")).color(pal.fail));
+        if let Some(f) = &s.shortfall {
+            ui.label(RichText::new(f.words()).color(pal.note));
+        }
+        for b in &s.blockers {
+            ui.label(RichText::new(b.words()).color(pal.fail));
         }
         let (mut pin, mut apply) = (None, None);
-        let pin_all = !s.options.is_empty() && ui.button("Pin every option to compare on the plot").clicked();
+        let pin_all = s.options.len() > 1 && ui.button("Pin every option to compare on the plot").clicked();
         for (n, o) in s.options.iter().enumerate() {
             egui::Frame::group(ui.style()).show(ui, |ui| {
                 ui.label(
                     RichText::new(format!("option {}: {}", n + 1, mix_words(&run.candidates, &o.counts))).strong(),
                 );
-                let (word, color) = if o.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
-                ui.horizontal_wrapped(|ui| {
-                    ui.label(RichText::new(word).color(color));
-                    ui.label(format!(
-                        "worst |Z| {} at {}, margin {:+.1} dB",
-                        format(o.worst_ohm, Unit::Ohm),
-                        format(o.worst_hz, Unit::Hertz),
-                        o.margin_db
-                    ));
-                });
-                ui.label(format!("{} parts · cost {:.3} · area {:.1} mm²", o.count, o.cost, o.area_m2 * 1e6));
+                option_figures(ui, pal, o);
                 ui.horizontal(|ui| {
                     if ui.button(format!("Pin option {}", n + 1)).clicked() {
                         pin = Some(n);
                     }
-                    if ui.add_enabled(!stale, egui::Button::new(format!("Apply option {}", n + 1))).clicked() {
+                    if o.accepted
+                        && ui.add_enabled(!stale, egui::Button::new(format!("Apply option {}", n + 1))).clicked()
+                    {
                         apply = Some(n);
                     }
                 });
+            });
+        }
+        if let Some(c) = &s.closest {
+            egui::Frame::group(ui.style()).show(ui, |ui| {
+                ui.label(
+                    RichText::new(format!("closest mix found: {}", mix_words(&run.candidates, &c.counts))).strong(),
+                );
+                ui.label(RichText::new("It misses, so it is not offered to apply.").color(pal.fail));
+                option_figures(ui, pal, c);
+                if ui.button("Pin the closest mix").clicked() {
+                    pin = Some(s.options.len());
+                }
             });
         }
         if pin_all {
@@ -385,4 +464,33 @@ impl App {
             self.apply_option(n);
         }
     }
+}
+
+/// An option's figures: the judged corner, the other corner, the droop, count, kinds, cost and area.
+fn option_figures(ui: &mut Ui, pal: &theme::Palette, o: &MixOption) {
+    let corner = |ui: &mut Ui, c: &CornerFigures| {
+        ui.horizontal_wrapped(|ui| {
+            let (word, color) = if c.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
+            ui.label(format!("{} corner:", c.corner.name()));
+            ui.label(RichText::new(word).color(color));
+            ui.label(corner_words(c));
+        });
+    };
+    corner(ui, &o.judged);
+    corner(ui, &o.other);
+    if let Some(d) = &o.droop {
+        let (word, color) = if d.meets { ("within", pal.ok) } else { ("outside", pal.fail) };
+        ui.horizontal_wrapped(|ui| {
+            ui.label(format!("step droop {}", format(d.droop_v, Unit::Volt)));
+            ui.label(RichText::new(word).color(color));
+            ui.label(format!("the {} allowed", format(d.allowed_v, Unit::Volt)));
+        });
+    }
+    ui.label(format!(
+        "{} · {} · {} · {}",
+        plural(o.count as u64, "part", "parts"),
+        plural(o.kinds as u64, "kind", "kinds"),
+        cost_words(o),
+        area_words(o.area_m2)
+    ));
 }

@@ -573,6 +573,26 @@ fn a_suggested_mix_applies_as_one_undo_step_and_the_rail_then_meets_target() {
     assert!(!harness.state().is_dirty());
 }
 
+/// A rail whose package is too inductive for its band: the panel says what stops it and shows the closest mix
+/// to pin, with no way to apply it.
+#[test]
+fn a_search_that_finds_no_mix_says_why_and_offers_nothing_to_apply() {
+    let mut board = sensor_hub();
+    board.rails[0].package.as_mut().unwrap().l_h = 3e-10;
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, &board.rails[0].name);
+    click(&mut harness, "Suggest");
+    assert!(harness.query_by_label("Most kinds of part").is_some(), "the kinds limit is a setting");
+    assert!(harness.query_by_label("Margin under target, dB").is_some());
+    harness.get_by_label("Find mixes").click();
+    harness.step();
+    step_until(&mut harness, "Pin the closest mix", 3000);
+    harness.run();
+    assert!(harness.query_by_label("It misses, so it is not offered to apply.").is_some());
+    assert!(harness.query_by_label("Apply option 1").is_none(), "nothing to apply");
+    assert!(harness.query_by_label_contains("The package is the limit").is_some());
+}
+
 /// A copy of the sample board in a fresh folder with two measured parts on its first rail: one whose Touchstone
 /// file is good, one whose file has a line with a value missing.
 fn board_with_measured_parts(dir: &Path) -> PathBuf {
