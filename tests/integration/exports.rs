@@ -1,8 +1,6 @@
 //! `hushrail export` and `hushrail bom`: the exported numbers are the engine's numbers (the engine itself is
 //! checked against ngspice in tests/ngspice.rs), in full precision; bad input exits 2 and writes nothing.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{log_grid, magnitude_phase, sweep, target_impedance};
 use hushrail::io::{Fixture, bill_of_materials, read_board, read_touchstone, z_to_one_port_s};
@@ -180,8 +178,8 @@ fn export_follows_the_view_and_the_corner() {
     let rail = &board.rails[0];
     let grid = log_grid(1e3, 1e9, 41);
     for (view, corner, v, c) in [
-        ("board", "nominal", View::Board, Corner::Nominal),
-        ("die", "nominal", View::Die, Corner::Nominal),
+        ("board", "typical", View::Board, Corner::Typical),
+        ("die", "as-given", View::Die, Corner::AsGiven),
         ("die", "worst", View::Die, Corner::Worst),
     ] {
         let csv = dir.path().join(format!("{view}_{corner}.csv"));

@@ -13,3 +13,4 @@ mod properties;
 mod report;
 mod suggest;
 mod touchstone;
+mod verdict;
