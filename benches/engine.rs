@@ -2,7 +2,9 @@
 //! Run with `cargo bench --bench engine`.
 
 use criterion::{Criterion, criterion_group, criterion_main};
-use hushrail::analysis::{AnalysisOptions, analyze_rail, log_grid, sweep};
+use hushrail::analysis::{
+    AnalysisOptions, CheckOptions, DEFAULT_SEED, View, analyze_rail, check_rail, log_grid, sweep, yield_estimate,
+};
 use std::hint::black_box;
 
 fn ten_groups() -> hushrail::model::Board {
@@ -45,5 +47,24 @@ fn engine(c: &mut Criterion) {
     c.bench_function("sweep 10 groups, 10000 points", |b| b.iter(|| sweep(black_box(&board), rail, &grid)));
 }
 
-criterion_group!(benches, engine);
+/// The spread of a verdict: the yield over random boards and the whole check (every corner with the worst
+/// corner's vertex search, and each group's sensitivity), on the ten-group rail with every part at ±10 % (and
+/// the default ±30 % ESR).
+fn spread(c: &mut Criterion) {
+    let mut board = ten_groups();
+    for part in &mut board.parts {
+        part.tolerance_pct = Some(10.0);
+    }
+    let mut group = c.benchmark_group("spread");
+    group.sample_size(10);
+    group.bench_function("yield, 10000 boards, 10 groups, 1000 points, 2 threads", |b| {
+        b.iter(|| yield_estimate(black_box(&board), 0, View::Board, 1000, 10_000, DEFAULT_SEED, 2))
+    });
+    group.bench_function("check, 10 groups with C and ESR tolerances, 1000 points, every corner", |b| {
+        b.iter(|| check_rail(black_box(&board), 0, &CheckOptions::default()))
+    });
+    group.finish();
+}
+
+criterion_group!(benches, engine, spread);
 criterion_main!(benches);

@@ -13,6 +13,7 @@ pub mod cli;
 pub mod gui;
 pub mod io;
 pub mod model;
+pub mod notes;
 pub mod physics;
 pub mod samples;
 pub mod units;

@@ -14,6 +14,11 @@ pub fn default_board() -> Result<Board, BoardError> {
     parse_board(DEFAULT_SAMPLE_TEXT, DEFAULT_SAMPLE_NAME)
 }
 
+/// The built-in sample board's file text, as shipped (what its SHA-256 is taken of).
+pub fn default_board_text() -> &'static str {
+    DEFAULT_SAMPLE_TEXT
+}
+
 /// The name of the built-in shelf, as shown to people.
 pub const SHELF_NAME: &str = "assets/shelf.json";
 

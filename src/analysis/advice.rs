@@ -4,8 +4,7 @@
 use super::network::BranchKind;
 use super::rail::{AntiResonance, BranchRef, RailAnalysis};
 use crate::model::{Band, BandEdge, Board, Rail};
-use crate::physics::Corner;
-use crate::physics::derating::{BiasSource, temperature_class};
+use crate::physics::derating::temperature_class;
 use crate::units::{Unit, format};
 
 /// How much a finding matters.
@@ -134,42 +133,11 @@ pub fn explain_band(band: &Band) -> [String; 2] {
     [word(&band.low, band.hz[0], "lower"), word(&band.high, band.hz[1], "upper")]
 }
 
-/// In the worst corner: how much capacitance each part keeps and why; and dielectrics asked to work outside
-/// their temperature class.
+/// Dielectrics asked to work outside their temperature class. (The capacitance each part keeps is the check's
+/// own list, `analysis::kept_words`.)
 fn derating_notes(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Finding> {
     let mut out = Vec::new();
     let [lo, hi] = analysis.band_hz;
-    if analysis.corner == Corner::Worst {
-        for g in &analysis.groups {
-            let Some(d) = &g.derating else { continue };
-            if d.ratio() >= 0.999 {
-                continue;
-            }
-            let bias = match d.bias_source {
-                BiasSource::None => String::new(),
-                BiasSource::PartCurve => format!("DC bias ×{:.2} from the part's curve, ", d.bias),
-                BiasSource::Generic => format!(
-                    "DC bias ×{:.2} from the generic model (typical, recalled: give the part's own dc_bias curve), ",
-                    d.bias
-                ),
-            };
-            out.push(Finding {
-                severity: Severity::Note,
-                range_hz: [lo, hi],
-                text: format!(
-                    "{} keeps {:.0} % of its capacitance in the worst corner ({}): {bias}temperature ×{:.2}, \
-                     tolerance ×{:.2}.",
-                    g.part,
-                    d.ratio() * 100.0,
-                    format(g.effective_c_f, Unit::Farad),
-                    d.temperature,
-                    d.tolerance
-                ),
-                hint: "Check the part's own derating data; a larger case or a higher rating loses less to DC bias."
-                    .into(),
-            });
-        }
-    }
     if let Some([t_lo, t_hi]) = board.temperature_c {
         for g in &rail.decaps {
             let Some(part) = board.part(&g.part) else { continue };
@@ -206,12 +174,20 @@ fn inductive_words(b: &Option<BranchRef>) -> String {
             BranchKind::Plane => "the plane's inductance".to_string(),
             BranchKind::Package => "the package inductance".to_string(),
             BranchKind::Die => "the die".to_string(),
-            BranchKind::Group(_) => {
-                format!("the inductance of {} (past its self-resonance at {})", b.label, hz(b.resonance_hz))
-            }
+            BranchKind::Group(_) => format!(
+                "the inductance of {} ({}, past its self-resonance at {})",
+                b.label,
+                share_words(b.share, "inductive"),
+                hz(b.resonance_hz)
+            ),
         },
         None => "no inductive branch".to_string(),
     }
+}
+
+/// "68 % of the inductive current there".
+fn share_words(share: f64, side: &str) -> String {
+    format!("{:.0} % of the {side} current there", share * 100.0)
 }
 
 /// The capacitive side of a peak, in words.
@@ -222,10 +198,13 @@ fn capacitive_words(b: &Option<BranchRef>) -> String {
             BranchKind::Plane => "the plane capacitance".to_string(),
             BranchKind::Package => "the package".to_string(),
             BranchKind::Die => "the die capacitance".to_string(),
-            BranchKind::Group(_) if b.resonance_hz.is_finite() => {
-                format!("the capacitance of {} (below its self-resonance at {})", b.label, hz(b.resonance_hz))
-            }
-            BranchKind::Group(_) => format!("the capacitance of {}", b.label),
+            BranchKind::Group(_) if b.resonance_hz.is_finite() => format!(
+                "the capacitance of {} ({}, below its self-resonance at {})",
+                b.label,
+                share_words(b.share, "capacitive"),
+                hz(b.resonance_hz)
+            ),
+            BranchKind::Group(_) => format!("the capacitance of {} ({})", b.label, share_words(b.share, "capacitive")),
         },
         None => "no capacitive branch".to_string(),
     }

@@ -2,18 +2,27 @@
 //! no window, no command line.
 
 mod advice;
+mod cautions;
+mod check;
 mod droop;
 mod findings;
 mod grid;
 mod network;
 mod optimize;
 mod rail;
+mod spread;
+mod worst;
 
 pub use advice::{Finding, Severity, explain, explain_band};
+pub use cautions::{Caution, CautionKind, cautions, derating_limit};
+pub use check::{
+    CheckOptions, Kept, RailCheck, bias_words, check_board, check_rail, kept_words, search_words, sensitivity_words,
+    summary, verdict_word, vertex_words, view_words, yield_words,
+};
 pub use droop::{Droop, DroopError, DroopOptions, NodeDroop, PatternResponse, Pulse, droop, pattern_response};
 pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;
-pub use network::{Branch, BranchKind, Network, View, magnitude_phase};
+pub use network::{Branch, BranchKind, Network, Scale, View, group_branch, magnitude_phase};
 pub use optimize::{
     Blocker, Candidate, CornerFigures, DEFAULT_MARGIN_DB, DISTINCT_TOLERANCE, DroopFigures, EXHAUSTIVE_LIMIT,
     MAX_CANDIDATES, MixEvaluator, MixOption, Objective, SHORTLIST_SIZE, Shortfall, SuggestError, SuggestOptions,
@@ -21,6 +30,8 @@ pub use optimize::{
     other_corner, plural, ranges, suggest,
 };
 pub use rail::{
-    AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, sweep,
-    sweep_in, target_impedance,
+    AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, curve_of,
+    sweep, sweep_in, target_impedance,
 };
+pub use spread::{DEFAULT_SEED, FailRange, Sensitivity, YieldEstimate, sensitivity, yield_estimate};
+pub use worst::{GroupVertex, SearchMethod, SearchOptions, Side, WorstVertex, worst_vertex};

@@ -93,14 +93,22 @@ pub struct Network {
 }
 
 impl Network {
-    /// Build a rail's network with the part values as given (the nominal corner). Groups with count 0, or
-    /// naming a part the board lacks, are left out (a validated board has no such reference).
+    /// Build a rail's network at the default corner, the typical one (each part at the rail's DC bias), as the
+    /// verdict, the netlist, the droop and the optimizer take it. Groups with count 0, or naming a part the
+    /// board lacks, are left out (a validated board has no such reference).
     pub fn of_rail(board: &Board, rail: &Rail) -> Network {
-        Network::of_rail_in(board, rail, Corner::Nominal)
+        Network::of_rail_in(board, rail, Corner::Typical)
     }
 
-    /// Build a rail's network with each part's capacitance derated for `corner`.
+    /// Build a rail's network with each part's capacitance derated for `corner` (bias and temperature), every
+    /// part at the middle of its tolerance.
     pub fn of_rail_in(board: &Board, rail: &Rail, corner: Corner) -> Network {
+        Network::of_rail_scaled(board, rail, corner, &[])
+    }
+
+    /// Build a rail's network in `corner` with group `i`'s capacitance and ESR multiplied by `scales[i]` (a
+    /// tolerance vertex or a random draw); groups beyond `scales` are at the middle of their tolerance.
+    pub fn of_rail_scaled(board: &Board, rail: &Rail, corner: Corner, scales: &[Scale]) -> Network {
         let mut branches = Vec::new();
         if let Some(s) = rail.source {
             branches.push(Branch {
@@ -121,21 +129,9 @@ impl Network {
                 resonance_hz: rlc.self_resonance_hz().unwrap_or(f64::INFINITY),
             });
         }
-        for (i, group) in rail.decaps.iter().enumerate() {
-            let Some(part) = board.part(&group.part) else { continue };
-            // A measured part whose data could not be loaded is left out (the findings say so).
-            if group.count == 0 || part.unusable().is_some() {
-                continue;
-            }
-            let c = part.capacitance_f * derate(board, part, rail.voltage_v, corner).ratio();
-            let one = SeriesRlc { r_ohm: part.esr_ohm, l_h: part.esl_h + group_mounting_h(group), c_f: Some(c) };
-            branches.push(Branch {
-                kind: BranchKind::Group(i),
-                label: format!("{} ×{}", part.id, group.count),
-                rlc: one.parallel(group.count),
-                measured: part.table().map(|t| (Arc::new(t.clone()), group.count, group_mounting_h(group))),
-                resonance_hz: one.self_resonance_hz().unwrap_or(f64::INFINITY),
-            });
+        for i in 0..rail.decaps.len() {
+            let scale = scales.get(i).copied().unwrap_or(Scale::MIDDLE);
+            branches.extend(group_branch(board, rail, i, corner, scale, None));
         }
         let package = rail.package.map(|p| Branch {
             kind: BranchKind::Package,
@@ -200,14 +196,17 @@ impl Network {
         self.impedance(f_hz).norm()
     }
 
-    /// The branches that bracket a peak at `f_hz` in `view`: the one already inductive just below it and the
-    /// one still capacitive just above it. At the board these are the branches with the nearest self-resonances
-    /// below and above. At the die, a peak where the path behind the die (package plus board) is inductive and
-    /// the die's admittance is of the order of the path's is that path against the die capacitance; its
-    /// inductive side is the package when the package's reactance exceeds the board's, else the board's
-    /// inductive branch.
-    pub fn bracketing(&self, f_hz: f64, view: View) -> (Option<&Branch>, Option<&Branch>) {
-        let (below, above) = self.board_bracketing(f_hz);
+    /// The branches behind a peak at `f_hz` in `view`, by the current they carry there: on the inductive side
+    /// the branch with the largest share of the node's inductive susceptance (|Im Y| of the branches with
+    /// Im Y < 0), on the capacitive side the largest share of the capacitive susceptance; each with its share
+    /// (0 to 1). At the board node the package-and-die path counts as one branch (named by the package).
+    ///
+    /// At the die, a peak where the path behind the die (package plus board) is inductive and the die's
+    /// admittance is of the order of the path's is that path against the die capacitance (the die carries all
+    /// the capacitive current there); its inductive side is the package, with its share of the path's
+    /// reactance, when the package's reactance exceeds the board's, else the board's largest inductive branch.
+    pub fn peak_sides(&self, f_hz: f64, view: View) -> (Side<'_>, Side<'_>) {
+        let board = self.board_sides(f_hz);
         if view == View::Die
             && let (Some(p), Some(d)) = (&self.package, &self.die)
         {
@@ -218,29 +217,82 @@ impl Network {
             // cancel at the peak); far below, the die is a bystander to a peak of the board's own.
             let die_y = invert(d.impedance(f_hz)).norm();
             if path_z.im > 0.0 && die_y >= 0.3 * invert(path_z).norm() {
-                let inductive = if package_z.im > board_z.im { Some(p) } else { below };
-                return (inductive, Some(d));
+                let inductive = if package_z.im > board_z.im { Some((p, package_z.im / path_z.im)) } else { board.0 };
+                return (inductive, Some((d, 1.0)));
             }
         }
-        (below, above)
+        board
     }
 
-    /// The board branches with the nearest self-resonances below and above `f_hz`.
-    fn board_bracketing(&self, f_hz: f64) -> (Option<&Branch>, Option<&Branch>) {
-        let mut below: Option<&Branch> = None;
-        let mut above: Option<&Branch> = None;
-        for b in &self.branches {
-            let r = b.resonance_hz;
-            if r < f_hz {
-                if below.is_none_or(|x| r > x.resonance_hz) {
-                    below = Some(b);
-                }
-            } else if r > f_hz && above.is_none_or(|x| r < x.resonance_hz) {
-                above = Some(b);
-            }
+    /// The board node's sides of a peak by susceptance share.
+    fn board_sides(&self, f_hz: f64) -> (Side<'_>, Side<'_>) {
+        let mut parts: Vec<(&Branch, f64)> = self.branches.iter().map(|b| (b, invert(b.impedance(f_hz)).im)).collect();
+        if let (Some(p), Some(d)) = (&self.package, &self.die) {
+            parts.push((p, invert(p.impedance(f_hz) + d.impedance(f_hz)).im));
         }
-        (below, above)
+        let side = |inductive: bool| {
+            let of_side = |b: f64| if inductive { b < 0.0 } else { b > 0.0 };
+            let total: f64 = parts.iter().filter(|(_, b)| of_side(*b)).map(|(_, b)| b.abs()).sum();
+            parts
+                .iter()
+                .filter(|(_, b)| of_side(*b) && b.is_finite())
+                .max_by(|x, y| x.1.abs().total_cmp(&y.1.abs()))
+                .map(|(br, b)| (*br, if total > 0.0 && total.is_finite() { b.abs() / total } else { 1.0 }))
+        };
+        (side(true), side(false))
     }
+
+    /// The susceptance Im(1/Z) of each board branch at `f_hz` (negative: inductive), for checks and the
+    /// curious.
+    pub fn susceptances(&self, f_hz: f64) -> Vec<(BranchKind, f64)> {
+        self.branches.iter().map(|b| (b.kind, invert(b.impedance(f_hz)).im)).collect()
+    }
+}
+
+/// The branch on one side of a peak and its share of that side's susceptance (0 to 1).
+pub type Side<'a> = Option<(&'a Branch, f64)>;
+
+/// A group's capacitance and ESR as multiples of their values in a corner: 1 is the middle of the tolerance.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Scale {
+    /// Capacitance factor.
+    pub c: f64,
+    /// ESR factor.
+    pub esr: f64,
+}
+
+impl Scale {
+    /// The middle of the tolerance: the values of the corner.
+    pub const MIDDLE: Scale = Scale { c: 1.0, esr: 1.0 };
+}
+
+/// The branch of decap group `i` of `rail` in `corner` with its values scaled by `scale`, with `count` parts
+/// (the group's own count when `None`). `None` when the group names no part, has no parts, or its part is a
+/// measured one whose data could not be loaded (the findings say so).
+pub fn group_branch(
+    board: &Board,
+    rail: &Rail,
+    i: usize,
+    corner: Corner,
+    scale: Scale,
+    count: Option<u32>,
+) -> Option<Branch> {
+    let group = rail.decaps.get(i)?;
+    let part = board.part(&group.part)?;
+    let count = count.unwrap_or(group.count);
+    if count == 0 || part.unusable().is_some() {
+        return None;
+    }
+    let c = part.capacitance_f * derate(board, part, rail.voltage_v, corner).ratio() * scale.c;
+    let mounting_h = group_mounting_h(group);
+    let one = SeriesRlc { r_ohm: part.esr_ohm * scale.esr, l_h: part.esl_h + mounting_h, c_f: Some(c) };
+    Some(Branch {
+        kind: BranchKind::Group(i),
+        label: format!("{} ×{}", part.id, count),
+        rlc: one.parallel(count),
+        measured: part.table().map(|t| (Arc::new(t.clone()), count, mounting_h)),
+        resonance_hz: one.self_resonance_hz().unwrap_or(f64::INFINITY),
+    })
 }
 
 /// Σ 1/Z over some impedances. A branch of exactly zero impedance shorts the node: the admittance is infinite.
@@ -258,7 +310,7 @@ fn admittance(zs: impl IntoIterator<Item = Complex64>) -> Complex64 {
 }
 
 /// 1/y, with an infinite admittance giving 0 (a short) and a zero admittance an infinite impedance (open).
-fn invert(y: Complex64) -> Complex64 {
+pub(crate) fn invert(y: Complex64) -> Complex64 {
     if y.re.is_infinite() || y.im.is_infinite() {
         return Complex64::new(0.0, 0.0);
     }

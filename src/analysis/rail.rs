@@ -3,7 +3,8 @@
 
 use super::findings::{self, Extremum, ViolationBand};
 use super::grid::log_grid;
-use super::network::{Branch, BranchKind, Network, View};
+use super::network::{Branch, BranchKind, Network, Scale, View};
+use super::worst::{SearchOptions, WorstVertex, worst_vertex};
 use crate::model::{Band, Board, Rail};
 use crate::physics::{Corner, Derating, SeriesRlc, derate, mounting::group_mounting_h};
 use num_complex::Complex64;
@@ -19,13 +20,22 @@ pub struct AnalysisOptions {
     pub branch_curves: bool,
     /// Where to look from; `None` takes the verdict view (the die when the rail gives a package).
     pub view: Option<View>,
-    /// Which corner of the parts' derating.
+    /// Which corner of the parts' values (the typical one by default).
     pub corner: Corner,
+    /// How hard the worst corner searches the tolerance vertices.
+    pub search: SearchOptions,
 }
 
 impl Default for AnalysisOptions {
     fn default() -> Self {
-        AnalysisOptions { band_points: 1000, curve: None, branch_curves: false, view: None, corner: Corner::Nominal }
+        AnalysisOptions {
+            band_points: 1000,
+            curve: None,
+            branch_curves: false,
+            view: None,
+            corner: Corner::Typical,
+            search: SearchOptions::default(),
+        }
     }
 }
 
@@ -44,6 +54,8 @@ pub struct BranchRef {
     pub label: String,
     /// Its self-resonance, Hz (0 for the source, infinite for a branch with no inductance).
     pub resonance_hz: f64,
+    /// At a peak: its share of the inductive (or capacitive) susceptance there, 0 to 1; 1 elsewhere.
+    pub share: f64,
 }
 
 /// A local maximum of |Z| inside the band.
@@ -55,9 +67,10 @@ pub struct AntiResonance {
     pub z_ohm: f64,
     /// True when the peak is above target.
     pub above_target: bool,
-    /// The branch already inductive just below the peak (highest self-resonance below it, or the package).
+    /// The inductive branch that carries the most current at the peak (largest share of the inductive
+    /// susceptance), with its share.
     pub inductive_side: Option<BranchRef>,
-    /// The branch still capacitive just above the peak (lowest self-resonance above it).
+    /// The capacitive branch that carries the most current at the peak, with its share.
     pub capacitive_side: Option<BranchRef>,
 }
 
@@ -77,7 +90,10 @@ pub struct GroupInfo {
     pub mounting_h: f64,
     /// The part's capacitance in the analysed corner, F.
     pub effective_c_f: f64,
-    /// How the capacitance was derated in the analysed corner.
+    /// The part's ESR in the analysed corner, Ω.
+    pub effective_esr_ohm: f64,
+    /// How the capacitance was derated in the analysed corner (in the worst corner, `tolerance` is the end of
+    /// the tolerance the search chose).
     pub derating: Option<Derating>,
 }
 
@@ -99,8 +115,10 @@ pub struct RailAnalysis {
     pub rail: String,
     /// Where the impedance is seen from.
     pub view: View,
-    /// Which derating corner.
+    /// Which corner of the parts' values.
     pub corner: Corner,
+    /// In the worst corner: the tolerance vertex the search found and how.
+    pub vertex: Option<WorstVertex>,
     /// Target impedance, Ω.
     pub target_ohm: f64,
     /// The rail's ΔI under its combine rule, A.
@@ -113,7 +131,7 @@ pub struct RailAnalysis {
     pub worst_ohm: f64,
     /// Where it is, Hz.
     pub worst_hz: f64,
-    /// target / worst: above 1 means headroom.
+    /// target ÷ worst |Z|: above 1 means headroom (README defines it beside the text's "× target").
     pub margin_ratio: f64,
     /// The same margin in dB: 20·log10(target / worst).
     pub margin_db: f64,
@@ -137,12 +155,18 @@ pub struct RailAnalysis {
 pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<RailAnalysis> {
     let rail = board.rails.get(rail_index)?;
     let band = rail.band()?;
-    let network = Network::of_rail_in(board, rail, options.corner);
     let view = match options.view {
-        Some(View::Die) if network.has_die_view() => View::Die,
+        Some(View::Die) if rail.package.is_some() => View::Die,
         Some(_) => View::Board,
-        None => network.verdict_view(),
+        None if rail.package.is_some() => View::Die,
+        None => View::Board,
     };
+    // The worst corner is the tolerance vertex with the highest |Z| on the band's scan grid.
+    let vertex = (options.corner == Corner::Worst).then(|| {
+        worst_vertex(board, rail, view, &log_grid(band.hz[0], band.hz[1], options.band_points.max(2)), &options.search)
+    });
+    let scales = vertex.as_ref().map(WorstVertex::scales).unwrap_or_default();
+    let network = Network::of_rail_scaled(board, rail, options.corner, &scales);
     let z_at = |f: f64| network.impedance_in(f, view);
     let target_ohm = target_impedance(rail);
     let scan = findings::scan(&z_at, band.hz, options.band_points, target_ohm);
@@ -151,13 +175,14 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
         .peaks
         .iter()
         .map(|p| {
-            let (below, above) = network.bracketing(p.freq_hz, view);
+            let (inductive, capacitive) = network.peak_sides(p.freq_hz, view);
+            let with_share = |(b, share): (&Branch, f64)| BranchRef { share, ..branch_ref(b) };
             AntiResonance {
                 freq_hz: p.freq_hz,
                 z_ohm: p.z_ohm,
                 above_target: p.z_ohm > target_ohm,
-                inductive_side: below.map(branch_ref),
-                capacitive_side: above.map(branch_ref),
+                inductive_side: inductive.map(with_share),
+                capacitive_side: capacitive.map(with_share),
             }
         })
         .collect();
@@ -169,21 +194,25 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
         .map(|(index, g)| {
             let mounting_h = group_mounting_h(g);
             let part = board.part(&g.part);
-            let derating = part.map(|p| derate(board, p, rail.voltage_v, options.corner));
+            let scale = scales.get(index).copied().unwrap_or(Scale::MIDDLE);
+            let derating =
+                part.map(|p| Derating { tolerance: scale.c, ..derate(board, p, rail.voltage_v, options.corner) });
             let effective_c_f = match (part, &derating) {
                 (Some(p), Some(d)) => p.capacitance_f * d.ratio(),
                 _ => f64::NAN,
             };
+            let effective_esr_ohm = part.map_or(f64::NAN, |p| p.esr_ohm * scale.esr);
             GroupInfo {
                 index,
                 part: g.part.clone(),
                 count: g.count,
                 self_resonance_hz: part.and_then(|p| {
-                    SeriesRlc { r_ohm: p.esr_ohm, l_h: p.esl_h + mounting_h, c_f: Some(effective_c_f) }
+                    SeriesRlc { r_ohm: effective_esr_ohm, l_h: p.esl_h + mounting_h, c_f: Some(effective_c_f) }
                         .self_resonance_hz()
                 }),
                 mounting_h,
                 effective_c_f,
+                effective_esr_ohm,
                 derating,
             }
         })
@@ -211,6 +240,7 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
         rail: rail.name.clone(),
         view,
         corner: options.corner,
+        vertex,
         target_ohm,
         step_a: rail.total_step_a(),
         band_hz: band.hz,
@@ -230,7 +260,7 @@ pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions)
 }
 
 fn branch_ref(b: &Branch) -> BranchRef {
-    BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz }
+    BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz, share: 1.0 }
 }
 
 /// Analyse every rail of a (validated) board with the same options.
@@ -238,13 +268,32 @@ pub fn analyze_board(board: &Board, options: &AnalysisOptions) -> Vec<RailAnalys
     (0..board.rails.len()).filter_map(|i| analyze_rail(board, i, options)).collect()
 }
 
-/// The total impedance of a rail at each of `freq_hz` seen from the board (for sweeps and exports).
+/// The total impedance of a rail at each of `freq_hz` seen from the board in the typical corner (for sweeps and
+/// exports).
 pub fn sweep(board: &Board, rail: &Rail, freq_hz: &[f64]) -> Vec<Complex64> {
-    sweep_in(board, rail, freq_hz, View::Board, Corner::Nominal)
+    sweep_in(board, rail, freq_hz, View::Board, Corner::Typical)
 }
 
-/// The impedance of a rail at each of `freq_hz`, seen from `view`, in `corner`.
+/// The impedance of a rail at each of `freq_hz`, seen from `view`, in `corner`. In the worst corner the parts
+/// sit at the tolerance vertex the check's search finds over the rail's band (default density).
 pub fn sweep_in(board: &Board, rail: &Rail, freq_hz: &[f64], view: View, corner: Corner) -> Vec<Complex64> {
-    let network = Network::of_rail_in(board, rail, corner);
+    let scales = match (corner, rail.band()) {
+        (Corner::Worst, Some(band)) => {
+            let grid = log_grid(band.hz[0], band.hz[1], AnalysisOptions::default().band_points);
+            worst_vertex(board, rail, view, &grid, &SearchOptions::default()).scales()
+        }
+        _ => Vec::new(),
+    };
+    let network = Network::of_rail_scaled(board, rail, corner, &scales);
     freq_hz.iter().map(|&f| network.impedance_in(f, view)).collect()
+}
+
+/// The total impedance of an analysis (its corner, tolerance vertex and view) along a log sweep from `from` to
+/// `to` Hz in `n` points: for drawing a second curve of an analysis made without one.
+pub fn curve_of(board: &Board, rail: &Rail, a: &RailAnalysis, from: f64, to: f64, n: usize) -> Curve {
+    let scales = a.vertex.as_ref().map(WorstVertex::scales).unwrap_or_default();
+    let network = Network::of_rail_scaled(board, rail, a.corner, &scales);
+    let freq_hz = log_grid(from, to, n);
+    let z = freq_hz.iter().map(|&f| network.impedance_in(f, a.view)).collect();
+    Curve { freq_hz, z, branches: Vec::new() }
 }

@@ -1,20 +1,21 @@
-//! `hushrail check`: every rail against its target, as text for people or JSON for machines.
-//!
-//! The verdict of a rail is taken at the die when it gives a package (else at the board), in the chosen corner;
-//! the other view and the other corner are reported beside it.
+//! `hushrail check`: every rail's check, as text for people or JSON for machines. The engine computes each rail's
+//! whole check once (`analysis::check_rail`); this file only renders it.
 
-use super::{CornerArg, EXIT_MISS, EXIT_PASS, emit, load_board};
+use super::{CornerArg, EXIT_MISS, EXIT_PASS, emit, load_board_traced, rerun_command};
 use crate::analysis::{
-    AnalysisOptions, BranchRef, Finding, RailAnalysis, Severity, View, analyze_rail, explain, explain_band,
+    BranchRef, CheckOptions, DEFAULT_SEED, RailAnalysis, RailCheck, Severity, check_rail, explain_band, kept_words,
+    search_words, sensitivity_words, summary, vertex_words, yield_words,
 };
+use crate::io::{Trace, utc_date_today};
 use crate::model::Board;
-use crate::physics::Corner;
-use crate::physics::derating::BiasSource;
 use crate::units::{Unit, format};
 use clap::Args;
 use serde_json::{Value, json};
 use std::fmt::Write;
 use std::path::PathBuf;
+
+/// The most boards `--yield` draws per rail.
+const MAX_YIELD_SAMPLES: usize = 10_000_000;
 
 /// Options of `hushrail check`.
 #[derive(Debug, Args)]
@@ -24,79 +25,91 @@ pub struct CheckArgs {
     /// Print JSON instead of text.
     #[arg(long)]
     pub json: bool,
-    /// The derating corner the verdict is taken in (the other is reported beside it).
-    #[arg(long, value_enum, default_value = "nominal")]
+    /// The corner the verdict is taken in (the others are reported beside it).
+    #[arg(long, value_enum, default_value = "typical")]
     pub corner: CornerArg,
+    /// Draw N random boards per rail within the parts' tolerances and report the share that meets target.
+    #[arg(long = "yield", value_name = "N")]
+    pub yield_samples: Option<usize>,
+    /// The seed of the yield's draws (the same seed gives the same boards).
+    #[arg(long, default_value_t = DEFAULT_SEED)]
+    pub seed: u64,
 }
 
-/// One rail, checked: the verdict analysis, its findings, and the other view and corner.
-struct RailCheck {
-    verdict: RailAnalysis,
-    findings: Vec<Finding>,
-    /// The board view, when the verdict is at the die.
-    board_view: Option<RailAnalysis>,
-    /// The other corner, in the verdict's view.
-    other_corner: RailAnalysis,
-}
-
-/// Check the board and print the verdict; the exit code says whether every rail meets target.
+/// Check the board and print the verdict; the exit code says whether every rail passes.
 pub fn run(args: &CheckArgs) -> Result<i32, String> {
-    let (board, file) = load_board(args.board.as_ref())?;
-    let corner: Corner = args.corner.into();
-    let other = match corner {
-        Corner::Nominal => Corner::Worst,
-        Corner::Worst => Corner::Nominal,
-    };
-    let checks: Vec<RailCheck> = (0..board.rails.len())
-        .filter_map(|i| {
-            let options = AnalysisOptions { corner, ..Default::default() };
-            let verdict = analyze_rail(&board, i, &options)?;
-            let findings = explain(&board, &board.rails[i], &verdict);
-            let board_view = (verdict.view == View::Die)
-                .then(|| analyze_rail(&board, i, &AnalysisOptions { view: Some(View::Board), ..options }))
-                .flatten();
-            let other_corner = analyze_rail(&board, i, &AnalysisOptions { corner: other, ..options })?;
-            Some(RailCheck { verdict, findings, board_view, other_corner })
-        })
-        .collect();
-    let all_meet = checks.iter().all(|c| c.verdict.meets_target);
-    if args.json {
-        emit(&(serde_json::to_string_pretty(&to_json(&board, &checks, all_meet)).unwrap_or_default() + "\n"));
-    } else {
-        emit(&to_text(&board, &file, &checks));
+    let (board, file, sha256) = load_board_traced(args.board.as_ref())?;
+    let samples = args.yield_samples.unwrap_or(0);
+    if samples > MAX_YIELD_SAMPLES || args.yield_samples == Some(0) {
+        return Err(format!("--yield: from 1 to {MAX_YIELD_SAMPLES} boards, not {samples}"));
     }
-    Ok(if all_meet { EXIT_PASS } else { EXIT_MISS })
+    let threads = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let options = CheckOptions {
+        corner: args.corner.into(),
+        yield_samples: samples,
+        seed: args.seed,
+        threads,
+        ..CheckOptions::default()
+    };
+    let checks: Vec<RailCheck> = (0..board.rails.len()).filter_map(|i| check_rail(&board, i, &options)).collect();
+    let all_pass = checks.iter().all(|c| c.passes);
+    let trace = Trace { source: file, sha256, command: rerun_command(), date: utc_date_today(), unsaved_edits: false };
+    if args.json {
+        emit(&(serde_json::to_string_pretty(&to_json(&board, &trace, &checks, all_pass)).unwrap_or_default() + "\n"));
+    } else {
+        emit(&to_text(&board, &trace, &checks));
+    }
+    Ok(if all_pass { EXIT_PASS } else { EXIT_MISS })
 }
 
 fn branch_json(b: &Option<BranchRef>) -> Value {
     match b {
         None => Value::Null,
-        Some(b) => json!({"label": b.label, "self_resonance_hz": b.resonance_hz}),
+        Some(b) => json!({"label": b.label, "self_resonance_hz": b.resonance_hz, "share": b.share}),
     }
 }
 
-/// The headline figures of one analysis.
+/// The headline figures of one analysis; in the worst corner, which way each group went and how it was found.
 fn summary_json(a: &RailAnalysis) -> Value {
-    json!({
+    let mut v = json!({
         "view": a.view.name(), "corner": a.corner.name(), "meets_target": a.meets_target,
         "worst_ohm": a.worst_ohm, "worst_hz": a.worst_hz, "margin_ratio": a.margin_ratio, "margin_db": a.margin_db,
-    })
+    });
+    if let Some(w) = &a.vertex {
+        v["search"] = json!({
+            "method": w.method.name(), "vertices": w.vertices, "evaluated": w.evaluated,
+            "grid_worst_ohm": w.grid_worst_ohm, "bound_ohm": w.bound_ohm,
+        });
+        v["groups"] = w
+            .groups
+            .iter()
+            .filter_map(|g| {
+                let info = a.groups.iter().find(|x| x.index == g.index)?;
+                Some(json!({
+                    "part": info.part, "capacitance": g.capacitance.name(), "esr": g.esr.name(),
+                    "capacitance_factor": g.scale.c, "esr_factor": g.scale.esr,
+                }))
+            })
+            .collect();
+    }
+    v
 }
 
 /// The machine-readable verdict. Numbers carry full precision; a frequency that does not exist (a branch with no
 /// inductance never self-resonates) is null.
-fn to_json(board: &Board, checks: &[RailCheck], all_meet: bool) -> Value {
+fn to_json(board: &Board, trace: &Trace, checks: &[RailCheck], all_pass: bool) -> Value {
     let rails: Vec<Value> = checks
         .iter()
         .map(|c| {
             let a = &c.verdict;
             let mut views = vec![summary_json(a)];
-            views.extend(c.board_view.as_ref().map(summary_json));
-            let corners = vec![summary_json(a), summary_json(&c.other_corner)];
-            json!({
+            views.extend(c.other_view.as_ref().map(summary_json));
+            let mut rail = json!({
                 "name": a.rail,
                 "view": a.view.name(),
                 "corner": a.corner.name(),
+                "passes": c.passes,
+                "verdict": c.verdict_line(),
                 "step_a": a.step_a,
                 "target_ohm": a.target_ohm,
                 "band_hz": a.band_hz,
@@ -114,43 +127,59 @@ fn to_json(board: &Board, checks: &[RailCheck], all_meet: bool) -> Value {
                     "inductive_side": branch_json(&r.inductive_side),
                     "capacitive_side": branch_json(&r.capacitive_side),
                 })).collect::<Vec<_>>(),
-                "groups": a.groups.iter().map(|g| json!({
-                    "part": g.part, "count": g.count, "self_resonance_hz": g.self_resonance_hz,
-                    "mounting_h": g.mounting_h, "effective_capacitance_f": g.effective_c_f,
-                    "capacitance_ratio": g.derating.as_ref().map(|d| d.ratio()),
-                })).collect::<Vec<_>>(),
+                "groups": a.groups.iter().map(|g| {
+                    let kept = c.kept.iter().find(|k| k.group == g.index);
+                    let sens = c.sensitivity.iter().find(|s| s.group == g.index);
+                    json!({
+                        "part": g.part, "count": g.count, "self_resonance_hz": g.self_resonance_hz,
+                        "mounting_h": g.mounting_h, "effective_capacitance_f": g.effective_c_f,
+                        "capacitance_ratio": g.derating.as_ref().map(|d| d.ratio()),
+                        "typical_capacitance_ratio": kept.and_then(|k| k.typical.as_ref()).map(|d| d.ratio()),
+                        "worst_capacitance_ratio": kept.and_then(|k| k.worst.as_ref()).map(|d| d.ratio()),
+                        "one_more_ohm": sens.map(|s| s.more_ohm),
+                        "one_fewer_ohm": sens.and_then(|s| s.fewer_ohm),
+                    })
+                }).collect::<Vec<_>>(),
                 "views": views,
-                "corners": corners,
+                "corners": c.all_corners().map(summary_json).collect::<Vec<_>>(),
+                "cautions": c.cautions.iter().map(|k| json!({
+                    "part": k.part, "kind": k.kind.name(), "fails": k.fails, "text": k.text,
+                })).collect::<Vec<_>>(),
                 "findings": c.findings.iter().map(|f| json!({
                     "severity": match f.severity { Severity::Fail => "fail", Severity::Note => "note" },
                     "from_hz": f.range_hz[0], "to_hz": f.range_hz[1], "text": f.text, "hint": f.hint,
                 })).collect::<Vec<_>>(),
-            })
+            });
+            if let Some(y) = &c.yield_estimate {
+                rail["yield"] = json!({
+                    "samples": y.samples, "meeting": y.meeting, "fraction": y.fraction, "seed": y.seed,
+                    "failing": y.failing.iter().map(|r| json!({
+                        "from_hz": r.from_hz, "to_hz": r.to_hz, "samples": r.samples,
+                    })).collect::<Vec<_>>(),
+                });
+            }
+            rail
         })
         .collect();
-    json!({"board": board.name, "meets_target": all_meet, "rails": rails})
-}
-
-/// "MEETS target at the die: worst |Z| 12.3 mΩ at 4.56 MHz, margin +3.2 dB (0.69× target)".
-fn summary_text(a: &RailAnalysis) -> String {
-    let verdict = if a.meets_target { "MEETS target" } else { "MISSES target" };
-    let at = match a.view {
-        View::Board => "at the board",
-        View::Die => "at the die",
-    };
-    format!(
-        "{verdict} {at}: worst |Z| {} at {}, margin {:+.1} dB ({:.2}× target)",
-        format(a.worst_ohm, Unit::Ohm),
-        format(a.worst_hz, Unit::Hertz),
-        a.margin_db,
-        a.worst_ohm / a.target_ohm,
-    )
+    json!({
+        "board": board.name,
+        "passes": all_pass,
+        "meets_target": all_pass,
+        "trace": {
+            "source": trace.source, "sha256": trace.sha256, "version": trace.version(), "date": trace.date,
+            "command": trace.command,
+        },
+        "rails": rails,
+    })
 }
 
 /// The verdict for people.
-fn to_text(board: &Board, file: &str, checks: &[RailCheck]) -> String {
+fn to_text(board: &Board, trace: &Trace, checks: &[RailCheck]) -> String {
     let mut t = String::new();
-    let _ = writeln!(t, "{} ({file})", board.name);
+    let _ = writeln!(t, "{}", board.name);
+    for line in trace.lines() {
+        let _ = writeln!(t, "  {line}");
+    }
     for (c, rail) in checks.iter().zip(&board.rails) {
         let a = &c.verdict;
         let _ = writeln!(t);
@@ -170,16 +199,24 @@ fn to_text(board: &Board, file: &str, checks: &[RailCheck]) -> String {
             let edges = explain_band(&a.band);
             let _ = writeln!(t, "  band: {}; {}", edges[0], edges[1]);
         }
-        let _ = writeln!(t, "  {}", summary_text(a));
-        if let Some(b) = &c.board_view {
-            let _ = writeln!(t, "  ({})", summary_text(b));
+        let _ = writeln!(t, "  {}", c.verdict_line());
+        if let Some(b) = &c.other_view {
+            let _ = writeln!(t, "  ({})", summary(b));
         }
-        let o = &c.other_corner;
-        let _ = writeln!(t, "  ({} corner: {})", o.corner.name(), summary_text(o));
-        let worst = if a.corner == Corner::Worst { a } else { o };
-        let losers = losing_parts(worst);
-        if !losers.is_empty() {
-            let _ = writeln!(t, "  worst corner keeps: {}", losers.join(", "));
+        for o in &c.corners {
+            let _ = writeln!(t, "  ({})", summary(o));
+        }
+        if let Some(w) = c.corner(crate::physics::Corner::Worst) {
+            let dirs = vertex_words(w);
+            if !dirs.is_empty() {
+                let _ = writeln!(t, "  worst vertex: {}", dirs.join("; "));
+            }
+            if let Some(s) = search_words(w) {
+                let _ = writeln!(t, "  worst search: {s}");
+            }
+        }
+        for k in kept_words(c) {
+            let _ = writeln!(t, "  capacitance: {k}");
         }
         let groups: Vec<String> = a
             .groups
@@ -192,6 +229,17 @@ fn to_text(board: &Board, file: &str, checks: &[RailCheck]) -> String {
         if !groups.is_empty() {
             let _ = writeln!(t, "  groups: {}", groups.join(", "));
         }
+        if !c.sensitivity.is_empty() {
+            let words: Vec<String> = c.sensitivity.iter().map(sensitivity_words).collect();
+            let _ = writeln!(t, "  worst |Z| per part: {}", words.join("; "));
+        }
+        if let Some(y) = &c.yield_estimate {
+            let _ = writeln!(t, "  yield: {}", yield_words(y));
+        }
+        // A failing caution is among the findings below; the others are reminders.
+        for k in c.cautions.iter().filter(|k| !k.fails) {
+            let _ = writeln!(t, "  ! caution: {}", k.text);
+        }
         for f in &c.findings {
             let mark = match f.severity {
                 Severity::Fail => "x",
@@ -201,27 +249,8 @@ fn to_text(board: &Board, file: &str, checks: &[RailCheck]) -> String {
             let _ = writeln!(t, "    try: {}", f.hint);
         }
     }
-    let meeting = checks.iter().filter(|c| c.verdict.meets_target).count();
+    let passing = checks.iter().filter(|c| c.passes).count();
     let _ = writeln!(t);
-    let _ = writeln!(t, "{meeting} of {} rails meet target.", checks.len());
+    let _ = writeln!(t, "{passing} of {} rails pass.", checks.len());
     t
-}
-
-/// The groups whose capacitance falls most in the worst corner, most first: "mlcc-10u ×4 38 % (generic bias)".
-fn losing_parts(a: &RailAnalysis) -> Vec<String> {
-    let mut groups: Vec<_> = a.groups.iter().filter_map(|g| g.derating.as_ref().map(|d| (g, d))).collect();
-    groups.sort_by(|x, y| x.1.ratio().total_cmp(&y.1.ratio()));
-    groups
-        .into_iter()
-        .filter(|(_, d)| d.ratio() < 0.999)
-        .take(3)
-        .map(|(g, d)| {
-            let tag = match d.bias_source {
-                BiasSource::Generic => " (generic DC-bias model, typical)",
-                BiasSource::PartCurve => " (part's DC-bias curve)",
-                BiasSource::None => "",
-            };
-            format!("{} {:.0} %{tag}", g.part, d.ratio() * 100.0)
-        })
-        .collect()
 }

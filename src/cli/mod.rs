@@ -123,6 +123,32 @@ fn write_files(
     let inputs = inputs_of(board_path, board);
     let inputs: Vec<&std::path::Path> = inputs.iter().map(PathBuf::as_path).collect();
     crate::io::write_outputs(outputs, &inputs)
+/// Load the board a command names, as [`load_board`] does, with the SHA-256 of the bytes read.
+fn load_board_traced(path: Option<&PathBuf>) -> Result<(Board, String, String), String> {
+    match path {
+        Some(p) => crate::io::read_board_traced(p)
+            .map(|(b, sha)| (b, p.display().to_string(), sha))
+            .map_err(|e: BoardError| e.to_string()),
+        None => {
+            let (board, file) = load_board(None)?;
+            Ok((board, file, crate::io::sha256_hex(crate::samples::default_board_text().as_bytes())))
+        }
+    }
+}
+
+/// One argument quoted for a POSIX shell where it needs it.
+fn shell_word(a: &str) -> String {
+    if !a.is_empty() && a.chars().all(|c| c.is_ascii_alphanumeric() || "-_./=,:+@%".contains(c)) {
+        a.to_string()
+    } else {
+        format!("'{}'", a.replace('\'', "'\\''"))
+    }
+}
+
+/// The command line that re-runs this command on the same board: `hushrail` and every argument as given.
+fn rerun_command() -> String {
+    let args: Vec<String> = std::env::args().skip(1).map(|a| shell_word(&a)).collect();
+    std::iter::once("hushrail".to_string()).chain(args).collect::<Vec<_>>().join(" ")
 }
 
 /// The frequencies a command sweeps and how it sees the rail (shared by `sweep` and `export`).
@@ -137,8 +163,8 @@ pub struct SweepSpec {
     /// Where to look from: the board's rail node or the die (through the package).
     #[arg(long, value_enum, default_value = "board")]
     pub view: ViewArg,
-    /// Which derating corner of the parts' capacitance.
-    #[arg(long, value_enum, default_value = "nominal")]
+    /// Which corner of the parts' values.
+    #[arg(long, value_enum, default_value = "typical")]
     pub corner: CornerArg,
     /// Number of log-spaced points, both ends included (2 to 1,000,000).
     #[arg(long, default_value_t = 1000)]
@@ -172,19 +198,22 @@ impl ViewArg {
     }
 }
 
-/// Which derating corner, as the command line spells it.
+/// Which corner, as the command line spells it.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum CornerArg {
-    /// Part values as given (with a part's own DC-bias curve at the rail voltage).
-    Nominal,
-    /// Lowest effective capacitance: DC bias, temperature class limit and tolerance.
+    /// Each part at the rail's DC bias (own curve or the generic class II model), room temperature, no tolerance.
+    Typical,
+    /// The values exactly as typed.
+    AsGiven,
+    /// Bias, the temperature class limit, and the worst vertex of every group's C and ESR tolerance.
     Worst,
 }
 
 impl From<CornerArg> for crate::physics::Corner {
     fn from(c: CornerArg) -> Self {
         match c {
-            CornerArg::Nominal => crate::physics::Corner::Nominal,
+            CornerArg::Typical => crate::physics::Corner::Typical,
+            CornerArg::AsGiven => crate::physics::Corner::AsGiven,
             CornerArg::Worst => crate::physics::Corner::Worst,
         }
     }

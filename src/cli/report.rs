@@ -1,6 +1,6 @@
 //! `hushrail report`: the review report as one self-contained HTML file.
 
-use super::{EXIT_PASS, load_board};
+use super::{EXIT_PASS, load_board_traced, shell_word};
 use crate::analysis::{DroopOptions, droop};
 use crate::io::{ReportContext, report_html, utc_date_today};
 use clap::Args;
@@ -22,10 +22,15 @@ pub struct ReportArgs {
 /// Write the report. The exit code is 0 whenever the report is written, whatever the verdicts: `check` is the
 /// command that judges.
 pub fn run(args: &ReportArgs) -> Result<i32, String> {
-    let (board, file) = load_board(args.board.as_ref())?;
+    let (board, file, sha256) = load_board_traced(args.board.as_ref())?;
     let droops: Option<Vec<_>> =
         (!args.no_droop).then(|| (0..board.rails.len()).map(|i| droop(&board, i, &DroopOptions::default())).collect());
-    let context = ReportContext { source: file, date: utc_date_today() };
+    // The report re-runs as the check of the same board.
+    let command = match &args.board {
+        Some(p) => format!("hushrail check {}", shell_word(&p.display().to_string())),
+        None => "hushrail check".to_string(),
+    };
+    let context = ReportContext { source: file, sha256, command, date: utc_date_today(), unsaved_edits: false };
     let html = report_html(&board, &context, droops.as_deref());
     super::write_files(&[(&args.output, html.as_bytes())], args.board.as_ref(), &board)?;
     Ok(EXIT_PASS)

@@ -103,6 +103,9 @@ pub struct App {
     pub(super) coupling: super::coupling_tool::CouplingTool,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
+    /// The last yield estimated: the rail, the board it was drawn for (shown only while the board is unchanged)
+    /// and the answer.
+    pub(super) yield_shown: Option<(usize, Board, crate::analysis::YieldEstimate)>,
     /// A board file that could not be opened, shown until dismissed.
     pub(super) load_error: Option<BoardError>,
     /// The last thing that happened, for the status line (text, is an error).
@@ -144,6 +147,7 @@ impl App {
             coupling: Default::default(),
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
+            yield_shown: None,
             load_error: None,
             status: None,
             pending: None,

@@ -4,7 +4,7 @@
 use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
 use crate::analysis::{DroopOptions, droop};
-use crate::io::{ReportContext, report_html, utc_date_today, write_png, write_report};
+use crate::io::{ReportContext, board_sha256, report_html, sha256_hex, utc_date_today, write_png, write_report};
 use egui::{ColorImage, Context, Rect};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -23,15 +23,29 @@ pub struct PendingShot {
 
 impl App {
     /// Write the review report of the board as it stands to `path`: the same document `hushrail report` writes
-    /// for the same board (with the droop of each rail). Returns true when written; the status line says.
+    /// for the same board (with the droop of each rail). With unsaved edits the report says so prominently and
+    /// carries the hash of the board as shown (the file on disk is another board). Returns true when written;
+    /// the status line says.
     pub fn save_report_to(&mut self, path: &Path) -> bool {
         let board = &self.doc.board;
         let droops: Vec<_> = (0..board.rails.len()).map(|i| droop(board, i, &DroopOptions::default())).collect();
-        let source = match &self.doc.path {
-            Some(p) => p.display().to_string(),
-            None => self.doc.label.clone(),
+        let unsaved_edits = self.is_dirty();
+        let (source, command) = match &self.doc.path {
+            Some(p) => (
+                p.display().to_string(),
+                format!("hushrail check '{}'", p.display().to_string().replace('\'', "'\\''")),
+            ),
+            None => (self.doc.label.clone(), "hushrail check".to_string()),
         };
-        let html = report_html(board, &ReportContext { source, date: utc_date_today() }, Some(&droops));
+        // The hash of the bytes the board came from when it is unchanged and on disk as opened; else of the
+        // board as shown.
+        let sha256 = match (&self.doc.path, unsaved_edits) {
+            (Some(p), false) => std::fs::read(p).map(|b| sha256_hex(&b)).unwrap_or_else(|_| board_sha256(board)),
+            (None, false) => sha256_hex(crate::samples::default_board_text().as_bytes()),
+            _ => board_sha256(board),
+        };
+        let context = ReportContext { source, sha256, command, date: utc_date_today(), unsaved_edits };
+        let html = report_html(board, &context, Some(&droops));
         match write_report(path, &html) {
             Ok(()) => {
                 self.status = Some((format!("Wrote the report {}.", path.display()), false));

@@ -1,84 +1,11 @@
 //! The findings: for the selected rail or for the whole board, in the engine's own words with its hints. Clicking
-//! one marks its frequency range on the plot. The board page also lists the cautions about the parts' ratings and
-//! polarity, which no impedance curve shows.
+//! one marks its frequency range on the plot. Beside them, the check's cautions about the parts (rating,
+//! polarity, measurement bias), which no impedance curve shows; a part rated below its rail fails the rail.
 
 use super::app::{App, FindingsTab};
 use super::theme::{self, Palette};
-use crate::analysis::{Finding, Severity};
-use crate::model::Board;
-use crate::units::{Unit, format};
+use crate::analysis::{Caution, Finding, Severity};
 use egui::{RichText, Ui};
-
-/// A caution about a part as fitted on a rail: rating or polarity.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Caution {
-    /// Rail index.
-    pub rail: usize,
-    /// Group index.
-    pub group: usize,
-    /// True when the part is rated below the rail's voltage (it will fail), false for a reminder.
-    pub serious: bool,
-    /// The caution in plain words.
-    pub text: String,
-}
-
-/// The cautions for every group of the board: a rating below the rail voltage, a rating with little headroom
-/// (common practice keeps a part well under its rating; ceramic parts also lose capacitance under DC bias), and
-/// polarised kinds.
-pub fn cautions(board: &Board) -> Vec<Caution> {
-    let mut out = Vec::new();
-    for (ri, rail) in board.rails.iter().enumerate() {
-        for (gi, g) in rail.decaps.iter().enumerate() {
-            let Some(part) = board.part(&g.part) else { continue };
-            if let Some(rated) = part.rated_voltage_v {
-                let v = rail.voltage_v;
-                if rated < v {
-                    out.push(Caution {
-                        rail: ri,
-                        group: gi,
-                        serious: true,
-                        text: format!(
-                            "{} is rated {} but sits on {} at {}: it is over its rating.",
-                            part.id,
-                            format(rated, Unit::Volt),
-                            rail.name,
-                            format(v, Unit::Volt)
-                        ),
-                    });
-                } else if v > 0.5 * rated {
-                    out.push(Caution {
-                        rail: ri,
-                        group: gi,
-                        serious: false,
-                        text: format!(
-                            "{} is rated {} on {} at {}: little headroom. Derate voltage as the part's data says \
-                             (common practice keeps well under the rating); a ceramic part also loses capacitance \
-                             under DC bias.",
-                            part.id,
-                            format(rated, Unit::Volt),
-                            rail.name,
-                            format(v, Unit::Volt)
-                        ),
-                    });
-                }
-            }
-            if part.kind.is_polarised() {
-                out.push(Caution {
-                    rail: ri,
-                    group: gi,
-                    serious: false,
-                    text: format!(
-                        "{} is {} and polarised: fit it with the right DC direction; reversed, it can fail \
-                         violently.",
-                        part.id,
-                        part.kind.name()
-                    ),
-                });
-            }
-        }
-    }
-    out
-}
 
 fn finding_row(
     ui: &mut Ui,
@@ -126,7 +53,17 @@ impl App {
         let rail_count = self.results.get(self.selected_rail).map_or(0, |r| r.findings.len());
         let board_count: usize =
             (0..self.doc.board.rails.len()).map(|i| self.results.get(i).map_or(0, |r| r.findings.len())).sum();
-        let cautions = cautions(&self.doc.board);
+        // Every rail's cautions, from its check: (rail, caution).
+        let cautions: Vec<(usize, Caution)> = (0..self.doc.board.rails.len())
+            .flat_map(|r| {
+                self.results
+                    .get(r)
+                    .map(|res| res.check.cautions.clone())
+                    .unwrap_or_default()
+                    .into_iter()
+                    .map(move |c| (r, c))
+            })
+            .collect();
         ui.horizontal(|ui| {
             ui.selectable_value(
                 &mut self.findings_tab,
@@ -146,7 +83,7 @@ impl App {
                 FindingsTab::Rail => {
                     let Some(result) = self.results.get(self.selected_rail).cloned() else { return };
                     if result.findings.is_empty() {
-                        let words = if result.analysis.meets_target {
+                        let words = if result.check.passes {
                             "Nothing to look at: the rail meets its target with no anti-resonance inside the band."
                         } else {
                             "The rail misses its target; see the plot."
@@ -167,12 +104,9 @@ impl App {
                             clicked = Some((self.selected_rail, i));
                         }
                     }
-                    for c in cautions.iter().filter(|c| c.rail == self.selected_rail) {
-                        ui.label(RichText::new(format!("Caution: {}", c.text)).color(if c.serious {
-                            pal.fail
-                        } else {
-                            pal.note
-                        }));
+                    // Failing cautions are among the findings above; the others are reminders.
+                    for (_, c) in cautions.iter().filter(|(r, c)| *r == self.selected_rail && !c.fails) {
+                        ui.label(RichText::new(format!("Caution: {}", c.text)).color(pal.note));
                     }
                 }
                 FindingsTab::Board => {
@@ -180,10 +114,9 @@ impl App {
                         let Some(result) = self.results.get(r).cloned() else { continue };
                         let name = self.doc.board.rails[r].name.clone();
                         let (fails, notes) = self.finding_counts(r);
-                        let (word, color) =
-                            if result.check().meets_target { ("meets", pal.ok) } else { ("misses", pal.fail) };
+                        let color = if result.check.passes { pal.ok } else { pal.fail };
                         ui.label(
-                            RichText::new(format!("{name}: {word} target ({fails} above target, {notes} notes)"))
+                            RichText::new(format!("{name}: {} ({fails} failing, {notes} notes)", result.check.word()))
                                 .strong()
                                 .color(color),
                         );
@@ -205,8 +138,8 @@ impl App {
                     if !cautions.is_empty() {
                         ui.add_space(6.0);
                         ui.label(RichText::new("Cautions").strong());
-                        for c in &cautions {
-                            ui.label(RichText::new(format!("Caution: {}", c.text)).color(if c.serious {
+                        for (_, c) in &cautions {
+                            ui.label(RichText::new(format!("Caution: {}", c.text)).color(if c.fails {
                                 pal.fail
                             } else {
                                 pal.note
@@ -220,22 +153,5 @@ impl App {
         if let Some((r, i)) = clicked {
             self.toggle_finding(r, i);
         }
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn ratings_and_polarity_are_cautioned() {
-        let mut board = crate::samples::default_board().unwrap();
-        let c = cautions(&board);
-        // The polymer bulk part is polarised, and 6.3 V parts have headroom on a 0.85 V rail.
-        assert!(c.iter().any(|c| c.text.contains("polarised")));
-        assert!(!c.iter().any(|c| c.serious));
-        let i = board.parts.iter().position(|p| p.id == "mlcc-10u-0603").unwrap();
-        board.parts[i].rated_voltage_v = Some(2.5);
-        assert!(cautions(&board).iter().any(|c| c.serious && c.text.contains("V3V3_IO")));
     }
 }

@@ -37,34 +37,29 @@ pub const SECTIONS: &[(&str, &[&str])] = &[
         ],
     ),
     (
-        "What the model leaves out",
-        &["The model is lumped and idealised: one node, ideal parallel branches. It leaves out where each part \
-             sits on the plane (spreading inductance), the package and the die, plane cavity resonances, a ceramic \
-             part's loss of capacitance under DC bias, temperature and ageing, tolerance, and the regulator's \
-             control loop beyond its output R-L."],
-    ),
-    (
-        "Cautions",
+        "Corners, yield and sensitivity",
         &[
-            "Check every result against the parts' own data and against a measurement of the board before relying \
-             on it. The sample boards and their values are invented.",
-            "Derate voltage: keep each part well under its rated voltage as its data says. Ceramic parts lose much \
-             of their capacitance under DC bias.",
-            "Mind polarised parts (tantalum, polymer, electrolytic): fitted the wrong way round they can fail \
-             violently.",
-            "Large capacitor banks store energy: discharge them before handling a board.",
-            "Where mains or high energy are near, follow local codes and licensed practice; this tool does not \
-             replace either.",
+            "The verdict takes the typical corner: each part's capacitance at the rail's DC voltage (its own DC-bias \
+             curve, or the generic class II model), at room temperature, with no tolerance. \"As given\" takes the \
+             values exactly as typed. The worst corner adds the temperature class limit over the board's range and \
+             searches the ends of every group's capacitance and ESR tolerance for the highest |Z| in the band.",
+            "The yield draws random boards, each group's capacitance and ESR once and uniformly within their \
+             tolerances (a group's parts come from one reel), and counts those that meet target. Beside each \
+             group, how much the worst |Z| moves with one part more or one fewer shows which group the verdict \
+             hangs on.",
+            "A part rated below its rail's voltage fails the rail whatever the impedance.",
         ],
     ),
 ];
 
-/// Draw the help page.
+/// Draw the help page: the method in brief, then the cautions every face gives (`crate::notes`).
 pub fn help(ui: &mut Ui) {
-    for (title, paragraphs) in SECTIONS {
+    let notes: [(&str, &[&str]); 2] =
+        [("What the model leaves out", crate::notes::LEAVES_OUT), ("Cautions", crate::notes::SAFETY)];
+    for (title, paragraphs) in SECTIONS.iter().copied().chain(notes) {
         ui.add_space(6.0);
-        ui.label(RichText::new(*title).strong().size(15.0));
-        for p in *paragraphs {
+        ui.label(RichText::new(title).strong().size(15.0));
+        for p in paragraphs {
             ui.label(*p);
             ui.add_space(3.0);
         }

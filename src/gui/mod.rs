@@ -23,7 +23,6 @@ pub mod theme;
 mod time_view;
 
 pub use app::{App, CentralTab, Document, FindingsTab, Pending, SideTab};
-pub use findings::{Caution, cautions};
 pub use pins::Pin;
 pub use plot::{log_label, log_marks};
 pub use time_view::droop_lines;

@@ -7,8 +7,8 @@
 use super::app::App;
 use super::results::RailResult;
 use super::theme;
-use crate::analysis::{AntiResonance, Severity, View};
-use crate::physics::derating::BiasSource;
+use crate::analysis::{AntiResonance, Severity, View, kept_words, search_words, summary, vertex_words, yield_words};
+use crate::physics::Corner;
 use crate::units::{Unit, format, format_sig};
 use egui::{RichText, Ui};
 use egui_plot::{
@@ -80,6 +80,9 @@ pub fn log_label(mark: GridMark, range: &RangeInclusive<f64>, unit: Unit) -> Str
     }
 }
 
+/// Random boards the window's yield button draws.
+const YIELD_SAMPLES: usize = 10_000;
+
 /// Where a curve is seen from, in words.
 fn view_words(view: View) -> &'static str {
     match view {
@@ -88,54 +91,19 @@ fn view_words(view: View) -> &'static str {
     }
 }
 
-/// A rail's verdict figures in one line.
-fn figures(a: &crate::analysis::RailAnalysis) -> String {
-    format!(
-        "{}, worst |Z| {} at {}, margin {:+.1} dB",
-        if a.meets_target { "meets target" } else { "misses target" },
-        format(a.worst_ohm, Unit::Ohm),
-        format(a.worst_hz, Unit::Hertz),
-        a.margin_db
-    )
-}
-
-/// The groups whose parts lose most capacitance in an analysed corner, most first (at most three), each with
-/// where the loss comes from; the generic DC-bias model is marked as typical and recalled.
-fn losses(board: &crate::model::Board, a: &crate::analysis::RailAnalysis) -> Vec<String> {
-    let mut kept: Vec<(f64, String)> = a
-        .groups
-        .iter()
-        .filter_map(|g| {
-            let nominal = board.part(&g.part)?.capacitance_f;
-            let ratio = g.effective_c_f / nominal;
-            (ratio < 0.999).then(|| {
-                let bias = match g.derating.as_ref().map(|d| d.bias_source) {
-                    Some(BiasSource::Generic) => ", DC bias from the generic model (typical, recalled)",
-                    Some(BiasSource::PartCurve) => ", DC bias from the part's own curve",
-                    _ => "",
-                };
-                let text = format!(
-                    "{} keeps {:.0} % ({} to {}{bias})",
-                    g.part,
-                    ratio * 100.0,
-                    format(nominal, Unit::Farad),
-                    format(g.effective_c_f, Unit::Farad)
-                );
-                (ratio, text)
-            })
-        })
-        .collect();
-    kept.sort_by(|x, y| x.0.total_cmp(&y.0));
-    kept.dedup_by(|x, y| x.1 == y.1);
-    kept.into_iter().take(3).map(|(_, t)| t).collect()
-}
-
 /// The groups that meet at a peak, in a few words.
 fn peak_groups(a: &AntiResonance) -> String {
     let side =
         |b: &Option<crate::analysis::BranchRef>| b.as_ref().map(|b| b.label.clone()).unwrap_or_else(|| "—".into());
     // Two short lines keep the read-out narrow enough to stay over the plot.
-    format!("peak between {} (inductive)\nand {} (capacitive)", side(&a.inductive_side), side(&a.capacitive_side))
+    let share = |b: &Option<crate::analysis::BranchRef>| b.as_ref().map_or(0.0, |b| b.share * 100.0);
+    format!(
+        "peak between {} ({:.0} % of the inductive current)\nand {} ({:.0} % of the capacitive current)",
+        side(&a.inductive_side),
+        share(&a.inductive_side),
+        side(&a.capacitive_side),
+        share(&a.capacitive_side)
+    )
 }
 
 /// The hover read-out for a point of the plot.
@@ -187,11 +155,14 @@ impl App {
             return;
         };
         let a = &result.analysis;
+        let check = &result.check;
+        let color = if check.passes { pal.ok } else { pal.fail };
         ui.horizontal(|ui| {
             ui.label(RichText::new(&rail.name).heading().strong());
-            let (word, color) = if a.meets_target { ("meets target", pal.ok) } else { ("misses target", pal.fail) };
-            ui.label(RichText::new(word).heading().color(color));
-            ui.label(RichText::new(format!("margin {:+.1} dB", a.margin_db)).strong().color(color));
+            ui.label(RichText::new(format!("{} the check", check.word())).heading().color(color));
+            ui.label(RichText::new(format!("margin {:+.1} dB", check.verdict.margin_db)).strong().color(color));
+            ui.label(RichText::new(format!("{} corner", check.verdict.corner.name())).strong())
+                .on_hover_text(check.verdict.corner.words());
             if a.view == View::Die {
                 // With a package the verdict is taken at the die, as the check takes it; say so.
                 ui.label(RichText::new("seen at the die, through the package").weak());
@@ -199,6 +170,11 @@ impl App {
                 ui.label(RichText::new("seen at the board node (the check takes the verdict at the die)").weak());
             }
         });
+        // The check's own sentence, and the cautions that fail the rail, where nobody can miss them.
+        ui.label(RichText::new(check.verdict_line()).color(color));
+        for c in check.failing_cautions() {
+            ui.label(RichText::new(format!("Fails: {}", c.text)).strong().color(pal.fail));
+        }
         self.look_row(ui, rail.package.is_some());
         ui.horizontal_wrapped(|ui| {
             ui.label(format!(
@@ -213,21 +189,27 @@ impl App {
             ui.label(format!("{:.2}× target", a.worst_ohm / a.target_ohm));
         });
         if let Some(o) = &result.other_view {
-            let b = &o.analysis;
-            ui.label(RichText::new(format!("{}: {}", view_words(b.view), figures(b))).color(pal.other_view));
+            ui.label(RichText::new(format!("the other view: {}", summary(&o.analysis))).color(pal.other_view));
         }
         if let Some(w) = &result.worst {
-            ui.label(
-                RichText::new(format!("worst derating corner: {}", figures(&w.analysis)))
-                    .color(if w.analysis.meets_target { pal.ok } else { pal.fail }),
-            );
-            let losses = losses(&self.doc.board, &w.analysis);
-            if losses.is_empty() {
-                ui.label(RichText::new("No part loses capacitance in the worst corner.").small());
+            ui.label(RichText::new(summary(&w.analysis)).color(if w.analysis.meets_target {
+                pal.ok
             } else {
-                ui.label(RichText::new(format!("loses most: {}", losses.join("; "))).small());
+                pal.fail
+            }));
+            let dirs = vertex_words(&w.analysis);
+            if !dirs.is_empty() {
+                ui.label(RichText::new(format!("worst vertex: {}", dirs.join("; "))).small());
+            }
+            if let Some(s) = search_words(&w.analysis) {
+                ui.label(RichText::new(s).small().weak());
             }
         }
+        let kept = kept_words(check);
+        if !kept.is_empty() {
+            ui.label(RichText::new(format!("capacitance: {}", kept.join("; "))).small());
+        }
+        self.yield_row(ui, &pal);
         if let Some(pin) = self.pins.iter().rev().find(|p| p.visible && p.rail == rail.name) {
             let change_db = 20.0 * (pin.worst_ohm / a.worst_ohm).log10();
             let better = if change_db >= 0.0 { "better" } else { "worse" };
@@ -246,6 +228,40 @@ impl App {
         }
     }
 
+    /// The yield of the selected rail: a button that draws random boards within the parts' tolerances, and the
+    /// answer while the board stays as it was.
+    fn yield_row(&mut self, ui: &mut Ui, pal: &theme::Palette) {
+        let index = self.selected_rail;
+        let current = self.yield_shown.as_ref().filter(|(i, board, _)| *i == index && *board == self.doc.board);
+        match current {
+            Some((_, _, y)) => {
+                let color = if y.meeting == y.samples { pal.ok } else { pal.note };
+                ui.label(RichText::new(format!("yield: {}", yield_words(y))).small().color(color));
+            }
+            None => {
+                if ui
+                    .small_button(format!("Estimate the yield ({YIELD_SAMPLES} random boards)"))
+                    .on_hover_text(
+                        "Draw each group's capacitance and ESR uniformly within their tolerances (one draw per \
+                         group: its parts come from one reel) and count the boards that meet target",
+                    )
+                    .clicked()
+                    && let Some(y) = crate::analysis::yield_estimate(
+                        &self.doc.board,
+                        index,
+                        self.results.get(index).map_or(View::Board, |r| r.verdict().view),
+                        super::results::BAND_POINTS,
+                        YIELD_SAMPLES,
+                        crate::analysis::DEFAULT_SEED,
+                        2,
+                    )
+                {
+                    self.yield_shown = Some((index, self.doc.board.clone(), y));
+                }
+            }
+        }
+    }
+
     /// Where the rail is seen from and which curves are drawn beside the main one. Changing them analyses every
     /// rail again (once), since the rails list shows the same view.
     fn look_row(&mut self, ui: &mut Ui, has_package: bool) {
@@ -258,8 +274,7 @@ impl App {
                 ui.checkbox(&mut look.both_views, "draw both");
                 ui.separator();
             }
-            ui.checkbox(&mut look.worst_corner, "worst derating corner too")
-                .on_hover_text("Lowest capacitance from DC bias, temperature over the board's range and tolerance");
+            ui.checkbox(&mut look.worst_corner, "worst corner too").on_hover_text(Corner::Worst.words());
         });
         if look != self.results.look() {
             self.results.set_look(look);
@@ -359,7 +374,7 @@ impl App {
                 }
                 if let Some(w) = &result.worst {
                     pu.line(
-                        Line::new("worst derating corner", PlotPoints::from(w.total.clone()))
+                        Line::new("worst corner", PlotPoints::from(w.total.clone()))
                             .color(pal.worst)
                             .width(1.5)
                             .style(LineStyle::dashed_dense()),
@@ -439,7 +454,7 @@ impl App {
             entries.push((vec![(pal.other_view, 0)], format!("|Z| {}", view_words(o.analysis.view))));
         }
         if result.worst.is_some() {
-            entries.push((vec![(pal.worst, 0)], "worst derating corner (dashed)".into()));
+            entries.push((vec![(pal.worst, 0)], "worst corner (dashed)".into()));
         }
         entries.push((vec![(pal.target, 0)], format!("target {}, band edges dashed", format(target_ohm, Unit::Ohm))));
         entries.push((vec![(pal.violation_fill.gamma_multiply(3.0), 2)], "above target".into()));

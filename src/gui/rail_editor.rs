@@ -5,6 +5,7 @@ use super::app::{App, Document, SideTab};
 use super::history::Edit;
 use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
 use super::theme;
+use crate::analysis::sensitivity_words;
 use crate::model::{Combine, DecapGroup, Die, Load, MountingGeometry, Package, Plane, Rail, Source};
 use crate::physics::mounting::mounting_breakdown;
 use crate::units::{Unit, format};
@@ -244,7 +245,8 @@ impl App {
             .get(i)
             .map(|r| r.analysis.groups.iter().map(|g| g.self_resonance_hz).collect())
             .unwrap_or_default();
-        let cautions = super::findings::cautions(&self.doc.board);
+        let cautions = self.results.get(i).map(|r| r.check.cautions.clone()).unwrap_or_default();
+        let sensitivity = self.results.get(i).map(|r| r.check.sensitivity.clone()).unwrap_or_default();
         let part_ids: Vec<String> = self.doc.board.parts.iter().map(|p| p.id.clone()).collect();
         let n = rail.decaps.len();
         for (gi, g) in rail.decaps.iter().enumerate() {
@@ -352,8 +354,15 @@ impl App {
                         self.report(&key, result);
                     }
                 });
-                for c in cautions.iter().filter(|c| c.rail == i && c.group == gi) {
-                    ui.label(RichText::new(format!("Caution: {}", c.text)).small().color(if c.serious {
+                if let Some(s) = sensitivity.iter().find(|s| s.group == gi) {
+                    ui.label(RichText::new(format!("worst |Z| per part: {}", sensitivity_words(s))).small().weak())
+                        .on_hover_text(
+                            "How the rail's worst |Z| in the band moves with one part more or one fewer in this \
+                             group: the group the verdict hangs on moves it most",
+                        );
+                }
+                for c in cautions.iter().filter(|c| c.part == g.part) {
+                    ui.label(RichText::new(format!("Caution: {}", c.text)).small().color(if c.fails {
                         pal.fail
                     } else {
                         pal.note

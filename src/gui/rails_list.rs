@@ -12,8 +12,8 @@ impl App {
         ui.add_space(4.0);
         ui.label(RichText::new(&self.doc.board.name).heading());
         let total = self.doc.board.rails.len();
-        let meeting = (0..total).filter(|&i| self.results.get(i).is_some_and(|r| r.check().meets_target)).count();
-        let summary = format!("{meeting} of {total} rails meet target");
+        let meeting = (0..total).filter(|&i| self.results.get(i).is_some_and(|r| r.check.passes)).count();
+        let summary = format!("{meeting} of {total} rails pass");
         ui.label(RichText::new(summary).strong().color(if meeting == total { pal.ok } else { pal.fail }));
         ui.separator();
 
@@ -56,7 +56,8 @@ impl App {
             .fill(if selected { ui.visuals().selection.bg_fill.gamma_multiply(0.35) } else { ui.visuals().panel_fill })
             .inner_margin(egui::Margin::symmetric(8, 5));
         let name = rail.name.clone();
-        let volts = format(rail.voltage_v, Unit::Volt);
+        let rail_v = rail.voltage_v;
+        let volts = format(rail_v, Unit::Volt);
         let card = frame.show(ui, |ui| {
             ui.set_width(ui.available_width());
             let name_response = ui
@@ -64,11 +65,9 @@ impl App {
                     let name_response = ui.selectable_label(selected, RichText::new(&name).strong());
                     ui.label(RichText::new(volts).weak());
                     ui.with_layout(egui::Layout::right_to_left(egui::Align::Center), |ui| match &result {
-                        Some(r) if r.check().meets_target => {
-                            ui.label(RichText::new("meets").strong().color(pal.ok));
-                        }
-                        Some(_) => {
-                            ui.label(RichText::new("misses").strong().color(pal.fail));
+                        Some(r) => {
+                            let color = if r.check.passes { pal.ok } else { pal.fail };
+                            ui.label(RichText::new(r.check.word()).strong().color(color));
                         }
                         None => {
                             ui.label(RichText::new("not analysed").color(pal.note));
@@ -78,12 +77,26 @@ impl App {
                 })
                 .inner;
             if let Some(r) = &result {
-                // The card always gives the check's verdict (at the die when the rail has a package), whatever
-                // view the plot shows.
-                let a = r.check();
-                let text = format!("margin {:+.1} dB · worst at {}", a.margin_db, format(a.worst_hz, Unit::Hertz));
+                // The card always gives the check's verdict (at the die when the rail has a package, typical
+                // corner), whatever view the plot shows.
+                let a = r.verdict();
+                let text = format!(
+                    "margin {:+.1} dB · worst at {} · {}",
+                    a.margin_db,
+                    format(a.worst_hz, Unit::Hertz),
+                    a.corner.name()
+                );
                 let color = if a.meets_target { ui.visuals().weak_text_color() } else { pal.fail };
                 ui.label(RichText::new(text).small().color(color));
+                // A part rated below the rail fails it whatever the impedance: say so on the card.
+                for c in r.check.failing_cautions() {
+                    ui.label(
+                        RichText::new(format!("{} rated below {}", c.part, format(rail_v, Unit::Volt)))
+                            .small()
+                            .strong()
+                            .color(pal.fail),
+                    );
+                }
             }
             name_response
         });
@@ -92,7 +105,7 @@ impl App {
         let card_click = ui.interact(card.response.rect, egui::Id::unique(("rail-card", i)), egui::Sense::click());
         clicked |= card_click.clicked();
         if let Some(r) = &result {
-            let a = r.check();
+            let a = r.verdict();
             card_click.on_hover_text(format!(
                 "target {}, worst |Z| {} at {}",
                 format(a.target_ohm, Unit::Ohm),

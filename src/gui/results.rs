@@ -5,10 +5,10 @@
 //! parts it uses change, so dragging one count re-analyses one rail, not the board.
 
 use crate::analysis::{
-    AnalysisOptions, Droop, DroopOptions, Finding, RailAnalysis, View, analyze_rail, droop, explain,
+    AnalysisOptions, CheckOptions, Droop, DroopOptions, Finding, RailAnalysis, RailCheck, View, analyze_rail,
+    check_rail, curve_of, droop, explain,
 };
 use crate::model::{Board, Part, Rail};
-use crate::physics::Corner;
 use std::sync::Arc;
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
@@ -60,7 +60,7 @@ pub struct Look {
     pub view: Option<View>,
     /// Also draw the curve seen from the other node, for rails with a package.
     pub both_views: bool,
-    /// Also analyse the worst derating corner (lowest effective capacitance) and draw its curve.
+    /// Also analyse the worst corner (the tolerance vertex search) and draw its curve.
     pub worst_corner: bool,
 }
 
@@ -73,28 +73,31 @@ pub struct Beside {
     pub total: Vec<[f64; 2]>,
 }
 
-/// One rail's analysis, findings and plot data.
+/// One rail's check, the analysis the plot shows, its findings and plot data.
 #[derive(Debug, Clone, PartialEq)]
 pub struct RailResult {
-    /// What the engine says about the rail, in the chosen view and the nominal corner.
+    /// The engine's check of the rail: its verdict (the verdict's view, typical corner), cautions, capacitance
+    /// kept, sensitivity, and the other corners when the worst one is asked for. The rails list and the header
+    /// give this verdict, whatever view the plot shows.
+    pub check: RailCheck,
+    /// What the engine says in the view the plot shows (the check's own analysis when that is the verdict's
+    /// view), typical corner.
     pub analysis: RailAnalysis,
-    /// Its findings in plain words.
+    /// The findings in plain words: the check's failing cautions, then the shown analysis's findings.
     pub findings: Vec<Finding>,
     /// What the plot draws.
     pub plot: PlotData,
     /// The same rail seen from the other node, when asked for and the rail has a package.
     pub other_view: Option<Beside>,
-    /// The worst derating corner in the chosen view, when asked for.
+    /// The worst corner in the shown view, when asked for.
     pub worst: Option<Beside>,
-    /// The check's own analysis (the verdict's view), when the chosen view is another; band scan only.
-    pub verdict: Option<Box<RailAnalysis>>,
 }
 
 impl RailResult {
-    /// The analysis the check judges by: the verdict's view (the die when the rail gives a package), nominal
-    /// corner, whatever view the plot shows. The rails list gives this verdict.
-    pub fn check(&self) -> &RailAnalysis {
-        self.verdict.as_deref().unwrap_or(&self.analysis)
+    /// The analysis the verdict is judged by: the verdict's view (the die when the rail gives a package), the
+    /// typical corner, whatever view the plot shows.
+    pub fn verdict(&self) -> &RailAnalysis {
+        &self.check.verdict
     }
 }
 
@@ -238,54 +241,82 @@ pub fn droop_options() -> DroopOptions {
     DroopOptions { points: Some(DROOP_POINTS), ..DroopOptions::default() }
 }
 
-/// Analyse one rail as the check does (the verdict's view, nominal corner) and prepare its plot data.
+/// Check one rail as `hushrail check` does (the verdict's view, typical corner) and prepare its plot data.
 pub fn compute(board: &Board, index: usize) -> Option<RailResult> {
     compute_with(board, index, Look::default())
 }
 
-/// Analyse one rail as `look` asks and prepare its plot data.
+/// Check one rail and analyse it as `look` asks, and prepare its plot data.
 pub fn compute_with(board: &Board, index: usize, look: Look) -> Option<RailResult> {
     let rail = board.rails.get(index)?;
     // The band as the engine will take it (given, or from the loads' rise times).
     let [lo, hi] = rail.band()?.hz;
     let view_hz = [lo / VIEW_MARGIN, hi * VIEW_MARGIN];
-    // The chosen view (by default the verdict's own) and the nominal corner, as the check takes them; only the
-    // density and the curves to keep are the window's.
+    let curve = Some((view_hz[0], view_hz[1], CURVE_POINTS));
+    // The check as the command line takes it; only the density of the drawn curve and which extra corners to
+    // analyse are the window's. The worst corner's vertex search runs only when its curve is asked for.
+    let check = check_rail(
+        board,
+        index,
+        &CheckOptions {
+            band_points: BAND_POINTS,
+            curve,
+            branch_curves: true,
+            other_view: false,
+            corners: look.worst_corner,
+            ..CheckOptions::default()
+        },
+    )?;
+    let shown_view = match look.view {
+        Some(View::Board) => View::Board,
+        _ => check.verdict.view,
+    };
     let options = AnalysisOptions {
         band_points: BAND_POINTS,
-        curve: Some((view_hz[0], view_hz[1], CURVE_POINTS)),
+        curve,
         branch_curves: true,
-        view: look.view,
-        corner: Corner::Nominal,
+        view: Some(shown_view),
+        corner: check.verdict.corner,
+        ..AnalysisOptions::default()
     };
-    let analysis = analyze_rail(board, index, &options)?;
-    let findings = explain(board, rail, &analysis);
-    let plot = plot_data(&analysis, view_hz);
-    // Second curves carry no per-group curves: they are drawn as one line each.
-    let beside = |view: Option<View>, corner: Corner| -> Option<Beside> {
-        let options = AnalysisOptions { branch_curves: false, view, corner, ..options };
+    let (analysis, findings) = if shown_view == check.verdict.view {
+        (check.verdict.clone(), check.findings.clone())
+    } else {
         let analysis = analyze_rail(board, index, &options)?;
-        let total = plot_data(&analysis, view_hz).total;
-        Some(Beside { analysis, total })
+        let mut findings: Vec<Finding> =
+            check.findings.iter().filter(|f| check.failing_cautions().any(|c| c.text == f.text)).cloned().collect();
+        findings.extend(explain(board, rail, &analysis));
+        (analysis, findings)
+    };
+    let plot = plot_data(&analysis, view_hz);
+    let beside = |a: RailAnalysis| {
+        let total = plot_data(&a, view_hz).total;
+        Beside { analysis: a, total }
     };
     let other_view = if look.both_views && rail.package.is_some() {
         let other = match analysis.view {
             View::Die => View::Board,
             View::Board => View::Die,
         };
-        beside(Some(other), Corner::Nominal)
+        let options = AnalysisOptions { branch_curves: false, view: Some(other), ..options };
+        analyze_rail(board, index, &options).map(beside)
     } else {
         None
     };
-    let worst = if look.worst_corner { beside(Some(analysis.view), Corner::Worst) } else { None };
-    let verdict = match look.view {
-        Some(_) if rail.package.is_some() => {
-            let scan_only = AnalysisOptions { curve: None, branch_curves: false, view: None, ..options };
-            analyze_rail(board, index, &scan_only).filter(|v| v.view != analysis.view).map(Box::new)
+    let worst = match check.corner(crate::physics::Corner::Worst) {
+        // The check searched the worst vertex in the verdict's view: draw that analysis along the curve.
+        Some(w) if w.view == shown_view => {
+            let mut w = w.clone();
+            w.curve = Some(curve_of(board, rail, &w, view_hz[0], view_hz[1], CURVE_POINTS));
+            Some(beside(w))
         }
-        _ => None,
+        Some(_) => {
+            let options = AnalysisOptions { branch_curves: false, corner: crate::physics::Corner::Worst, ..options };
+            analyze_rail(board, index, &options).map(beside)
+        }
+        None => None,
     };
-    Some(RailResult { analysis, findings, plot, other_view, worst, verdict })
+    Some(RailResult { check, analysis, findings, plot, other_view, worst })
 }
 
 /// A point in plot coordinates, or `None` where |Z| cannot be drawn on a log axis (zero, infinite, NaN).
@@ -357,6 +388,7 @@ mod tests {
         results.refresh(&board);
         for i in 0..board.rails.len() {
             let mine = &results.get(i).unwrap().analysis;
+            // The check's default corner and view, as `hushrail check` takes them.
             let engine = analyze_rail(&board, i, &AnalysisOptions::default()).unwrap();
             assert_eq!(mine.worst_ohm, engine.worst_ohm);
             assert_eq!(mine.meets_target, engine.meets_target);

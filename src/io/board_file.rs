@@ -27,7 +27,31 @@ pub const FORMAT_VERSION: u64 = 1;
 /// Measured parts' data are loaded too; a measurement that cannot be used is an error here (the command line
 /// refuses such a board). The window uses [`read_board_keeping_unusable`] instead.
 pub fn read_board(path: &Path) -> Result<Board, BoardError> {
-    let board = read_board_keeping_unusable(path)?;
+    read_board_bytes(path).and_then(|bytes| board_from_bytes(path, bytes)).and_then(|b| refuse_unusable(path, b))
+}
+
+/// Read and check a board file, loading measured parts' data; a measured part whose data cannot be used stays on
+/// the board, marked unusable with the reason (its groups are left out of the network).
+pub fn read_board_keeping_unusable(path: &Path) -> Result<Board, BoardError> {
+    read_board_bytes(path).and_then(|bytes| board_from_bytes(path, bytes))
+}
+
+/// The bytes of a board file: a regular file within the size cap.
+pub(super) fn read_board_bytes(path: &Path) -> Result<Vec<u8>, BoardError> {
+    super::read_limited(path, crate::model::ranges::MAX_BOARD_BYTES)
+        .map_err(|why| BoardError::single(path, Place::Whole, why))
+}
+
+/// A board from its file's bytes, measured parts' data loaded from beside it.
+pub(super) fn board_from_bytes(path: &Path, bytes: Vec<u8>) -> Result<Board, BoardError> {
+    let text = super::text_of(bytes).map_err(|(place, why)| BoardError::single(path, place, why))?;
+    let mut board = parse_board(&text, &path.display().to_string())?;
+    load_measurements(&mut board, path.parent().unwrap_or(Path::new("")));
+    Ok(board)
+}
+
+/// The board, or an error naming each measured part whose data cannot be used.
+pub(super) fn refuse_unusable(path: &Path, board: Board) -> Result<Board, BoardError> {
     let problems: Vec<Problem> = board
         .parts
         .iter()
@@ -35,18 +59,6 @@ pub fn read_board(path: &Path) -> Result<Board, BoardError> {
         .filter_map(|(i, p)| p.unusable().map(|why| Problem::new(format!("parts[{i}].touchstone"), why)))
         .collect();
     if problems.is_empty() { Ok(board) } else { Err(BoardError::from_problems(&path.display().to_string(), problems)) }
-}
-
-/// Read and check a board file, loading measured parts' data; a measured part whose data cannot be used stays on
-/// the board, marked unusable with the reason (its groups are left out of the network).
-pub fn read_board_keeping_unusable(path: &Path) -> Result<Board, BoardError> {
-    let bytes = super::read_limited(path, crate::model::ranges::MAX_BOARD_BYTES)
-        .map_err(|why| BoardError::single(path, Place::Whole, why))?;
-    let text = super::text_of(bytes).map_err(|(place, why)| BoardError::single(path, place, why))?;
-    let mut board = parse_board(&text, &path.display().to_string())?;
-    let dir = path.parent().unwrap_or(Path::new(""));
-    load_measurements(&mut board, dir);
-    Ok(board)
 }
 
 /// Load every measured part's Touchstone file (paths relative to `dir`), fit it, and fill in the part's fitted C,
@@ -312,9 +324,11 @@ impl Decoder {
                 "unit_cost",
                 "area_m2",
                 "tolerance_pct",
+                "esr_tolerance_pct",
                 "dc_bias",
                 "touchstone",
                 "fixture",
+                "measured_bias_v",
             ],
             &empty,
         );
@@ -396,6 +410,8 @@ impl Decoder {
             unit_cost: self.opt_number(&f, "unit_cost"),
             area_m2: self.opt_number(&f, "area_m2"),
             tolerance_pct: self.opt_number(&f, "tolerance_pct"),
+            esr_tolerance_pct: self.opt_number(&f, "esr_tolerance_pct"),
+            measured_bias_v: self.opt_number(&f, "measured_bias_v"),
             dc_bias,
             touchstone,
             fixture,

@@ -3,23 +3,22 @@
 //! of materials, the cautions, the tool's version and the date. Building it is a pure function, so the window
 //! can offer the same report; writing it is atomic.
 
+use super::Trace;
 use super::bom::{bill_of_materials, cost_words, part_words, total_cost_words};
 use super::svg_plot::{PLOT_POINTS, impedance_svg, plot_range_hz};
-use crate::analysis::{AnalysisOptions, Droop, DroopError, RailAnalysis, Severity, View, analyze_rail, explain};
+use crate::analysis::{
+    CheckOptions, Droop, DroopError, RailAnalysis, RailCheck, Severity, check_rail, kept_words, search_words,
+    sensitivity_words, summary, vertex_words, yield_words,
+};
 use crate::model::{Board, Combine, Rail};
 use crate::physics::Corner;
 use crate::units::{Unit, format};
 use std::fmt::Write;
 use std::path::Path;
 
-/// What the report says about where it comes from.
-#[derive(Debug, Clone, PartialEq)]
-pub struct ReportContext {
-    /// The board file as the user named it (or "built-in sample ...").
-    pub source: String,
-    /// The day the report is made, as YYYY-MM-DD (UTC).
-    pub date: String,
-}
+/// What the report says about where it comes from: the board's hash, path, the tool's version, the re-run
+/// command, the date, and whether the board has unsaved edits.
+pub type ReportContext = Trace;
 
 /// The droop figures of each rail, in the board's rail order (an error for a rail where droop cannot be
 /// computed, such as one without a source). `None` leaves the droop out of the report.
@@ -41,26 +40,16 @@ pub fn escape(text: &str) -> String {
     out
 }
 
-/// The cautions every report carries.
-pub const CAUTIONS: [&str; 6] = [
-    "The model is lumped and idealised: each part is one series R-L-C, the plane one capacitance, the regulator one \
-     R-L. Spreading inductance, the package and the die, and how a part's values change with bias, temperature and \
-     age are not in it.",
-    "Check the results against the parts' own data and against a measurement of the built board.",
-    "Derate voltage: a ceramic part loses capacitance under DC bias, and every part needs headroom over the rail's \
-     voltage.",
-    "Mind polarised parts (polymer, tantalum, electrolytic): reverse voltage destroys them.",
-    "Capacitors store energy and can stay charged after power is removed.",
-    "Where mains or high energy are near, follow local codes and licensed practice.",
-];
-
 const STYLE: &str = "body{font-family:sans-serif;max-width:62em;margin:1.5em auto;padding:0 1em;color:#222;\
 line-height:1.4}table{border-collapse:collapse;margin:.5em 0 1em}th,td{border:1px solid #bbb;padding:.2em .5em;\
 text-align:left;vertical-align:top}td.n{text-align:right}.pass{color:#155724;background:#e6f4ea}.fail{color:#7a1010;\
 background:#fbe9e9}p.verdict{padding:.4em .6em;font-weight:bold}li{margin-bottom:.5em}.meta{color:#555}\
-figure{margin:.5em 0}figcaption{color:#555;font-size:.9em}section.rail{border-top:2px solid #ccc;margin-top:2em}";
+figure{margin:.5em 0}figcaption{color:#555;font-size:.9em}section.rail{border-top:2px solid #ccc;margin-top:2em}\
+div.unsaved{border:3px solid #a00;background:#fbe9e9;color:#7a1010;font-weight:bold;padding:.6em;margin:1em 0}\
+table.signoff td{min-width:18em;height:2em}";
 
-/// The whole report as one HTML document.
+/// The whole report as one HTML document. Every rail's check is `analysis::check_rail`'s, as `hushrail check`
+/// gives it; this only renders it.
 pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) -> String {
     let mut h = String::with_capacity(64 * 1024);
     let name = escape(&board.name);
@@ -69,107 +58,54 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
         "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<title>Decoupling review: {name}</title>\n\
          <style>{STYLE}</style>\n</head>\n<body>\n<h1>Decoupling review: {name}</h1>\n"
     );
-    let _ = writeln!(
-        h,
-        "<p class=\"meta\">Board file: {}. Made by hushrail {} on {} (UTC).</p>",
-        escape(&context.source),
-        env!("CARGO_PKG_VERSION"),
-        escape(&context.date)
-    );
+    trace_section(&mut h, context);
     if let Some(d) = &board.description {
         let _ = writeln!(h, "<p>{}</p>", escape(d));
     }
 
-    // The verdict of each rail as `hushrail check` gives it: the verdict view (the die when the rail gives a
-    // package) in the nominal corner, with the board view and the worst corner beside it.
-    let analyses: Vec<Option<RailViews>> = (0..board.rails.len())
+    let checks: Vec<Option<RailCheck>> = (0..board.rails.len())
         .map(|i| {
             let (from, to) = plot_range_hz(board.rails[i].band_hz_or_default());
-            let options = AnalysisOptions { curve: Some((from, to, PLOT_POINTS)), ..AnalysisOptions::default() };
-            let verdict = analyze_rail(board, i, &options)?;
-            let plain = AnalysisOptions { curve: None, ..options };
-            let board_view = (verdict.view == View::Die)
-                .then(|| analyze_rail(board, i, &AnalysisOptions { view: Some(View::Board), ..plain }))
-                .flatten();
-            let worst_corner = analyze_rail(board, i, &AnalysisOptions { corner: Corner::Worst, ..plain });
-            Some(RailViews { verdict, board_view, worst_corner })
+            check_rail(board, i, &CheckOptions { curve: Some((from, to, PLOT_POINTS)), ..CheckOptions::default() })
         })
         .collect();
 
     // Summary: one line per rail.
     h.push_str(
         "<section id=\"summary\">\n<h2>Summary</h2>\n<table>\n<tr><th>rail</th><th>target</th>\
-                <th>worst |Z|</th><th>at</th><th>margin</th><th>verdict</th><th>seen from</th></tr>\n",
+                <th>worst |Z|</th><th>at</th><th>margin</th><th>verdict</th><th>seen from</th><th>corner</th></tr>\n",
     );
-    for a in analyses.iter().flatten().map(|v| &v.verdict) {
-        let class = if a.meets_target { "pass" } else { "fail" };
+    for c in checks.iter().flatten() {
+        let a = &c.verdict;
+        let class = if c.passes { "pass" } else { "fail" };
         let _ = writeln!(
             h,
             "<tr><td>{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td><td class=\"n\">{}</td>\
-             <td class=\"n\">{:+.1} dB</td><td class=\"{class}\">{}</td><td>the {}</td></tr>",
+             <td class=\"n\">{:+.1} dB</td><td class=\"{class}\">{}</td><td>the {}</td><td>{}</td></tr>",
             escape(&a.rail),
             format(a.target_ohm, Unit::Ohm),
             format(a.worst_ohm, Unit::Ohm),
             format(a.worst_hz, Unit::Hertz),
             a.margin_db,
-            verdict_word(a.meets_target),
-            a.view.name()
+            c.word(),
+            a.view.name(),
+            a.corner.name()
         );
     }
-    let meeting = analyses.iter().flatten().filter(|v| v.verdict.meets_target).count();
-    let _ = writeln!(h, "</table>\n<p>{meeting} of {} rails meet target.</p>\n</section>", board.rails.len());
+    let passing = checks.iter().flatten().filter(|c| c.passes).count();
+    let _ = writeln!(
+        h,
+        "</table>\n<p>{passing} of {} rails pass. The verdict is taken in the {} corner ({}).</p>\n</section>",
+        board.rails.len(),
+        Corner::Typical.name(),
+        escape(Corner::Typical.words())
+    );
 
-    for (i, (rail, analysis)) in board.rails.iter().zip(&analyses).enumerate() {
+    for (i, (rail, check)) in board.rails.iter().zip(&checks).enumerate() {
         let _ = writeln!(h, "<section class=\"rail\" id=\"rail-{i}\">\n<h2>Rail {}</h2>", escape(&rail.name));
-        rail_inputs(&mut h, rail, analysis.as_ref().map(|v| &v.verdict));
-        match analysis {
-            Some(RailViews { verdict: a, board_view, worst_corner }) => {
-                let class = if a.meets_target { "pass" } else { "fail" };
-                let _ = writeln!(h, "<p class=\"verdict {class}\">{}.</p>", summary(a));
-                if let Some(b) = board_view {
-                    let _ = writeln!(h, "<p class=\"other\">{}.</p>", summary(b));
-                }
-                if let Some(w) = worst_corner {
-                    let _ = writeln!(h, "<p class=\"other\">Worst corner: {}.</p>", summary(w));
-                }
-                h.push_str("<figure>\n");
-                match impedance_svg(a) {
-                    Ok(svg) => h.push_str(&svg),
-                    Err(e) => {
-                        let _ = write!(h, "<p>The plot could not be drawn: {}.</p>", escape(&e));
-                    }
-                }
-                let _ = writeln!(
-                    h,
-                    "\n<figcaption>|Z| of rail {} at the {} (blue) against its target {} over {} to {} (red); \
-                     shaded: above target.</figcaption>\n</figure>",
-                    escape(&rail.name),
-                    a.view.name(),
-                    format(a.target_ohm, Unit::Ohm),
-                    format(a.band_hz[0], Unit::Hertz),
-                    format(a.band_hz[1], Unit::Hertz)
-                );
-                h.push_str("<h3>Findings</h3>\n");
-                let findings = explain(board, rail, a);
-                if findings.is_empty() {
-                    h.push_str("<p>No findings: no anti-resonance and no range above target inside the band.</p>\n");
-                } else {
-                    h.push_str("<ul>\n");
-                    for f in &findings {
-                        let (class, word) = match f.severity {
-                            Severity::Fail => ("fail", "Fails"),
-                            Severity::Note => ("note", "Note"),
-                        };
-                        let _ = writeln!(
-                            h,
-                            "<li class=\"{class}\"><strong>{word}:</strong> {}<br>Try: {}</li>",
-                            escape(&f.text),
-                            escape(&f.hint)
-                        );
-                    }
-                    h.push_str("</ul>\n");
-                }
-            }
+        rail_inputs(&mut h, rail, check.as_ref().map(|c| &c.verdict));
+        match check {
+            Some(c) => rail_check(&mut h, rail, c),
             None => h.push_str("<p>This rail could not be analysed.</p>\n"),
         }
         if let Some(droops) = droop {
@@ -182,7 +118,7 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
     bom_section(&mut h, board);
 
     h.push_str("<section id=\"cautions\">\n<h2>Cautions</h2>\n<ul>\n");
-    for c in CAUTIONS {
+    for c in crate::notes::all() {
         let _ = writeln!(h, "<li>{}</li>", escape(c));
     }
     let polarised: Vec<&str> = board
@@ -195,40 +131,111 @@ pub fn report_html(board: &Board, context: &ReportContext, droop: DroopSection) 
         let _ = writeln!(h, "<li>Polarised parts on this board: {}.</li>", escape(&polarised.join(", ")));
     }
     h.push_str("</ul>\n</section>\n");
+    h.push_str(
+        "<section id=\"sign-off\">\n<h2>Sign-off</h2>\n<table class=\"signoff\">\n\
+         <tr><th>reviewer</th><td></td></tr>\n<tr><th>date</th><td></td></tr>\n\
+         <tr><th>decision</th><td>approved / approved with changes / rejected</td></tr>\n\
+         <tr><th>notes</th><td></td></tr>\n<tr><th>signature</th><td></td></tr>\n</table>\n</section>\n",
+    );
     let _ = writeln!(
         h,
-        "<footer class=\"meta\"><p>hushrail {} · {} (UTC)</p></footer>\n</body>\n</html>",
-        env!("CARGO_PKG_VERSION"),
-        escape(&context.date)
+        "<footer class=\"meta\"><p>hushrail {} · {} (UTC) · board SHA-256 {}</p></footer>\n</body>\n</html>",
+        context.version(),
+        escape(&context.date),
+        escape(&context.sha256)
     );
     h
 }
 
-fn verdict_word(meets: bool) -> &'static str {
-    if meets { "Meets target" } else { "Misses target" }
+/// What the report judged: the trace, with a prominent warning when the board has unsaved edits.
+fn trace_section(h: &mut String, trace: &Trace) {
+    let mut lines = trace.lines();
+    if trace.unsaved_edits {
+        let warning = lines.remove(0);
+        let _ = writeln!(h, "<div class=\"unsaved\" id=\"unsaved\">{}</div>", escape(&warning));
+    }
+    h.push_str("<section id=\"trace\">\n<ul class=\"meta\">\n");
+    for l in lines {
+        let _ = writeln!(h, "<li>{}</li>", escape(&l));
+    }
+    h.push_str("</ul>\n</section>\n");
 }
 
-/// One rail analysed the ways `hushrail check` shows it.
-struct RailViews {
-    /// The verdict: the verdict view, nominal corner, with the display curve.
-    verdict: RailAnalysis,
-    /// The board view, when the verdict is at the die.
-    board_view: Option<RailAnalysis>,
-    /// The worst derating corner.
-    worst_corner: Option<RailAnalysis>,
-}
-
-/// "Meets target at the die: worst |Z| 1.00 mΩ at 2.00 MHz, margin +1.2 dB (0.87× target)".
-fn summary(a: &RailAnalysis) -> String {
-    format!(
-        "{} at the {}: worst |Z| {} at {}, margin {:+.1} dB ({:.2}× target)",
-        verdict_word(a.meets_target),
+/// One rail's check: verdict, the other view and corners, the worst vertex, capacitance kept, sensitivity,
+/// yield, plot, cautions and findings.
+fn rail_check(h: &mut String, rail: &Rail, c: &RailCheck) {
+    let a = &c.verdict;
+    let class = if c.passes { "pass" } else { "fail" };
+    let _ = writeln!(h, "<p class=\"verdict {class}\">{}.</p>", escape(&c.verdict_line()));
+    for o in c.other_view.iter().chain(&c.corners) {
+        let _ = writeln!(h, "<p class=\"other\">{}.</p>", escape(&summary(o)));
+    }
+    let mut notes: Vec<String> = Vec::new();
+    if let Some(w) = c.corner(Corner::Worst) {
+        let dirs = vertex_words(w);
+        if !dirs.is_empty() {
+            notes.push(format!("Worst vertex: {}.", dirs.join("; ")));
+        }
+        notes.extend(search_words(w).map(|s| format!("Worst search: {s}.")));
+    }
+    notes.extend(kept_words(c).into_iter().map(|k| format!("Capacitance: {k}.")));
+    if !c.sensitivity.is_empty() {
+        let words: Vec<String> = c.sensitivity.iter().map(sensitivity_words).collect();
+        notes.push(format!("Worst |Z| per part: {}.", words.join("; ")));
+    }
+    notes.extend(c.yield_estimate.as_ref().map(|y| format!("Yield: {}.", yield_words(y))));
+    if !notes.is_empty() {
+        h.push_str("<ul class=\"figures\">\n");
+        for n in notes {
+            let _ = writeln!(h, "<li>{}</li>", escape(&n));
+        }
+        h.push_str("</ul>\n");
+    }
+    h.push_str("<figure>\n");
+    match impedance_svg(a) {
+        Ok(svg) => h.push_str(&svg),
+        Err(e) => {
+            let _ = write!(h, "<p>The plot could not be drawn: {}.</p>", escape(&e));
+        }
+    }
+    let _ = writeln!(
+        h,
+        "\n<figcaption>|Z| of rail {} at the {}, {} corner (blue) against its target {} over {} to {} (red); \
+         shaded: above target.</figcaption>\n</figure>",
+        escape(&rail.name),
         a.view.name(),
-        format(a.worst_ohm, Unit::Ohm),
-        format(a.worst_hz, Unit::Hertz),
-        a.margin_db,
-        a.worst_ohm / a.target_ohm
-    )
+        a.corner.name(),
+        format(a.target_ohm, Unit::Ohm),
+        format(a.band_hz[0], Unit::Hertz),
+        format(a.band_hz[1], Unit::Hertz)
+    );
+    let reminders: Vec<_> = c.cautions.iter().filter(|k| !k.fails).collect();
+    if !reminders.is_empty() {
+        h.push_str("<h3>Cautions</h3>\n<ul class=\"cautions\">\n");
+        for k in reminders {
+            let _ = writeln!(h, "<li class=\"note\">{}</li>", escape(&k.text));
+        }
+        h.push_str("</ul>\n");
+    }
+    h.push_str("<h3>Findings</h3>\n");
+    if c.findings.is_empty() {
+        h.push_str("<p>No findings: no anti-resonance and no range above target inside the band.</p>\n");
+    } else {
+        h.push_str("<ul>\n");
+        for f in &c.findings {
+            let (class, word) = match f.severity {
+                Severity::Fail => ("fail", "Fails"),
+                Severity::Note => ("note", "Note"),
+            };
+            let _ = writeln!(
+                h,
+                "<li class=\"{class}\"><strong>{word}:</strong> {}<br>Try: {}</li>",
+                escape(&f.text),
+                escape(&f.hint)
+            );
+        }
+        h.push_str("</ul>\n");
+    }
 }
 
 /// A rail's inputs: supply, band, source, plane, package, die, loads and decap groups (with the mounting

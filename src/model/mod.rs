@@ -90,6 +90,10 @@ impl PartKind {
     }
 }
 
+/// The ESR tolerance taken for a part that gives none, ± percent. Makers usually give ESR as a typical curve
+/// without limits; ±30 % is common practice for the spread of a ceramic part's ESR, not a published figure.
+pub const DEFAULT_ESR_TOLERANCE_PCT: f64 = 30.0;
+
 /// How a measured part was measured.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "kebab-case")]
@@ -148,8 +152,13 @@ pub struct Part {
     pub unit_cost: Option<f64>,
     /// Board area one fitted part takes (footprint with its pads and keep-out), m².
     pub area_m2: Option<f64>,
-    /// Capacitance tolerance, ± percent.
+    /// Capacitance tolerance, ± percent (absent: 0, the value is taken as exact).
     pub tolerance_pct: Option<f64>,
+    /// ESR tolerance, ± percent (absent: [`DEFAULT_ESR_TOLERANCE_PCT`]). Used by the worst corner and the yield.
+    pub esr_tolerance_pct: Option<f64>,
+    /// For a measured part: the DC bias its data were measured at, V. The data hold the part at that bias only,
+    /// so the check cautions when the rail's voltage differs.
+    pub measured_bias_v: Option<f64>,
     /// Capacitance ratio against applied DC voltage, [[volts, ratio], ...] by volts; linear between points, ratio
     /// 1 at 0 V, the last ratio held beyond the last point.
     pub dc_bias: Option<Vec<[f64; 2]>>,
@@ -185,11 +194,15 @@ struct PartFile<'a> {
     #[serde(skip_serializing_if = "Option::is_none")]
     tolerance_pct: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
+    esr_tolerance_pct: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
     dc_bias: Option<&'a Vec<[f64; 2]>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     touchstone: Option<&'a str>,
     #[serde(skip_serializing_if = "Option::is_none")]
     fixture: Option<Fixture>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    measured_bias_v: Option<f64>,
 }
 
 impl Serialize for Part {
@@ -207,9 +220,11 @@ impl Serialize for Part {
             unit_cost: self.unit_cost,
             area_m2: self.area_m2,
             tolerance_pct: self.tolerance_pct,
+            esr_tolerance_pct: self.esr_tolerance_pct,
             dc_bias: self.dc_bias.as_ref(),
             touchstone: self.touchstone.as_deref(),
             fixture: self.fixture,
+            measured_bias_v: self.measured_bias_v,
         }
         .serialize(serializer)
     }
@@ -230,6 +245,8 @@ impl Part {
             unit_cost: None,
             area_m2: None,
             tolerance_pct: None,
+            esr_tolerance_pct: None,
+            measured_bias_v: None,
             dc_bias: None,
             touchstone: None,
             fixture: None,
@@ -242,6 +259,21 @@ impl Part {
         match &self.measurement {
             Some(Measurement::Loaded(t)) => Some(t),
             _ => None,
+        }
+    }
+
+    /// The capacitance tolerance as a fraction (0.2 for ±20 %); 0 when not given.
+    pub fn c_tolerance(&self) -> f64 {
+        if self.kind == PartKind::Measured { 0.0 } else { self.tolerance_pct.unwrap_or(0.0) / 100.0 }
+    }
+
+    /// The ESR tolerance as a fraction, [`DEFAULT_ESR_TOLERANCE_PCT`] when not given; 0 for a measured part
+    /// (taken as measured).
+    pub fn esr_tolerance(&self) -> f64 {
+        if self.kind == PartKind::Measured {
+            0.0
+        } else {
+            self.esr_tolerance_pct.unwrap_or(DEFAULT_ESR_TOLERANCE_PCT) / 100.0
         }
     }
 

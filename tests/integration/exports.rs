@@ -181,8 +181,8 @@ fn export_follows_the_view_and_the_corner() {
     let rail = &board.rails[0];
     let grid = log_grid(1e3, 1e9, 41);
     for (view, corner, v, c) in [
-        ("board", "nominal", View::Board, Corner::Nominal),
-        ("die", "nominal", View::Die, Corner::Nominal),
+        ("board", "typical", View::Board, Corner::Typical),
+        ("die", "as-given", View::Die, Corner::AsGiven),
         ("die", "worst", View::Die, Corner::Worst),
     ] {
         let csv = dir.path().join(format!("{view}_{corner}.csv"));

@@ -16,3 +16,4 @@ mod properties;
 mod report;
 mod suggest;
 mod touchstone;
+mod verdict;

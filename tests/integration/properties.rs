@@ -155,7 +155,7 @@ proptest! {
     fn valid_boards_give_finite_passive_impedance(board in board_strategy()) {
         prop_assert!(validate_board(&board).is_empty(), "{:?}", validate_board(&board));
         let rail = &board.rails[0];
-        for corner in [Corner::Nominal, Corner::Worst] {
+        for corner in Corner::ALL {
             let net = Network::of_rail_in(&board, rail, corner);
             for view in [View::Board, View::Die] {
                 for f in hushrail::analysis::log_grid(1.0, 1e10, 200) {
@@ -169,10 +169,16 @@ proptest! {
         let band = rail.band().unwrap().hz;
         prop_assert!(a.worst_ohm.is_finite() && a.worst_ohm >= 0.0);
         prop_assert!(a.worst_hz >= band[0] && a.worst_hz <= band[1]);
-        // The worst corner never has more capacitance than the nominal one.
+        // The worst corner's capacitance is the typical one times the temperature limit and an end of the
+        // tolerance, and its |Z| is finite.
         let w = analyze_rail(&board, 0, &AnalysisOptions { band_points: 50, corner: Corner::Worst, ..Default::default() }).unwrap();
+        prop_assert!(w.worst_ohm.is_finite());
         for (gw, gn) in w.groups.iter().zip(&a.groups) {
-            prop_assert!(gw.effective_c_f <= gn.effective_c_f * (1.0 + 1e-12));
+            let (Some(dw), Some(p)) = (&gw.derating, board.part(&gw.part)) else { continue };
+            let tol = p.c_tolerance();
+            prop_assert!(dw.tolerance == 1.0 - tol || dw.tolerance == 1.0 + tol || dw.tolerance == 1.0);
+            let expected = gn.effective_c_f * dw.temperature * dw.tolerance;
+            prop_assert!((gw.effective_c_f - expected).abs() <= 1e-12 * expected.abs());
         }
         prop_assert_eq!(a.meets_target, a.violations.is_empty());
         for w in a.antiresonances.windows(2) { prop_assert!(w[0].freq_hz < w[1].freq_hz); }

@@ -4,8 +4,8 @@
 //! the bill of materials, the cautions, the version and the date.
 
 use crate::common::*;
-use hushrail::analysis::{AnalysisOptions, DroopOptions, analyze_rail, droop, explain};
-use hushrail::io::{CAUTIONS, ReportContext, bill_of_materials, read_board, report_html};
+use hushrail::analysis::{CheckOptions, DroopOptions, check_rail, droop, summary};
+use hushrail::io::{ReportContext, bill_of_materials, read_board, report_html};
 use hushrail::model::Board;
 use scraper::{ElementRef, Html, Selector};
 
@@ -18,7 +18,13 @@ fn text_of(e: ElementRef) -> String {
 }
 
 fn context() -> ReportContext {
-    ReportContext { source: "a board file".into(), date: "2031-07-04".into() }
+    ReportContext {
+        source: "a board file".into(),
+        sha256: "5".repeat(64),
+        command: "hushrail check 'a board file'".into(),
+        date: "2031-07-04".into(),
+        unsaved_edits: false,
+    }
 }
 
 /// Parse and check what every report must be: valid, self-contained, one section with one plot per rail.
@@ -65,27 +71,26 @@ fn check_report(what: &str, board: &Board, html: &str) -> Html {
             .max()
             .unwrap_or(0);
         assert!(points >= 100, "{what}/{}: the |Z| curve is drawn ({points} points)", rail.name);
-        let a = analyze_rail(board, i, &AnalysisOptions::default()).unwrap();
+        // The verdict and everything beside it is the engine's check, as `hushrail check` gives it.
+        let c = check_rail(board, i, &CheckOptions::default()).unwrap();
         let verdict = text_of(section.select(&sel("p.verdict")).next().unwrap());
-        let want = if a.meets_target { "Meets target" } else { "Misses target" };
-        assert!(verdict.starts_with(want), "{what}/{}: {verdict}", rail.name);
-        assert!(verdict.contains(&format!("{:+.1} dB", a.margin_db)), "{what}/{}: margin in {verdict}", rail.name);
+        assert_eq!(verdict, format!("{}.", c.verdict_line()), "{what}/{}", rail.name);
         let body = text_of(*section);
-        // Beside the verdict, as `hushrail check` shows them: the board view when the verdict is at the die, and
-        // the worst corner.
+        // Beside the verdict: the board view when the verdict is at the die, and the other corners.
         let others: Vec<String> = section.select(&sel("p.other")).map(text_of).collect();
-        let board_view = others.iter().any(|t| !t.starts_with("Worst corner: ") && t.contains("target at the board: "));
-        assert_eq!(board_view, a.view == hushrail::analysis::View::Die, "{what}/{}: {others:?}", rail.name);
-        assert!(others.iter().any(|t| t.starts_with("Worst corner: ")), "{what}/{}: {others:?}", rail.name);
-        for f in explain(board, rail, &a) {
+        let want: Vec<String> = c.other_view.iter().chain(&c.corners).map(|o| format!("{}.", summary(o))).collect();
+        assert_eq!(others, want, "{what}/{}", rail.name);
+        assert!(others.iter().any(|t| t.contains("worst corner")), "{what}/{}: {others:?}", rail.name);
+        for f in &c.findings {
             assert!(body.contains(&f.text), "{what}/{}: finding missing: {}", rail.name, f.text);
             assert!(body.contains(&f.hint), "{what}/{}: hint missing: {}", rail.name, f.hint);
         }
     }
     let all = text_of(doc.root_element());
-    for c in CAUTIONS {
+    for c in hushrail::notes::all() {
         assert!(all.contains(c), "{what}: caution missing: {c}");
     }
+    assert!(all.contains("SHA-256: ") && all.contains("re-run: hushrail check"), "{what}: trace");
     assert!(all.contains(&format!("hushrail {}", env!("CARGO_PKG_VERSION"))), "{what}: version");
     doc
 }
@@ -104,6 +109,8 @@ fn every_board_gives_a_valid_self_contained_report() {
         let doc = check_report(&stem, &board, &html);
         let all = text_of(doc.root_element());
         assert!(all.contains("2031-07-04"), "{stem}: the date");
+        assert!(all.contains(&format!("SHA-256: {}", "5".repeat(64))), "{stem}: the hash of what was judged");
+        assert!(all.contains("re-run: hushrail check 'a board file'"), "{stem}: the command that re-runs it");
         assert!(!all.contains("Droop after a load step"), "{stem}: no droop section unless asked for");
         // The bill of materials shows each fitted part with its total count.
         let bom = bill_of_materials(&board);
@@ -163,9 +170,11 @@ fn cli_writes_the_report_and_refuses_bad_input_without_writing() {
     let html = std::fs::read_to_string(&out).unwrap();
     let board = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
     let doc = check_report("cli", &board, &html);
-    let meta = text_of(doc.select(&sel("p.meta")).next().unwrap());
-    // Made by hushrail X on YYYY-MM-DD (UTC).
+    let meta = text_of(doc.select(&sel("#trace")).next().unwrap());
+    // "hushrail X on YYYY-MM-DD (UTC)", and the hash of the bytes the command read.
     let date = meta.split(" on ").nth(1).unwrap().split(' ').next().unwrap();
+    let bytes = std::fs::read(root().join("sample_boards/edge_camera.json")).unwrap();
+    assert!(meta.contains(&hushrail::io::sha256_hex(&bytes)), "{meta}");
     let parts: Vec<&str> = date.split('-').collect();
     assert!(parts.len() == 3 && parts[0].len() == 4 && parts[1].len() == 2 && parts[2].len() == 2, "{meta}");
     assert!(parts[0].parse::<i32>().unwrap() >= 2025, "{meta}");

@@ -1,0 +1,363 @@
+//! A rail's whole check, computed once: the verdict (its view and corner), the other view and corners, the
+//! capacitance each part keeps, the cautions, the findings, each group's sensitivity and, on request, the yield;
+//! and the sentences that say them. `hushrail check` (text and JSON), the report and the window only render
+//! this: a rule or a wording changes here and every face follows.
+
+use super::advice::{Finding, Severity, explain};
+use super::cautions::{Caution, cautions};
+use super::network::View;
+use super::rail::{AnalysisOptions, RailAnalysis, analyze_rail};
+use super::spread::{DEFAULT_SEED, Sensitivity, YieldEstimate, sensitivity, yield_estimate};
+use super::worst::SearchOptions;
+use crate::model::Board;
+use crate::physics::Corner;
+use crate::physics::derating::{BiasSource, Derating};
+use crate::units::{Unit, format};
+
+/// What to compute besides the verdict.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CheckOptions {
+    /// The corner the verdict is taken in (the typical one by default).
+    pub corner: Corner,
+    /// Where the verdict is seen from; `None`: at the die when the rail gives a package, else at the board.
+    pub view: Option<View>,
+    /// Points of the band scan.
+    pub band_points: usize,
+    /// A display sweep (from, to, points) to keep with the verdict's analysis.
+    pub curve: Option<(f64, f64, usize)>,
+    /// Keep each branch's own curve along the display sweep.
+    pub branch_curves: bool,
+    /// Analyse the other view too (rails with a package), in the verdict's corner.
+    pub other_view: bool,
+    /// Analyse the other corners too, in the verdict's view (the worst one searches the tolerance vertices).
+    pub corners: bool,
+    /// Each group's sensitivity to one part more or fewer.
+    pub sensitivity: bool,
+    /// Draw this many random boards for the yield (0: none).
+    pub yield_samples: usize,
+    /// The seed of those draws.
+    pub seed: u64,
+    /// Threads for the yield.
+    pub threads: usize,
+    /// How hard the worst corner searches.
+    pub search: SearchOptions,
+}
+
+impl Default for CheckOptions {
+    /// Everything a reviewer's check gives, without the yield.
+    fn default() -> Self {
+        CheckOptions {
+            corner: Corner::Typical,
+            view: None,
+            band_points: AnalysisOptions::default().band_points,
+            curve: None,
+            branch_curves: false,
+            other_view: true,
+            corners: true,
+            sensitivity: true,
+            yield_samples: 0,
+            seed: DEFAULT_SEED,
+            threads: 2,
+            search: SearchOptions::default(),
+        }
+    }
+}
+
+/// The capacitance one group's part keeps, corner by corner.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Kept {
+    /// Index in the rail's `decaps`.
+    pub group: usize,
+    /// The part's id.
+    pub part: String,
+    /// Its capacitance as given, F.
+    pub given_f: f64,
+    /// In the typical corner.
+    pub typical: Option<Derating>,
+    /// In the worst corner, when it was analysed (tolerance at the end the search chose).
+    pub worst: Option<Derating>,
+}
+
+/// One rail, checked.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RailCheck {
+    /// The verdict's analysis: its view and corner, with the display sweep when asked for.
+    pub verdict: RailAnalysis,
+    /// True when the rail meets target and no caution fails it: the rail's verdict.
+    pub passes: bool,
+    /// The other view in the verdict's corner, when asked for and the rail has a package.
+    pub other_view: Option<RailAnalysis>,
+    /// The other corners in the verdict's view, in the order of [`Corner::ALL`], when asked for.
+    pub corners: Vec<RailAnalysis>,
+    /// The capacitance each group keeps.
+    pub kept: Vec<Kept>,
+    /// Cautions about the parts as fitted.
+    pub cautions: Vec<Caution>,
+    /// The findings: failing cautions first, then the verdict analysis's findings.
+    pub findings: Vec<Finding>,
+    /// Each group's sensitivity, when asked for.
+    pub sensitivity: Vec<Sensitivity>,
+    /// The yield, when asked for.
+    pub yield_estimate: Option<YieldEstimate>,
+}
+
+impl RailCheck {
+    /// The analysis in `corner` (the verdict's, or one of the others), in the verdict's view.
+    pub fn corner(&self, corner: Corner) -> Option<&RailAnalysis> {
+        std::iter::once(&self.verdict).chain(&self.corners).find(|a| a.corner == corner)
+    }
+
+    /// Every corner analysed, the verdict's first.
+    pub fn all_corners(&self) -> impl Iterator<Item = &RailAnalysis> {
+        std::iter::once(&self.verdict).chain(&self.corners)
+    }
+
+    /// The cautions that fail the rail.
+    pub fn failing_cautions(&self) -> impl Iterator<Item = &Caution> {
+        self.cautions.iter().filter(|c| c.fails)
+    }
+
+    /// The rail's verdict in one line: "FAILS: …" when a caution fails it, then the figures.
+    pub fn verdict_line(&self) -> String {
+        let failing: Vec<&str> = self.failing_cautions().map(|c| c.part.as_str()).collect();
+        if failing.is_empty() {
+            summary(&self.verdict)
+        } else {
+            format!("FAILS: {} rated below the rail's voltage. {}", failing.join(", "), summary(&self.verdict))
+        }
+    }
+
+    /// The verdict in a word: "passes" or "fails".
+    pub fn word(&self) -> &'static str {
+        verdict_word(self.passes)
+    }
+}
+
+/// "passes" or "fails": the one word for a rail's verdict.
+pub fn verdict_word(passes: bool) -> &'static str {
+    if passes { "passes" } else { "fails" }
+}
+
+/// Where a rail is seen from, in words.
+pub fn view_words(view: View) -> &'static str {
+    match view {
+        View::Die => "at the die",
+        View::Board => "at the board",
+    }
+}
+
+/// The figures of one analysis in a sentence: "MEETS target at the die, typical corner: worst |Z| 12.3 mΩ at
+/// 4.56 MHz = 0.69× target (margin +3.2 dB)". "× target" is worst |Z| ÷ target (below 1 is headroom), the
+/// inverse of the JSON's `margin_ratio`.
+pub fn summary(a: &RailAnalysis) -> String {
+    format!(
+        "{} target {}, {} corner: worst |Z| {} at {} = {:.2}× target (margin {:+.1} dB)",
+        if a.meets_target { "MEETS" } else { "MISSES" },
+        view_words(a.view),
+        a.corner.name(),
+        format(a.worst_ohm, Unit::Ohm),
+        format(a.worst_hz, Unit::Hertz),
+        a.worst_ohm / a.target_ohm,
+        a.margin_db,
+    )
+}
+
+/// Where a part's DC-bias ratio comes from, in words.
+pub fn bias_words(source: BiasSource) -> &'static str {
+    match source {
+        BiasSource::None => "no DC-bias loss",
+        BiasSource::PartCurve => "the part's own DC-bias curve",
+        BiasSource::Generic => "generic DC-bias model, typical values from memory",
+    }
+}
+
+/// The capacitance each part keeps, one line per group that loses any, most lost first: "mlcc-10u-0603 ×4
+/// keeps 60 % typical (the part's own DC-bias curve), 41 % worst (bias ×0.60, temperature ×0.85, tolerance
+/// ×0.80)".
+pub fn kept_words(check: &RailCheck) -> Vec<String> {
+    let counts = &check.verdict.groups;
+    let mut lines: Vec<(f64, String)> = check
+        .kept
+        .iter()
+        .filter_map(|k| {
+            let low = k.worst.as_ref().or(k.typical.as_ref())?.ratio();
+            let typical = k.typical.as_ref().map_or(1.0, Derating::ratio);
+            if low >= 0.999 && typical >= 0.999 {
+                return None;
+            }
+            let count = counts.iter().find(|g| g.index == k.group).map_or(0, |g| g.count);
+            let mut t = format!("{} ×{count} keeps", k.part);
+            if let Some(d) = &k.typical {
+                t += &format!(" {:.0} % typical ({})", d.ratio() * 100.0, bias_words(d.bias_source));
+            }
+            if let Some(d) = &k.worst {
+                t += &format!(
+                    ", {:.0} % worst (bias ×{:.2}, temperature ×{:.2}, tolerance ×{:.2})",
+                    d.ratio() * 100.0,
+                    d.bias,
+                    d.temperature,
+                    d.tolerance
+                );
+            }
+            Some((low, t))
+        })
+        .collect();
+    lines.sort_by(|a, b| a.0.total_cmp(&b.0));
+    lines.into_iter().map(|(_, t)| t).collect()
+}
+
+/// Which way each group went at the worst vertex: "mlcc-10u-0603 ×4: C low, ESR high".
+pub fn vertex_words(a: &RailAnalysis) -> Vec<String> {
+    let Some(v) = &a.vertex else { return Vec::new() };
+    v.groups
+        .iter()
+        .filter(|g| g.capacitance != super::worst::Side::Middle || g.esr != super::worst::Side::Middle)
+        .filter_map(|g| {
+            let info = a.groups.iter().find(|x| x.index == g.index)?;
+            Some(format!("{} ×{}: C {}, ESR {}", info.part, info.count, g.capacitance.name(), g.esr.name()))
+        })
+        .collect()
+}
+
+/// How the worst vertex was found, in words.
+pub fn search_words(a: &RailAnalysis) -> Option<String> {
+    let v = a.vertex.as_ref()?;
+    Some(match v.method {
+        super::worst::SearchMethod::Exhaustive => {
+            format!("every one of {} tolerance vertices tried", v.vertices)
+        }
+        super::worst::SearchMethod::BranchAndBound => {
+            format!("{} tolerance vertices searched by branch and bound: exact on the scan grid", v.vertices)
+        }
+        super::worst::SearchMethod::Bounded => format!(
+            "{} tolerance vertices, search stopped at its budget: no vertex exceeds {} on the scan grid",
+            v.vertices,
+            format(v.bound_ohm, Unit::Ohm)
+        ),
+    })
+}
+
+/// Each group's sensitivity in words: "mlcc-100n-0402 ×24: +1 part −0.12 mΩ, −1 part +0.13 mΩ".
+pub fn sensitivity_words(s: &Sensitivity) -> String {
+    let signed = |x: f64| {
+        let sign = if x < 0.0 { "−" } else { "+" };
+        format!("{sign}{}", format(x.abs(), Unit::Ohm))
+    };
+    match s.fewer_ohm {
+        Some(f) => format!("{} ×{}: one more {}, one fewer {}", s.part, s.count, signed(s.more_ohm), signed(f)),
+        None => format!("{} ×{}: one more {}", s.part, s.count, signed(s.more_ohm)),
+    }
+}
+
+/// The yield in words: "7 812 of 10 000 boards (78.1 %) meet target; failing boards go above it at 5.9-7.1 MHz".
+pub fn yield_words(y: &YieldEstimate) -> String {
+    let mut t = format!(
+        "{} of {} random boards ({:.1} %) meet target (each group's C and ESR drawn once, uniformly within their \
+         tolerances, at the typical corner)",
+        y.meeting,
+        y.samples,
+        y.fraction * 100.0
+    );
+    if !y.failing.is_empty() {
+        let ranges: Vec<String> = y
+            .failing
+            .iter()
+            .map(|r| {
+                if r.from_hz == r.to_hz {
+                    format!("{} ({} boards)", format(r.from_hz, Unit::Hertz), r.samples)
+                } else {
+                    format!(
+                        "{} to {} ({} boards)",
+                        format(r.from_hz, Unit::Hertz),
+                        format(r.to_hz, Unit::Hertz),
+                        r.samples
+                    )
+                }
+            })
+            .collect();
+        t += &format!("; failing boards go above target at {}", ranges.join(", "));
+    }
+    t
+}
+
+/// Check rail `index` of a (validated) board. `None` when the rail has no band.
+pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option<RailCheck> {
+    let rail = board.rails.get(index)?;
+    let base = AnalysisOptions {
+        band_points: options.band_points,
+        curve: options.curve,
+        branch_curves: options.branch_curves,
+        view: options.view,
+        corner: options.corner,
+        search: options.search,
+    };
+    let verdict = analyze_rail(board, index, &base)?;
+    let plain = AnalysisOptions { curve: None, branch_curves: false, view: Some(verdict.view), ..base };
+    let other_view = (options.other_view && rail.package.is_some())
+        .then(|| {
+            let other = if verdict.view == View::Die { View::Board } else { View::Die };
+            analyze_rail(board, index, &AnalysisOptions { view: Some(other), ..plain })
+        })
+        .flatten();
+    let corners: Vec<RailAnalysis> = if options.corners {
+        Corner::ALL
+            .into_iter()
+            .filter(|c| *c != verdict.corner)
+            .filter_map(|corner| analyze_rail(board, index, &AnalysisOptions { corner, ..plain }))
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let cautions = cautions(board, rail);
+    let mut findings: Vec<Finding> = cautions
+        .iter()
+        .filter(|c| c.fails)
+        .map(|c| Finding {
+            severity: Severity::Fail,
+            range_hz: verdict.band_hz,
+            text: c.text.clone(),
+            hint: "Fit a part rated for the rail's voltage, with the margin its data ask for.".into(),
+        })
+        .collect();
+    findings.extend(explain(board, rail, &verdict));
+    let passes = verdict.meets_target && !cautions.iter().any(|c| c.fails);
+    let of = |corner: Corner, i: usize| {
+        std::iter::once(&verdict)
+            .chain(&corners)
+            .find(|a| a.corner == corner)
+            .and_then(|a| a.groups.iter().find(|g| g.index == i))
+            .and_then(|g| g.derating.clone())
+    };
+    let kept = rail
+        .decaps
+        .iter()
+        .enumerate()
+        .map(|(i, g)| Kept {
+            group: i,
+            part: g.part.clone(),
+            given_f: board.part(&g.part).map_or(f64::NAN, |p| p.capacitance_f),
+            typical: of(Corner::Typical, i),
+            worst: of(Corner::Worst, i),
+        })
+        .collect();
+    let sensitivity = if options.sensitivity { sensitivity(board, rail, &verdict) } else { Vec::new() };
+    let yield_estimate = (options.yield_samples > 0)
+        .then(|| {
+            yield_estimate(
+                board,
+                index,
+                verdict.view,
+                options.band_points,
+                options.yield_samples,
+                options.seed,
+                options.threads,
+            )
+        })
+        .flatten();
+    Some(RailCheck { verdict, passes, other_view, corners, kept, cautions, findings, sensitivity, yield_estimate })
+}
+
+/// Check every rail of a board with the same options.
+pub fn check_board(board: &Board, options: &CheckOptions) -> Vec<RailCheck> {
+    (0..board.rails.len()).filter_map(|i| check_rail(board, i, options)).collect()
+}

@@ -1,0 +1,36 @@
+//! The cautions every face gives, written once: what the model leaves out, and how to use its answers safely.
+//! The help page, the report and `hushrail check` show these; README.md repeats them word for word (a test holds
+//! the two together).
+
+/// What the model really leaves out (and what it does include, so nobody thinks it is missing).
+pub const LEAVES_OUT: &[&str] = &[
+    "The model is lumped: each capacitor group is one series R-L-C (or its measured data), the planes one \
+     capacitance, the regulator one R-L, the package one R-L and the die one R-C. It includes the mounting \
+     inductance, the view at the die through the package, each part's loss of capacitance under DC bias, the \
+     temperature class limits and the tolerances of capacitance and ESR.",
+    "It leaves out where each part sits on the plane (spreading inductance and plane cavity resonances), the \
+     regulator's control loop beyond its output R-L, ageing of class II ceramics, ESR and ESL changing with \
+     frequency and bias, and any coupling between rails.",
+    "The sample boards and the shelf's parts are invented, and the generic DC-bias model and the temperature class \
+     limits are typical values from memory: none is data of any product. Replace them with your parts' own data, \
+     a dc_bias curve for each ceramic part. Measured parts are used as measured, at the bias of their measurement.",
+];
+
+/// How to use the answers safely.
+pub const SAFETY: &[&str] = &[
+    "Check the results against the parts' own data and against a measurement of the built board before relying \
+     on them.",
+    "Derate voltage: a part must be rated above the rail it sits on, with the margin its data ask for; a part \
+     rated below its rail fails the check.",
+    "Mind polarised parts (tantalum, polymer, aluminium electrolytic): reversed or over-voltage, they can fail \
+     short, overheat or burn.",
+    "Capacitors store energy and can stay charged after power is removed; large ones on high-voltage rails can \
+     hurt when discharged through a person or a tool.",
+    "Where mains or high energy are near, follow local codes and licensed practice; this tool does not replace \
+     either.",
+];
+
+/// Every caution, the model's limits first.
+pub fn all() -> impl Iterator<Item = &'static str> {
+    LEAVES_OUT.iter().chain(SAFETY).copied()
+}
