@@ -123,6 +123,8 @@ fn write_files(
     let inputs = inputs_of(board_path, board);
     let inputs: Vec<&std::path::Path> = inputs.iter().map(PathBuf::as_path).collect();
     crate::io::write_outputs(outputs, &inputs)
+}
+
 /// Load the board a command names, as [`load_board`] does, with the SHA-256 of the bytes read.
 fn load_board_traced(path: Option<&PathBuf>) -> Result<(Board, String, String), String> {
     match path {

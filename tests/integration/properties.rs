@@ -336,7 +336,7 @@ proptest! {
     fn boards_inside_the_ranges_give_finite_answers(board in extreme_board_strategy()) {
         let problems = validate_board(&board);
         prop_assume!(problems.is_empty());
-        for corner in [Corner::Nominal, Corner::Worst] {
+        for corner in [Corner::Typical, Corner::Worst] {
             for view in [Some(View::Board), Some(View::Die)] {
                 let options = AnalysisOptions { band_points: 60, corner, view, ..Default::default() };
                 let a = analyze_rail(&board, 0, &options).unwrap();

@@ -64,8 +64,8 @@ fn exact_on_small_problems_against_a_brute_force_with_kinds_margin_line_cost_and
     let c = shelf_candidates(&["shelf-c100n-0402", "shelf-c1u-0402", "shelf-c10u-0603", "shelf-poly-220u-7343"], 6e-10);
     let max = 6;
     for (kinds, margin_db, corner, line) in [
-        (4, 0.0, Corner::Nominal, 0.0),
-        (2, 1.0, Corner::Nominal, 0.0),
+        (4, 0.0, Corner::Typical, 0.0),
+        (2, 1.0, Corner::Typical, 0.0),
         (2, 1.0, Corner::Worst, 0.0),
         (3, 3.0, Corner::Worst, 0.05),
     ] {
@@ -155,7 +155,7 @@ fn every_option_keeps_its_margin_in_its_corner_its_kinds_and_is_distinct() {
     let board = edge_camera();
     let shelf = hushrail::samples::shelf().unwrap();
     for (rail_name, corner, margin_db, kinds) in
-        [("V3V3_IO", Corner::Worst, 1.0, 3), ("VCORE", Corner::Nominal, 2.0, 4), ("VDDR", Corner::Worst, 0.5, 2)]
+        [("V3V3_IO", Corner::Worst, 1.0, 3), ("VCORE", Corner::Typical, 2.0, 4), ("VDDR", Corner::Worst, 0.5, 2)]
     {
         let rail = board.rail_index(rail_name).unwrap();
         let v = board.rails[rail].voltage_v;
@@ -172,7 +172,7 @@ fn every_option_keeps_its_margin_in_its_corner_its_kinds_and_is_distinct() {
             let a = analyze_rail(&fitted, rail, &AnalysisOptions { corner, ..Default::default() }).unwrap();
             assert!(a.margin_db >= margin_db - 1e-9, "{rail_name}: {} dB in {corner:?}", a.margin_db);
             assert_eq!(a.worst_ohm, o.judged.worst_ohm, "the figures are the engine's");
-            let other = if corner == Corner::Worst { Corner::Nominal } else { Corner::Worst };
+            let other = if corner == Corner::Worst { Corner::Typical } else { Corner::Worst };
             let b = analyze_rail(&fitted, rail, &AnalysisOptions { corner: other, ..Default::default() }).unwrap();
             assert_eq!((b.worst_ohm, o.other.corner), (o.other.worst_ohm, other), "the other corner's figures");
             let used = o.counts.iter().filter(|n| **n > 0).count() as u32;
@@ -288,7 +288,7 @@ fn a_count_floor_is_a_true_bound() {
         let fitted = apply_mix(&board, rail, &c, &m, false);
         let z = Network::of_rail(&fitted, &fitted.rails[rail]).impedance(*at_hz).norm();
         assert!(z >= floor_ohm * (1.0 - 1e-9), "{m:?}: {z} below the floor {floor_ohm}");
-        assert!(!engine_accepts(&board, rail, &c, &m, Corner::Nominal, 0.0), "{m:?} meets target");
+        assert!(!engine_accepts(&board, rail, &c, &m, Corner::Typical, 0.0), "{m:?} meets target");
     }
 }
 
@@ -331,7 +331,7 @@ fn a_long_candidate_list_is_shortlisted_and_still_answers() {
     assert!(!s.options.is_empty());
     for o in &s.options {
         assert_eq!(o.counts.len(), c.len());
-        assert!(engine_accepts(&board, rail, &c, &o.counts, Corner::Nominal, 1.0));
+        assert!(engine_accepts(&board, rail, &c, &o.counts, Corner::Typical, 1.0));
         // The shortlist keeps the cheapest price of each part it uses.
         for (cand, _) in c.iter().zip(&o.counts).filter(|(_, n)| **n > 0) {
             assert!(cand.part.id.ends_with("-v0"), "{}", cand.part.id);

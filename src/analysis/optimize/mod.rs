@@ -35,9 +35,9 @@ use crate::units::{Unit, format};
 use search::{Judged, Problem, Search, combinations, pareto};
 use std::collections::HashSet;
 
-/// The corner the check's verdict uses, and so the default corner of a search. The signable-verdicts work makes
-/// the typical corner (each part at the rail's DC bias) the verdict's; switch here then.
-pub const VERDICT_CORNER: Corner = Corner::Nominal;
+/// The corner the check's verdict uses (the typical corner: each part at the rail's DC bias), and so the default
+/// corner of a search.
+pub const VERDICT_CORNER: Corner = Corner::Typical;
 
 /// The default margin under target, dB: about 11 % of headroom, so a mix does not sit on the line (our choice).
 pub const DEFAULT_MARGIN_DB: f64 = 1.0;
