@@ -204,7 +204,8 @@ pub struct Sensitivity {
     pub count: u32,
     /// Change of the worst |Z| on the scan grid with one part more, Ω (negative: better).
     pub more_ohm: f64,
-    /// Change with one part fewer, Ω; `None` when the group has none.
+    /// Change with one part fewer, Ω; `None` when the group has none, or when one fewer would leave nothing
+    /// between the rail and ground.
     pub fewer_ohm: Option<f64>,
 }
 
@@ -226,7 +227,14 @@ pub fn sensitivity(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<S
             let one = group_branch(board, rail, i, analysis.corner, scale, Some(1))?;
             let y: Vec<Complex64> = freq.iter().map(|&f| invert(one.impedance(f))).collect();
             let more = worst_with(&|k| y[k]) - base;
-            let fewer = (g.count > 0).then(|| worst_with(&|k| -y[k]) - base);
+            // One fewer of the only thing between the rail and ground leaves no network to judge.
+            let others = rail.source.is_some()
+                || rail.plane.is_some()
+                || g.count > 1
+                || rail.decaps.iter().enumerate().any(|(j, h)| j != i && h.count > 0);
+            let fewer = (g.count > 0 && others)
+                .then(|| worst_with(&|k| -y[k]) - base)
+                .filter(|x| x.is_finite());
             Some(Sensitivity { group: i, part: g.part.clone(), count: g.count, more_ohm: more, fewer_ohm: fewer })
         })
         .collect()

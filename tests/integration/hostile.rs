@@ -74,7 +74,9 @@ fn encodings_are_named_or_tolerated() {
     let (code_bom, out_bom, _) = run_in(dir.path(), &["check", "bom.json"]);
     let (code_plain, out_plain, _) = run_in(dir.path(), &["check", "plain.json"]);
     assert_eq!(code_bom, code_plain);
-    assert_eq!(out_bom.replace("bom.json", "plain.json"), out_plain);
+    // The same verdict; only the hash of the bytes read differs (the mark is three more bytes).
+    let without_hash = |t: &str| t.lines().filter(|l| !l.contains("SHA-256")).collect::<Vec<_>>().join("\n");
+    assert_eq!(without_hash(&out_bom.replace("bom.json", "plain.json")), without_hash(&out_plain));
     // An invalid byte: its line, column and offset.
     let mut bad = sample_text().into_bytes();
     let at = sample_text().find("VCORE").unwrap();
