@@ -407,7 +407,7 @@ fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<(Vec<crate::
     }
     // Where the candidates came from, for the header.
     let from = if !args.candidates.is_empty() {
-        "those named".to_string()
+        "named".to_string()
     } else {
         let mut sources: Vec<String> = Vec::new();
         if args.from_shelf {
