@@ -232,7 +232,7 @@ fn to_text(h: &Header, s: &Suggestion) -> String {
         o.objective.name()
     );
     let mut rules = format!(
-        "Every option meets target ({}) with {:.1} dB margin (|Z| at most {}) in the {} corner, with at most {}",
+        "Each option must meet target ({}) with {:.1} dB margin (|Z| at most {}) in the {} corner, with at most {}",
         format(s.target_ohm, Unit::Ohm),
         o.margin_db,
         format(s.required_ohm, Unit::Ohm),
@@ -243,7 +243,7 @@ fn to_text(h: &Header, s: &Suggestion) -> String {
         let _ = write!(rules, ", each new line item costing {}", o.line_cost);
     }
     if o.droop {
-        rules.push_str(", and keeps the step droop within the allowed band");
+        rules.push_str(", and keep the step droop within the allowed band");
     }
     rules.push('.');
     if s.exhaustive {
@@ -407,7 +407,7 @@ fn gather(args: &SuggestArgs, board: &Board, rail_v: f64) -> Result<(Vec<crate::
     }
     // Where the candidates came from, for the header.
     let from = if !args.candidates.is_empty() {
-        "those named".to_string()
+        "named".to_string()
     } else {
         let mut sources: Vec<String> = Vec::new();
         if args.from_shelf {

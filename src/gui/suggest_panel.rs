@@ -391,7 +391,7 @@ impl App {
         ui.label(RichText::new(title).strong());
         ui.label(
             RichText::new(format!(
-                "Each meets target ({}) with {:.1} dB margin (|Z| at most {}) in the {} corner.",
+                "Each option must meet target ({}) with {:.1} dB margin (|Z| at most {}) in the {} corner.",
                 format(s.target_ohm, Unit::Ohm),
                 run.margin_db,
                 format(s.required_ohm, Unit::Ohm),

@@ -510,7 +510,20 @@ pub fn suggest(
     let mut blockers = Vec::new();
     let mut closest_option = None;
     if found.is_empty() {
-        closest_option = closest.as_ref().map(|j| check.option(&j.counts)).transpose()?.map(|(o, _)| o);
+        // The closest the cost-minded search came, or a fill that only lowers |Z|, whichever gets lower.
+        let mut lowest = Search::new(&problem, required * tighten);
+        lowest.lowest();
+        evaluations += lowest.evaluations;
+        let closest = match (closest, lowest.closest) {
+            (Some(a), Some(b)) => Some(if b.worst < a.worst { b } else { a }),
+            (a, b) => a.or(b),
+        };
+        closest_option = match tally.best_droop_mix.take() {
+            // When mixes met the impedance requirement and missed the droop, the closest is the one that droops
+            // least.
+            Some(m) => Some(m),
+            None => closest.as_ref().map(|j| check.option(&j.counts)).transpose()?.map(|(o, _)| o),
+        };
         blockers.extend(limits::package_floor(rail, &eval, required));
         let refs: Vec<&Candidate> = sub.iter().collect();
         blockers.extend(limits::count_floor(
@@ -531,12 +544,15 @@ pub fn suggest(
                     allowed_v: best.allowed_v,
                 });
             }
-            let margin = closest_option.as_ref().map(|o| o.judged.margin_db);
-            if let Some(m) = margin.filter(|m| *m >= 0.0 && *m < options.margin_db) {
-                blockers.push(Blocker::Margin { margin_db: options.margin_db, best_margin_db: m });
-            }
-            if let Some(needed) = kinds_needed(&problem, required * tighten, &setting) {
-                blockers.push(Blocker::Kinds { max_kinds: options.max_kinds, needed_kinds: needed });
+            // The margin and the kinds limit are reasons only when no mix met the impedance requirement at all.
+            if tally.engine_passed == 0 {
+                let margin = closest_option.as_ref().map(|o| o.judged.margin_db);
+                if let Some(m) = margin.filter(|m| *m >= 0.0 && *m < options.margin_db) {
+                    blockers.push(Blocker::Margin { margin_db: options.margin_db, best_margin_db: m });
+                }
+                if let Some(needed) = kinds_needed(&problem, required * tighten, &setting) {
+                    blockers.push(Blocker::Kinds { max_kinds: options.max_kinds, needed_kinds: needed });
+                }
             }
             if blockers.is_empty() {
                 blockers.push(Blocker::NotFound { max_total: options.max_total, max_per_part: options.max_per_part });
@@ -606,7 +622,11 @@ struct Tally {
     similar: usize,
     droop_failed: usize,
     best_droop: Option<DroopFigures>,
+    /// The mix with that droop, with its figures.
+    best_droop_mix: Option<MixOption>,
     budget_reached: bool,
+    /// Mixes the engine found meeting the impedance requirement (before the distinctness and droop rules).
+    engine_passed: usize,
     /// The lowest ratio of grid worst to engine worst among mixes the engine refused.
     refused_ratio: Option<f64>,
 }
@@ -686,6 +706,7 @@ impl Checker<'_> {
                 tally.refused_ratio = Some(tally.refused_ratio.map_or(ratio, |r: f64| r.min(ratio)));
                 continue;
             }
+            tally.engine_passed += 1;
             if kept.iter().any(|k| similar(&o, k)) {
                 tally.similar += 1;
                 continue;
@@ -698,6 +719,7 @@ impl Checker<'_> {
                     tally.droop_failed += 1;
                     if tally.best_droop.is_none_or(|b| d.droop_v < b.droop_v) {
                         tally.best_droop = Some(d);
+                        tally.best_droop_mix = Some(o.clone());
                     }
                     continue;
                 }

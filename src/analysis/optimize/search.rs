@@ -296,6 +296,30 @@ impl<'a> Search<'a> {
         }
     }
 
+    /// The mix that gets |Z| lowest, whatever it costs: add, one at a time, the part that leaves the lowest worst
+    /// |Z| (the excess breaking ties) until the limits are reached, and keep the best seen on the way. For showing
+    /// how close a search that finds nothing can get.
+    pub(super) fn lowest(&mut self) {
+        let k = self.p.eval.candidates();
+        let mut m = self.fresh(vec![0; k]);
+        loop {
+            let mut best: Option<(f64, f64, usize)> = None;
+            for i in 0..k {
+                if !self.can_add(&m, i, None) {
+                    continue;
+                }
+                let (worst, excess) = self.p.eval.score_with(&m.y, i, 1.0, self.limit);
+                if best.is_none_or(|(w, e, _)| (worst, excess) < (w, e)) {
+                    best = Some((worst, excess, i));
+                }
+            }
+            match best {
+                Some((_, _, i)) => self.step(&mut m, i, 1),
+                None => return,
+            }
+        }
+    }
+
     /// Greedy, improving moves and kind changes from the empty mix and from one part of each candidate, then
     /// restarts from perturbed copies of the best.
     pub(super) fn heuristic(&mut self) {
