@@ -232,9 +232,7 @@ pub fn sensitivity(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<S
                 || rail.plane.is_some()
                 || g.count > 1
                 || rail.decaps.iter().enumerate().any(|(j, h)| j != i && h.count > 0);
-            let fewer = (g.count > 0 && others)
-                .then(|| worst_with(&|k| -y[k]) - base)
-                .filter(|x| x.is_finite());
+            let fewer = (g.count > 0 && others).then(|| worst_with(&|k| -y[k]) - base).filter(|x| x.is_finite());
             Some(Sensitivity { group: i, part: g.part.clone(), count: g.count, more_ohm: more, fewer_ohm: fewer })
         })
         .collect()

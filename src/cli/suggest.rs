@@ -10,7 +10,7 @@ use crate::analysis::{
 use crate::io::read_board;
 use crate::model::Board;
 use crate::physics::Corner;
-use crate::units::{Unit, format, parse};
+use crate::units::{Unit, format};
 use clap::Args;
 use serde_json::{Value, json};
 use std::fmt::Write;
@@ -136,16 +136,7 @@ pub fn run(args: &SuggestArgs) -> Result<i32, String> {
     let rail = find_rail(&board, &file, &args.rail)?;
     let index = board.rail_index(&rail.name).unwrap_or(0);
     let mounting_h = match &args.mounting {
-        Some(text) => {
-            let l = parse(text, Unit::Henry).map_err(|e| format!("--mounting: {e}"))?;
-            if !(0.0..=ranges::MOUNTING_H).contains(&l) {
-                return Err(format!(
-                    "--mounting: {text} is outside 0 to {} (real mountings are about 0.2-2 nH)",
-                    format(ranges::MOUNTING_H, Unit::Henry)
-                ));
-            }
-            l
-        }
+        Some(text) => super::flag_value(text, Unit::Henry, &crate::model::ranges::INDUCTANCE, "mounting")?,
         None => default_mounting_h(rail),
     };
     let (parts, from) = gather(args, &board, rail.voltage_v)?;

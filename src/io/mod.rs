@@ -9,8 +9,8 @@ mod report;
 mod strict_json;
 mod svg_plot;
 mod touchstone;
-mod write;
 mod trace;
+mod write;
 
 pub use board_file::{
     FORMAT_TAG, FORMAT_VERSION, board_to_string, load_measurements, parse_board, read_board,
@@ -19,15 +19,15 @@ pub use board_file::{
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
 pub use png_image::{png_bytes, write_png};
-pub use strict_json::parse as parse_json_strict;
 pub use report::{DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report};
+pub use strict_json::parse as parse_json_strict;
 pub use svg_plot::{PLOT_POINTS, PLOT_SIZE, impedance_svg, plot_range_hz};
 pub use touchstone::{
     DataFormat, Fixture, Parameter, Touchstone, TouchstoneError, Version, one_port_s_to_z, parse_touchstone,
     ports_from_extension, read_touchstone, s1p_string, shunt_through_s21_to_z, write_s1p, z_to_one_port_s,
 };
-pub use write::{write_atomically, write_outputs};
 pub use trace::{Trace, board_sha256, read_board_traced, sha256_hex};
+pub use write::{write_atomically, write_outputs};
 
 use crate::model::Problem;
 use std::fmt;

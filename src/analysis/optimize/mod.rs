@@ -66,9 +66,6 @@ pub mod ranges {
     pub const MARGIN_DB: f64 = 20.0;
     /// Cost per line item: 0 to this.
     pub const LINE_COST: f64 = 1e6;
-    /// Mounting inductance of a candidate, H: 0 to this (a metre of wire; real mountings are 0.2-2 nH, common
-    /// practice), so every figure stays finite.
-    pub const MOUNTING_H: f64 = 1e-6;
     /// Grid points while searching: 3 to this.
     pub const GRID_POINTS: usize = 20_000;
 }
@@ -429,13 +426,9 @@ pub fn suggest(
         )));
     }
     for c in candidates {
-        if !(0.0..=ranges::MOUNTING_H).contains(&c.mounting_h) {
-            return Err(SuggestError(format!(
-                "mounting inductance {} for part {}: it must be 0 to {}",
-                format(c.mounting_h, Unit::Henry),
-                c.part.id,
-                format(ranges::MOUNTING_H, Unit::Henry)
-            )));
+        // The same range a group's mounting inductance has on a board.
+        if let Some(why) = crate::model::ranges::INDUCTANCE.problem(c.mounting_h) {
+            return Err(SuggestError(format!("mounting inductance for part {}: {why}", c.part.id)));
         }
         if let Some(why) = c.part.unusable() {
             return Err(SuggestError(format!("part {} cannot be used: {why}", c.part.id)));
