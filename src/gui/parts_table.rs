@@ -204,6 +204,16 @@ impl App {
             });
             ui.end_row();
 
+            let l = ui.label("ESR tolerance ±%").on_hover_text(format!(
+                "Empty: ±{} % (common practice; parts give ESR as a typical curve)",
+                crate::model::DEFAULT_ESR_TOLERANCE_PCT
+            ));
+            let k = format!("{key}.esr_tolerance_pct");
+            optional_number_field(ui, fields, &k, l.id, part.esr_tolerance_pct, Unit::None, 96.0, |v| {
+                set_part(doc, at, &k, format!("ESR tolerance of {}", part.id), |p| p.esr_tolerance_pct = v)
+            });
+            ui.end_row();
+
             let l = ui.label("Rated voltage");
             let k = format!("{key}.rated_voltage_v");
             optional_number_field(ui, fields, &k, l.id, part.rated_voltage_v, Unit::Volt, 96.0, |v| {
@@ -251,7 +261,7 @@ impl App {
         ui.label(
             RichText::new(
                 "As \"volts:ratio, volts:ratio\" (capacitance kept at that DC, from the part's data); empty for none. \
-                 Used in the worst corner.",
+                 Used in the typical corner (the verdict) and the worst corner.",
             )
             .small()
             .weak(),

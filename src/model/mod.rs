@@ -26,8 +26,8 @@ pub struct Board {
     /// parts in the worst-case corner.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub temperature_c: Option<[f64; 2]>,
-    /// Whether class II ceramic parts without a DC-bias curve get the generic (typical, recalled) DC-bias model in
-    /// the worst-case corner. Absent means yes.
+    /// Whether class II ceramic parts without a DC-bias curve get the generic (typical, from memory) DC-bias model
+    /// in the typical and worst corners. Absent means yes.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub generic_dc_bias: Option<bool>,
     /// Supply nets.

@@ -103,9 +103,9 @@ pub struct Derating {
     pub bias: f64,
     /// Where the bias ratio came from.
     pub bias_source: BiasSource,
-    /// Ratio from temperature (1 in the nominal corner).
+    /// Ratio from temperature (1 in the typical and as-given corners).
     pub temperature: f64,
-    /// Ratio from tolerance (1 in the nominal corner).
+    /// Ratio from tolerance: the end of the tolerance the worst corner chose (1 elsewhere).
     pub tolerance: f64,
 }
 
