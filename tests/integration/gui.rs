@@ -215,6 +215,27 @@ fn a_broken_file_leaves_the_board_untouched_and_shows_its_errors() {
 }
 
 #[test]
+fn hostile_files_never_freeze_the_window_and_keep_the_board() {
+    // A device, a pipe (opening it would block for ever) and a duplicate key: each is refused with the same lines
+    // the command line prints, at once, and the board on screen stays.
+    let board = sample();
+    let mut harness = window(board.clone());
+    let dir = tempfile::tempdir().unwrap();
+    let pipe = dir.path().join("pipe.json");
+    assert!(std::process::Command::new("mkfifo").arg(&pipe).status().unwrap().success());
+    let duplicate = crate::common::root().join("tests/bad_boards/duplicate_key.json");
+    for path in [std::path::PathBuf::from("/dev/zero"), pipe, duplicate] {
+        let expected = hushrail::io::read_board(&path).expect_err("refused");
+        drop_file(&mut harness, path.clone());
+        assert_eq!(harness.state().board(), &board, "{}: the board on screen is kept", path.display());
+        for line in expected.lines() {
+            assert!(harness.query_by_label(&line).is_some(), "the error line \"{line}\" is shown");
+        }
+        click(&mut harness, "Dismiss");
+    }
+}
+
+#[test]
 fn opening_over_unsaved_changes_asks_first() {
     let board = sample();
     let mut harness = window(board.clone());
