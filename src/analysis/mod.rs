@@ -7,6 +7,7 @@ mod findings;
 mod grid;
 mod network;
 mod optimize;
+pub mod placed;
 mod rail;
 
 pub use advice::{Finding, Severity, explain, explain_band};

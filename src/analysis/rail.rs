@@ -133,9 +133,18 @@ pub struct RailAnalysis {
     pub curve: Option<Curve>,
 }
 
-/// Analyse rail `rail_index` of a (validated) board.
+/// Analyse rail `rail_index` of a (validated) board. A placed rail's verdict is its worst load's (see
+/// `analysis::placed`).
 pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<RailAnalysis> {
     let rail = board.rails.get(rail_index)?;
+    if rail.placement.is_some() {
+        return super::placed::analyze_placed(board, rail_index, options).map(|p| p.rail);
+    }
+    analyze_lumped(board, rail, options)
+}
+
+/// Analyse a rail as one node (its placement, if any, ignored).
+pub(super) fn analyze_lumped(board: &Board, rail: &Rail, options: &AnalysisOptions) -> Option<RailAnalysis> {
     let band = rail.band()?;
     let network = Network::of_rail_in(board, rail, options.corner);
     let view = match options.view {
@@ -244,7 +253,13 @@ pub fn sweep(board: &Board, rail: &Rail, freq_hz: &[f64]) -> Vec<Complex64> {
 }
 
 /// The impedance of a rail at each of `freq_hz`, seen from `view`, in `corner`.
+///
+/// On a placed rail: the self-impedance at its first load (at the die when that load has a package); the placed
+/// engine's `load_sweep` chooses the load.
 pub fn sweep_in(board: &Board, rail: &Rail, freq_hz: &[f64], view: View, corner: Corner) -> Vec<Complex64> {
+    if let Some(z) = super::placed::load_sweep(board, rail, 0, None, freq_hz, corner) {
+        return z;
+    }
     let network = Network::of_rail_in(board, rail, corner);
     freq_hz.iter().map(|&f| network.impedance_in(f, view)).collect()
 }

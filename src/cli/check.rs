@@ -4,6 +4,7 @@
 //! the other view and the other corner are reported beside it.
 
 use super::{CornerArg, EXIT_MISS, EXIT_PASS, emit, load_board};
+use crate::analysis::placed::{LoadVerdict, analyze_placed};
 use crate::analysis::{
     AnalysisOptions, BranchRef, Finding, RailAnalysis, Severity, View, analyze_rail, explain, explain_band,
 };
@@ -37,6 +38,8 @@ struct RailCheck {
     board_view: Option<RailAnalysis>,
     /// The other corner, in the verdict's view.
     other_corner: RailAnalysis,
+    /// Each load's verdict on a placed rail (empty on a lumped rail, whose loads share one node).
+    loads: Vec<LoadVerdict>,
 }
 
 /// Check the board and print the verdict; the exit code says whether every rail meets target.
@@ -56,7 +59,8 @@ pub fn run(args: &CheckArgs) -> Result<i32, String> {
                 .then(|| analyze_rail(&board, i, &AnalysisOptions { view: Some(View::Board), ..options }))
                 .flatten();
             let other_corner = analyze_rail(&board, i, &AnalysisOptions { corner: other, ..options })?;
-            Some(RailCheck { verdict, findings, board_view, other_corner })
+            let loads = analyze_placed(&board, i, &options).map(|p| p.loads).unwrap_or_default();
+            Some(RailCheck { verdict, findings, board_view, other_corner, loads })
         })
         .collect();
     let all_meet = checks.iter().all(|c| c.verdict.meets_target);
@@ -93,7 +97,7 @@ fn to_json(board: &Board, checks: &[RailCheck], all_meet: bool) -> Value {
             let mut views = vec![summary_json(a)];
             views.extend(c.board_view.as_ref().map(summary_json));
             let corners = vec![summary_json(a), summary_json(&c.other_corner)];
-            json!({
+            let mut rail = json!({
                 "name": a.rail,
                 "view": a.view.name(),
                 "corner": a.corner.name(),
@@ -125,7 +129,14 @@ fn to_json(board: &Board, checks: &[RailCheck], all_meet: bool) -> Value {
                     "severity": match f.severity { Severity::Fail => "fail", Severity::Note => "note" },
                     "from_hz": f.range_hz[0], "to_hz": f.range_hz[1], "text": f.text, "hint": f.hint,
                 })).collect::<Vec<_>>(),
-            })
+            });
+            if !c.loads.is_empty() {
+                rail["loads"] = c.loads.iter().map(|l| json!({
+                    "name": l.name, "view": l.view.name(), "meets_target": l.meets_target, "worst_ohm": l.worst_ohm,
+                    "worst_hz": l.worst_hz, "margin_ratio": l.margin_ratio, "margin_db": l.margin_db,
+                })).collect();
+            }
+            rail
         })
         .collect();
     json!({"board": board.name, "meets_target": all_meet, "rails": rails})
@@ -144,6 +155,22 @@ fn summary_text(a: &RailAnalysis) -> String {
         format(a.worst_hz, Unit::Hertz),
         a.margin_db,
         a.worst_ohm / a.target_ohm,
+    )
+}
+
+/// "MEETS target at its die: worst effective |Z| 12.3 mΩ at 4.56 MHz, margin +3.2 dB".
+fn load_text(l: &LoadVerdict, target_ohm: f64) -> String {
+    let verdict = if l.meets_target { "MEETS target" } else { "MISSES target" };
+    let at = match l.view {
+        View::Board => "at its pins",
+        View::Die => "at its die",
+    };
+    format!(
+        "{verdict} {at}: worst effective |Z| {} at {}, margin {:+.1} dB ({:.2}× target)",
+        format(l.worst_ohm, Unit::Ohm),
+        format(l.worst_hz, Unit::Hertz),
+        l.margin_db,
+        l.worst_ohm / target_ohm,
     )
 }
 
@@ -171,6 +198,9 @@ fn to_text(board: &Board, file: &str, checks: &[RailCheck]) -> String {
             let _ = writeln!(t, "  band: {}; {}", edges[0], edges[1]);
         }
         let _ = writeln!(t, "  {}", summary_text(a));
+        for l in &c.loads {
+            let _ = writeln!(t, "    load {}: {}", l.name, load_text(l, a.target_ohm));
+        }
         if let Some(b) = &c.board_view {
             let _ = writeln!(t, "  ({})", summary_text(b));
         }
