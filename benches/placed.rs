@@ -6,7 +6,7 @@ use criterion::{Criterion, criterion_group, criterion_main};
 use hushrail::analysis::log_grid;
 use hushrail::analysis::placed::{PlacedCircuit, Workspace};
 use hushrail::model::{
-    Board, DecapGroup, GroupPlacement, GroupSpots, Load, LoadPlacement, Package, Die, Part, PartKind, PartSpot,
+    Board, DecapGroup, Die, GroupPlacement, GroupSpots, Load, LoadPlacement, Package, Part, PartKind, PartSpot,
     Placement, PlanePair, Rail, Source, SourcePlacement,
 };
 use hushrail::physics::Corner;

@@ -5,7 +5,7 @@
 //! a capacitance ε0·εr·(cell area)/d to the return plane; each shared edge a series R-L of μ0·d and the foil's DC
 //! resistance per square, scaled by length over width. A port is the cells whose centres lie under it (the
 //! nearest cell when none does): its current is spread evenly over them and its voltage is their average (an
-//! ideal coupling of a B source and F sources), the cavity model's own port. SPICE has no √f skin effect and no
+//! ideal coupling of E and F sources), the cavity model's own port. SPICE has no √f skin effect and no
 //! conductance proportional to frequency, so the foil is its DC resistance and a loss tangent is left out; the
 //! netlist says so in its heading.
 
@@ -87,7 +87,13 @@ pub fn mesh_netlist(
         num(st.loss_tangent)
     );
     let drive = from.unwrap_or(at);
-    let _ = writeln!(t, "* 1 A AC drawn at load {} ({}); V({}) is the impedance seen there", drive, circuit.loads[drive].name, mesh_drive_node(at));
+    let _ = writeln!(
+        t,
+        "* 1 A AC drawn at load {} ({}); V({}) is the impedance seen there",
+        drive,
+        circuit.loads[drive].name,
+        mesh_drive_node(at)
+    );
     let _ = writeln!(t, "Vsupply supply 0 DC {}", num(rail.voltage_v));
     let cell = |i: usize, j: usize| format!("n{i}_{j}");
     let c_cell = EPS0 * st.er * hx * hy / d;
@@ -139,13 +145,17 @@ pub fn mesh_netlist(
         let cells = cells_under(port);
         let node = format!("p{k}");
         let _ = writeln!(t, "* port {k}: {} cell(s)", cells.len());
-        // Vs carries the net current the port puts into the plane; B holds the port at the cells' mean voltage;
-        // each F puts an equal share of that current into its cell.
-        let _ = writeln!(t, "Vs{k} {node} {node}b 0");
-        let mean: Vec<String> = cells.iter().map(|&(i, j)| format!("v({})", cell(i, j))).collect();
-        let _ = writeln!(t, "B{k} {node}b 0 V=({})/{}", mean.join("+"), cells.len());
+        // Vs carries the net current the port puts into the plane; a chain of E sources holds the port at the
+        // cells' mean voltage (linear sources, so SPICE may skip the operating point); each F puts an equal share
+        // of that current into its cell.
+        let _ = writeln!(t, "Vs{k} {node} {node}e0 0");
+        let share = num(1.0 / cells.len() as f64);
+        for (e, &(i, j)) in cells.iter().enumerate() {
+            let next = if e + 1 == cells.len() { "0".to_string() } else { format!("{node}e{}", e + 1) };
+            let _ = writeln!(t, "E{k}_{e} {node}e{e} {next} {} 0 {share}", cell(i, j));
+        }
         for &(i, j) in &cells {
-            let _ = writeln!(t, "F{k}_{i}_{j} 0 {} Vs{k} {}", cell(i, j), num(1.0 / cells.len() as f64));
+            let _ = writeln!(t, "F{k}_{i}_{j} 0 {} Vs{k} {share}", cell(i, j));
         }
         if k < np {
             let bp = &circuit.branches[k];
@@ -171,6 +181,9 @@ pub fn mesh_netlist(
         }
     }
     let _ = writeln!(t, "Idrive 0 {} DC 0 AC 1", mesh_drive_node(drive));
+    // The network is linear: ngspice may skip the DC operating point, which on a fine mesh of near-ideal
+    // conductors is slow to converge and tells nothing here.
+    let _ = writeln!(t, ".options noopac");
     let _ = writeln!(t, ".ac dec {} {} {}", sweep.points_per_decade, num(sweep.from_hz), num(sweep.to_hz));
     let _ = write!(
         t,

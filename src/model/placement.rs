@@ -237,7 +237,8 @@ pub fn placement_problems(rail: &Rail, path: &str) -> Vec<Problem> {
         }
         match &gp.spots {
             GroupSpots::At(xy) => {
-                if let Some(why) = port_problem(PortRect::square(xy[0], xy[1], side), size, &format!("group {}", g.part))
+                if let Some(why) =
+                    port_problem(PortRect::square(xy[0], xy[1], side), size, &format!("group {}", g.part))
                 {
                     push(format!("{at}.at_m"), why);
                 }
@@ -290,7 +291,10 @@ pub fn placement_problems(rail: &Rail, path: &str) -> Vec<Problem> {
         }
         if let Some(d) = lp.die {
             if !positive(d.capacitance_f) {
-                push(format!("{at}.die.capacitance_f"), format!("must be greater than 0, not {}", num(d.capacitance_f)));
+                push(
+                    format!("{at}.die.capacitance_f"),
+                    format!("must be greater than 0, not {}", num(d.capacitance_f)),
+                );
             }
             if !(d.esr_ohm.is_finite() && d.esr_ohm >= 0.0) {
                 push(format!("{at}.die.esr_ohm"), format!("must be a finite number >= 0, not {}", num(d.esr_ohm)));

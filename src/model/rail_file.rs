@@ -80,7 +80,8 @@ impl Serialize for PlanePairFile<'_> {
         m.serialize_entry("size_m", &p.size_m)?;
         m.serialize_entry("dielectric_m", &p.dielectric_m)?;
         m.serialize_entry("er", &p.er)?;
-        for (k, v) in [("loss_tangent", p.loss_tangent), ("copper_m", p.copper_m), ("conductivity_s_m", p.conductivity_s_m)]
+        for (k, v) in
+            [("loss_tangent", p.loss_tangent), ("copper_m", p.copper_m), ("conductivity_s_m", p.conductivity_s_m)]
         {
             if let Some(v) = v {
                 m.serialize_entry(k, &v)?;
@@ -138,10 +139,8 @@ impl Serialize for GroupFile<'_> {
             match &at.spots {
                 GroupSpots::At(xy) => m.serialize_entry("at_m", xy)?,
                 GroupSpots::Each(spots) => {
-                    let list: Vec<serde_json::Value> = spots
-                        .iter()
-                        .map(|s| serde_json::json!({"ref": s.reference, "at_m": s.at_m}))
-                        .collect();
+                    let list: Vec<serde_json::Value> =
+                        spots.iter().map(|s| serde_json::json!({"ref": s.reference, "at_m": s.at_m})).collect();
                     m.serialize_entry("placements", &list)?;
                 }
             }

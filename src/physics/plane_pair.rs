@@ -258,8 +258,7 @@ fn static_remainders(len: f64, p: Interval, q: Interval) -> (f64, f64, f64) {
     // L⁵/945 − L³u²/180 + L·u⁴/144 − u⁵/240 + u⁶/(1440L).
     let r_coef = [len / 6.0, -0.5, 1.0 / (4.0 * len)];
     let d_coef = [len.powi(3) / 90.0, 0.0, -len / 12.0, 1.0 / 12.0, -1.0 / (48.0 * len)];
-    let u_coef =
-        [len.powi(5) / 945.0, 0.0, -len.powi(3) / 180.0, 0.0, len / 144.0, -1.0 / 240.0, 1.0 / (1440.0 * len)];
+    let u_coef = [len.powi(5) / 945.0, 0.0, -len.powi(3) / 180.0, 0.0, len / 144.0, -1.0 / 240.0, 1.0 / (1440.0 * len)];
     let avg = |coef: &[f64]| {
         // Double antiderivative of Σ c_k |s|^k is Σ c_k |s|^{k+2}/((k+1)(k+2)).
         let anti = |s: f64| -> f64 {
@@ -290,8 +289,7 @@ fn plan_pair(st: &Stackup, pi: &PortRect, pj: &PortRect, tol: f64) -> (usize, us
         // The smallest distance any image term decays over along the closed-form axis.
         let sep = (q.lo - p.hi).max(p.lo - q.hi).max(0.0);
         let gap = sep.min(p.lo + q.lo).min(2.0 * len_closed - p.hi - q.hi);
-        let by_gap =
-            if gap > 0.0 { (len_sum * (1.0 / tol).ln() / (PI * gap)).ceil() } else { f64::INFINITY };
+        let by_gap = if gap > 0.0 { (len_sum * (1.0 / tol).ln() / (PI * gap)).ceil() } else { f64::INFINITY };
         // Past the sinc's knee the terms fall as m⁻⁴ (two sincs, and F_m ~ 1/(α² w)); the tail past M is then
         // about 8L³/(3π⁴ M³ u_i u_j w).
         let (ui, uj) = (pi.along(sum_axis).width(), pj.along(sum_axis).width());
@@ -335,10 +333,8 @@ pub fn single_sum(st: &Stackup, pi: &PortRect, pj: &PortRect, f_hz: f64, tol: f6
 pub fn double_sum(st: &Stackup, pi: &PortRect, pj: &PortRect, f_hz: f64, m_max: usize, n_max: usize) -> C {
     let [a, b] = st.size_m;
     let k2 = st.k2(f_hz);
-    let xs: Vec<f64> =
-        (0..m_max).map(|m| mode_factor(m, a, pi.along(0)) * mode_factor(m, a, pj.along(0))).collect();
-    let ys: Vec<f64> =
-        (0..n_max).map(|n| mode_factor(n, b, pi.along(1)) * mode_factor(n, b, pj.along(1))).collect();
+    let xs: Vec<f64> = (0..m_max).map(|m| mode_factor(m, a, pi.along(0)) * mode_factor(m, a, pj.along(0))).collect();
+    let ys: Vec<f64> = (0..n_max).map(|n| mode_factor(n, b, pi.along(1)) * mode_factor(n, b, pj.along(1))).collect();
     let mut total = C::new(0.0, 0.0);
     for (m, xx) in xs.iter().enumerate() {
         let em = if m == 0 { 1.0 } else { 2.0 };
@@ -438,13 +434,7 @@ impl PreparedPlane {
 
     /// As [`PreparedPlane::new`], keeping the modes up to `cut_factor` × `f_max_hz` per frequency (the tests
     /// double it to show the answer does not move).
-    pub fn with_cut(
-        stackup: Stackup,
-        ports: Vec<PortRect>,
-        f_max_hz: f64,
-        tol: f64,
-        cut_factor: f64,
-    ) -> PreparedPlane {
+    pub fn with_cut(stackup: Stackup, ports: Vec<PortRect>, f_max_hz: f64, tol: f64, cut_factor: f64) -> PreparedPlane {
         let [a, b] = stackup.size_m;
         let k_cut = cut_factor * 2.0 * PI * f_max_hz * stackup.er.sqrt() / C0;
         let mut modes = Vec::new();

@@ -4,8 +4,6 @@
 //! patterns never droop more than it (linear superposition, the basis of the reverse pulse technique, Drabkin et
 //! al., EPEP 2002).
 
-
-
 use crate::common::*;
 use hushrail::analysis::{Droop, DroopError, DroopOptions, Pulse, droop, pattern_response};
 use hushrail::io::{Transient, parse_wrdata, rail_tran_netlist};

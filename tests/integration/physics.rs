@@ -1,8 +1,6 @@
 //! The physics beyond the lumped list: mounting geometry, derating corners, the band from rise times, load
 //! combination and coupling capacitor sizing, each against its named source.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{AnalysisOptions, Network, analyze_rail, explain_band, target_impedance};
 use hushrail::io::parse_board;

@@ -138,7 +138,9 @@ fn the_reduction_to_the_loads_is_the_schur_complement() {
     let rail = &board.rails[0];
     let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Nominal, 1e9).unwrap();
     let mut ws = Workspace::default();
-    for f in [1e4, 1e6, 3e7, 4e8, 9e8] {
+    // From 1 MHz: below it the plain formula's own rounding (of the order of 1e-16 of the plate term, divided by
+    // the μΩ-level spreading reactance it is subtracted down to) exceeds any useful tolerance.
+    for f in [1e6, 3e7, 4e8, 9e8] {
         let m: LoadMatrix = circuit.solve(f, &mut ws);
         let direct = reduced_directly(&circuit, f);
         // The plain formula subtracts the plate term (kΩ at 10 kHz) from itself to leave mΩ: it carries rounding

@@ -80,8 +80,9 @@ pub fn placed_findings(board: &Board, rail: &Rail, circuit: &PlacedCircuit, targ
                 peaks_at.join(" and "),
                 who
             ),
-            hint: "Parts placed near the peaks of a mode damp it best; a lossier or thinner dielectric lowers the peak."
-                .into(),
+            hint:
+                "Parts placed near the peaks of a mode damp it best; a lossier or thinner dielectric lowers the peak."
+                    .into(),
         });
     }
 

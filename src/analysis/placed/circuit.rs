@@ -159,10 +159,11 @@ impl PlacedCircuit {
         for (load, lp) in rail.loads.iter().zip(&placement.loads) {
             ports.push(lp.port());
             let package = lp.package.map(|p| SeriesRlc { r_ohm: p.r_ohm, l_h: p.l_h, c_f: None });
-            let die = lp
-                .die
-                .filter(|_| package.is_some())
-                .map(|d| SeriesRlc { r_ohm: d.esr_ohm, l_h: 0.0, c_f: Some(d.capacitance_f) });
+            let die = lp.die.filter(|_| package.is_some()).map(|d| SeriesRlc {
+                r_ohm: d.esr_ohm,
+                l_h: 0.0,
+                c_f: Some(d.capacitance_f),
+            });
             loads.push(LoadPort { name: load.name.clone(), step_a: load.step_a, package, die });
         }
         let plane = PreparedPlane::new(placement.plane_pair.stackup(), ports, f_max_hz, DEFAULT_TOLERANCE);

@@ -32,7 +32,8 @@ impl Ldl {
         self.col.resize(n, C::new(0.0, 0.0));
         for k in 0..n {
             let mut d = self.a[k * n + k];
-            if !(d.norm() >= TINY_PIVOT) {
+            // A NaN pivot is replaced too (norm() >= TINY_PIVOT is false for it).
+            if d.norm().is_nan() || d.norm() < TINY_PIVOT {
                 d = C::new(TINY_PIVOT, 0.0);
                 self.a[k * n + k] = d;
             }
@@ -64,9 +65,9 @@ impl Ldl {
         }
         for i in (0..n).rev() {
             let xi = b[i];
-            for j in 0..i {
-                let l = self.a[i * n + j];
-                b[j] -= l * xi;
+            let row = &self.a[i * n..i * n + i];
+            for (x, l) in b[..i].iter_mut().zip(row) {
+                *x -= l * xi;
             }
         }
     }

@@ -129,8 +129,7 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
             scan: Curve { freq_hz: scan.freq_hz, z: scan.z, branches: Vec::new() },
         });
     }
-    let worst_load =
-        (0..loads.len()).max_by(|&a, &b| loads[a].worst_ohm.total_cmp(&loads[b].worst_ohm)).unwrap_or(0);
+    let worst_load = (0..loads.len()).max_by(|&a, &b| loads[a].worst_ohm.total_cmp(&loads[b].worst_ohm)).unwrap_or(0);
     // The rail's band, target and groups as the lumped engine gives them; its verdict figures from the worst load.
     let mut lumped_rail = rail.clone();
     lumped_rail.placement = None;

@@ -114,7 +114,11 @@ impl Decoder {
                 let path = join(&f.path, "placements");
                 match v.as_array() {
                     Some(items) => GroupSpots::Each(
-                        items.iter().enumerate().map(|(i, item)| self.part_spot(item, &format!("{path}[{i}]"))).collect(),
+                        items
+                            .iter()
+                            .enumerate()
+                            .map(|(i, item)| self.part_spot(item, &format!("{path}[{i}]")))
+                            .collect(),
                     ),
                     None => {
                         self.problem(path, "must be an array of {\"ref\", \"at_m\"} objects");
