@@ -68,13 +68,21 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                         fi.1.norm()
                     );
                 }
+                assert!(
+                    skipped * 10 <= fine.len(),
+                    "{} {}: {skipped} of {} points skipped",
+                    show(path),
+                    load.name,
+                    fine.len()
+                );
                 eprintln!(
-                    "{} {} {}: worst |Z| difference {:.2e} up to {:.3e} Hz",
+                    "{} {} {}: worst |Z| difference {:.2e} up to {:.3e} Hz ({skipped} of {} points on a resonance flank)",
                     show(path),
                     rail.name,
                     load.name,
                     worst,
-                    top
+                    top,
+                    fine.len()
                 );
             }
         }
