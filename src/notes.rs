@@ -4,16 +4,21 @@
 
 /// What the model really leaves out (and what it does include, so nobody thinks it is missing).
 pub const LEAVES_OUT: &[&str] = &[
-    "The model is lumped: each capacitor group is one series R-L-C (or its measured data), the planes one \
-     capacitance, the regulator one R-L, the package one R-L and the die one R-C. It includes the mounting \
-     inductance, the view at the die through the package, each part's loss of capacitance under DC bias, the \
-     temperature class limits and the tolerances of capacitance and ESR.",
-    "It leaves out where each part sits on the plane (spreading inductance and plane cavity resonances), the \
-     regulator's control loop beyond its output R-L, ageing of class II ceramics, ESR and ESL changing with \
-     frequency and bias, and any coupling between rails.",
-    "The sample boards and the shelf's parts are invented, and the generic DC-bias model and the temperature class \
-     limits are typical values from memory: none is data of any product. Replace them with your parts' own data, \
-     a dc_bias curve for each ceramic part. Measured parts are used as measured, at the bias of their measurement.",
+    "On a lumped rail the model is one node: each capacitor group is one series R-L-C (or its measured data), \
+     the planes one capacitance, the regulator one R-L, the package one R-L and the die one R-C. It includes \
+     the mounting inductance, the view at the die through the package, each part's loss of capacitance under \
+     DC bias, the temperature class limits and the tolerances of capacitance and ESR.",
+    "A placed rail (one with a plane_pair) adds where each part sits: the plane pair as an ideal-edged \
+     rectangular cavity, so the spreading inductance between each part and each load and the plane's own \
+     resonances are in it. It leaves out fringing and radiation at the plane's edges, antipads and cut-outs, \
+     non-rectangular outlines and several plane pairs joined by vias; droop, suggest and the window still \
+     treat a placed rail's parts as one node.",
+    "Both leave out the regulator's control loop beyond its output R-L, ageing of class II ceramics, ESR and \
+     ESL changing with frequency and bias, and any coupling between rails.",
+    "The sample boards and the shelf's parts are invented, and the generic DC-bias model and the temperature \
+     class limits are typical values from memory: none is data of any product. Replace them with your parts' \
+     own data, a dc_bias curve for each ceramic part. Measured parts are used as measured, at the bias of \
+     their measurement.",
 ];
 
 /// How to use the answers safely.

@@ -99,6 +99,25 @@ pub struct RailCheck {
     pub sensitivity: Vec<Sensitivity>,
     /// The yield, when asked for.
     pub yield_estimate: Option<YieldEstimate>,
+    /// Each load's verdict on a placed rail (empty on a lumped rail, whose loads share one node).
+    pub loads: Vec<super::placed::LoadVerdict>,
+}
+
+/// One load's verdict on a placed rail in words, the same on every face.
+pub fn load_line(l: &super::placed::LoadVerdict, target_ohm: f64) -> String {
+    let verdict = if l.meets_target { "MEETS target" } else { "MISSES target" };
+    let at = match l.view {
+        View::Board => "at its pins",
+        View::Die => "at its die",
+    };
+    format!(
+        "load {}: {verdict} {at}: worst effective |Z| {} at {} = {:.2}× target (margin {:+.1} dB)",
+        l.name,
+        crate::units::format(l.worst_ohm, crate::units::Unit::Ohm),
+        crate::units::format(l.worst_hz, crate::units::Unit::Hertz),
+        l.worst_ohm / target_ohm,
+        l.margin_db,
+    )
 }
 
 impl RailCheck {
@@ -354,7 +373,19 @@ pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option
             )
         })
         .flatten();
-    Some(RailCheck { verdict, passes, other_view, corners, kept, cautions, findings, sensitivity, yield_estimate })
+    let loads = super::placed::analyze_placed(board, index, &base).map(|p| p.loads).unwrap_or_default();
+    Some(RailCheck {
+        verdict,
+        passes,
+        other_view,
+        corners,
+        kept,
+        cautions,
+        findings,
+        sensitivity,
+        yield_estimate,
+        loads,
+    })
 }
 
 /// Check every rail of a board with the same options.

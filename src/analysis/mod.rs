@@ -9,6 +9,7 @@ mod findings;
 mod grid;
 mod network;
 mod optimize;
+pub mod placed;
 mod rail;
 mod spread;
 mod worst;
@@ -16,6 +17,7 @@ mod worst;
 pub use advice::{Finding, Severity, explain, explain_band};
 pub use cautions::{Caution, CautionKind, cautions, derating_limit};
 pub use check::{
+    load_line,
     CheckOptions, Kept, RailCheck, bias_words, check_board, check_rail, kept_words, search_words, sensitivity_words,
     summary, verdict_word, vertex_words, view_words, yield_words,
 };

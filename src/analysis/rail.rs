@@ -151,9 +151,18 @@ pub struct RailAnalysis {
     pub curve: Option<Curve>,
 }
 
-/// Analyse rail `rail_index` of a (validated) board.
+/// Analyse rail `rail_index` of a (validated) board. A placed rail's verdict is its worst load's (see
+/// `analysis::placed`).
 pub fn analyze_rail(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<RailAnalysis> {
     let rail = board.rails.get(rail_index)?;
+    if rail.placement.is_some() {
+        return super::placed::analyze_placed(board, rail_index, options).map(|p| p.rail);
+    }
+    analyze_lumped(board, rail, options)
+}
+
+/// Analyse a rail as one node (its placement, if any, ignored).
+pub(super) fn analyze_lumped(board: &Board, rail: &Rail, options: &AnalysisOptions) -> Option<RailAnalysis> {
     let band = rail.band()?;
     let view = match options.view {
         Some(View::Die) if rail.package.is_some() => View::Die,
@@ -276,7 +285,13 @@ pub fn sweep(board: &Board, rail: &Rail, freq_hz: &[f64]) -> Vec<Complex64> {
 
 /// The impedance of a rail at each of `freq_hz`, seen from `view`, in `corner`. In the worst corner the parts
 /// sit at the tolerance vertex the check's search finds over the rail's band (default density).
+///
+/// On a placed rail: the self-impedance at its first load (at the die when that load has a package); the placed
+/// engine's `load_sweep` chooses the load.
 pub fn sweep_in(board: &Board, rail: &Rail, freq_hz: &[f64], view: View, corner: Corner) -> Vec<Complex64> {
+    if let Some(z) = super::placed::load_sweep(board, rail, 0, None, freq_hz, corner) {
+        return z;
+    }
     let scales = match (corner, rail.band()) {
         (Corner::Worst, Some(band)) => {
             let grid = log_grid(band.hz[0], band.hz[1], AnalysisOptions::default().band_points);

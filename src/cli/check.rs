@@ -150,6 +150,17 @@ fn to_json(board: &Board, trace: &Trace, checks: &[RailCheck], all_pass: bool) -
                     "from_hz": f.range_hz[0], "to_hz": f.range_hz[1], "text": f.text, "hint": f.hint,
                 })).collect::<Vec<_>>(),
             });
+            if !c.loads.is_empty() {
+                rail["loads"] = c
+                    .loads
+                    .iter()
+                    .map(|l| {
+                        json!({"name": l.name, "view": l.view.name(), "meets_target": l.meets_target,
+                               "worst_ohm": l.worst_ohm, "worst_hz": l.worst_hz, "margin_ratio": l.margin_ratio,
+                               "margin_db": l.margin_db})
+                    })
+                    .collect();
+            }
             if let Some(y) = &c.yield_estimate {
                 rail["yield"] = json!({
                     "samples": y.samples, "meeting": y.meeting, "fraction": y.fraction, "seed": y.seed,
@@ -171,6 +182,22 @@ fn to_json(board: &Board, trace: &Trace, checks: &[RailCheck], all_pass: bool) -
         },
         "rails": rails,
     })
+}
+
+/// "MEETS target at its die: worst effective |Z| 12.3 mΩ at 4.56 MHz, margin +3.2 dB".
+fn load_text(l: &LoadVerdict, target_ohm: f64) -> String {
+    let verdict = if l.meets_target { "MEETS target" } else { "MISSES target" };
+    let at = match l.view {
+        View::Board => "at its pins",
+        View::Die => "at its die",
+    };
+    format!(
+        "{verdict} {at}: worst effective |Z| {} at {}, margin {:+.1} dB ({:.2}× target)",
+        format(l.worst_ohm, Unit::Ohm),
+        format(l.worst_hz, Unit::Hertz),
+        l.margin_db,
+        l.worst_ohm / target_ohm,
+    )
 }
 
 /// The verdict for people.
@@ -200,6 +227,9 @@ fn to_text(board: &Board, trace: &Trace, checks: &[RailCheck]) -> String {
             let _ = writeln!(t, "  band: {}; {}", edges[0], edges[1]);
         }
         let _ = writeln!(t, "  {}", c.verdict_line());
+        for l in &c.loads {
+            let _ = writeln!(t, "    {}", crate::analysis::load_line(l, c.verdict.target_ohm));
+        }
         if let Some(b) = &c.other_view {
             let _ = writeln!(t, "  ({})", summary(b));
         }

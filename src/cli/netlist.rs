@@ -2,8 +2,8 @@
 
 use super::{EXIT_PASS, emit, load_board};
 use crate::analysis::droop;
-use crate::io::{AcSweep, Transient, rail_netlist, rail_tran_netlist};
-use crate::units::Unit;
+use crate::io::{AcSweep, Transient, mesh_netlist, rail_netlist, rail_tran_netlist};
+use crate::units::{Unit, parse};
 use clap::Args;
 use std::path::PathBuf;
 
@@ -43,6 +43,17 @@ pub struct NetlistArgs {
     /// With --droop: the simulated time [default: as `hushrail droop`].
     #[arg(long, requires = "droop")]
     pub window: Option<String>,
+    /// On a placed rail: mesh the plane pair into square cells of about this side (engineering notation, metres:
+    /// "1m", "0.5m") and attach every branch at its port; the AC sweep drives the load given by --at.
+    #[arg(long, conflicts_with = "droop")]
+    pub mesh: Option<String>,
+    /// With --mesh: the load whose impedance the netlist reads (at its die when it has a package) [default: the
+    /// first].
+    #[arg(long, requires = "mesh")]
+    pub at: Option<String>,
+    /// With --mesh and --at: drive this load instead, so V(at) is the transfer impedance.
+    #[arg(long, requires = "at")]
+    pub from_load: Option<String>,
     /// Write the netlist to this file instead of stdout.
     #[arg(short, long)]
     pub output: Option<PathBuf>,
@@ -72,8 +83,22 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     if !(1..=10_000).contains(&args.per_decade) {
         return Err(format!("--per-decade: must be a whole number from 1 to 10000, not {}", args.per_decade));
     }
-    let view = args.view.resolve(rail)?;
     let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade };
+    if let Some(h) = &args.mesh {
+        let cell = parse(h, Unit::Metre).map_err(|e| format!("--mesh: {e}"))?;
+        let index = |name: &str| {
+            rail.loads.iter().position(|l| l.name == name).ok_or_else(|| {
+                let names: Vec<&str> = rail.loads.iter().map(|l| l.name.as_str()).collect();
+                format!("{file}: rail {} has no load \"{name}\" (its loads: {})", rail.name, names.join(", "))
+            })
+        };
+        let at = args.at.as_deref().map(index).transpose()?.unwrap_or(0);
+        let from_load = args.from_load.as_deref().map(index).transpose()?;
+        let text =
+            mesh_netlist(&board, rail, &sweep, cell, at, from_load, &args.data).map_err(|e| format!("{file}: {e}"))?;
+        return write_out(args, &board, &text);
+    }
+    let view = args.view.resolve(rail)?;
     let text = rail_netlist(&board, rail, &sweep, view, &args.data);
     write_out(args, &board, &text)
 }

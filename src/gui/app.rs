@@ -776,6 +776,7 @@ fn fallback_board() -> Board {
         die: None,
         loads: vec![Load { name: "load".into(), step_a: 1.0, rise_time_s: None }],
         decaps: Vec::new(),
+        placement: None,
     });
     board
 }

@@ -9,13 +9,15 @@ use super::{BoardError, Place, write_atomically};
 use crate::model::Measurement;
 use crate::model::{
     Board, Combine, DecapGroup, Die, Fixture, Load, MountingGeometry, Package, Part, PartKind, Plane, Problem, Rail,
-    Source, validate_board,
+    validate_board,
 };
 use crate::physics::measured::ImpedanceTable;
 use serde::Serialize;
 use serde_json::{Map, Value};
 use std::path::Path;
 use std::sync::Arc;
+
+mod placement_file;
 
 /// The `format` tag every board file carries.
 pub const FORMAT_TAG: &str = "hushrail-board";
@@ -432,6 +434,7 @@ impl Decoder {
                 "combine",
                 "source",
                 "plane",
+                "plane_pair",
                 "package",
                 "die",
                 "loads",
@@ -452,8 +455,11 @@ impl Decoder {
                 die: None,
                 loads: Vec::new(),
                 decaps: Vec::new(),
+                placement: None,
             };
         }
+        // On a rail with a plane pair everything is placed; elsewhere a position is refused.
+        let placed = f.map.contains_key("plane_pair");
         let combine = match f.map.get("combine") {
             None => Combine::Sum,
             Some(v) => match self.string_at(v, &join(path, "combine")).as_deref() {
@@ -465,16 +471,30 @@ impl Decoder {
                 }
             },
         };
+        let (source, source_spot) = match f.map.get("source") {
+            Some(v) => {
+                let (s, spot) = self.source(v, &join(path, "source"), placed);
+                (Some(s), spot)
+            }
+            None => (None, None),
+        };
+        let (loads, load_spots): (Vec<Load>, Vec<_>) =
+            self.array(&f, "loads", |d, v, p| d.load(v, p, placed)).into_iter().unzip();
+        let (decaps, group_spots): (Vec<DecapGroup>, Vec<_>) =
+            self.array(&f, "decaps", |d, v, p| d.decap(v, p, placed)).into_iter().unzip();
+        let placement = f.map.get("plane_pair").map(|v| crate::model::Placement {
+            plane_pair: self.plane_pair(v, &join(path, "plane_pair")),
+            source: source_spot,
+            groups: group_spots.into_iter().flatten().collect(),
+            loads: load_spots.into_iter().flatten().collect(),
+        });
         Rail {
             name: self.string(&f, "name"),
             voltage_v: self.number(&f, "voltage_v"),
             ripple_pct: self.number(&f, "ripple_pct"),
             band_hz: f.map.get("band_hz").map(|v| self.pair(v, &join(path, "band_hz"), "[low_hz, high_hz]")),
             combine,
-            source: f.map.get("source").map(|v| {
-                let [r_ohm, l_h] = self.record(v, &join(path, "source"), &["r_ohm", "l_h"]);
-                Source { r_ohm, l_h }
-            }),
+            source,
             plane: f.map.get("plane").map(|v| self.plane(v, &join(path, "plane"))),
             package: f.map.get("package").map(|v| {
                 let [r_ohm, l_h] = self.record(v, &join(path, "package"), &["r_ohm", "l_h"]);
@@ -484,8 +504,9 @@ impl Decoder {
                 let [capacitance_f, esr_ohm] = self.record(v, &join(path, "die"), &["capacitance_f", "esr_ohm"]);
                 Die { capacitance_f, esr_ohm }
             }),
-            loads: self.array(&f, "loads", |d, v, p| d.load(v, p)),
-            decaps: self.array(&f, "decaps", |d, v, p| d.decap(v, p)),
+            loads,
+            decaps,
+            placement,
         }
     }
 
@@ -535,31 +556,45 @@ impl Decoder {
         }
     }
 
-    fn load(&mut self, value: &Value, path: &str) -> Load {
+    fn load(&mut self, value: &Value, path: &str, placed: bool) -> (Load, Option<crate::model::LoadPlacement>) {
         let empty = Map::new();
-        let f = self.sub_object(value, path, &["name", "step_a", "rise_time_s"], &empty);
+        let f = self.sub_object(
+            value,
+            path,
+            &["name", "step_a", "rise_time_s", "at_m", "pins_m", "package", "die"],
+            &empty,
+        );
         if f.known.is_empty() {
-            return Load { name: String::new(), step_a: f64::NAN, rise_time_s: None };
+            return (Load { name: String::new(), step_a: f64::NAN, rise_time_s: None }, self.load_stand_in(placed));
         }
-        Load {
+        let spot = self.load_spot(&f, placed);
+        let load = Load {
             name: self.string(&f, "name"),
             step_a: self.number(&f, "step_a"),
             rise_time_s: self.opt_number(&f, "rise_time_s"),
-        }
+        };
+        (load, spot)
     }
 
-    fn decap(&mut self, value: &Value, path: &str) -> DecapGroup {
+    fn decap(&mut self, value: &Value, path: &str, placed: bool) -> (DecapGroup, Option<crate::model::GroupPlacement>) {
         let empty = Map::new();
-        let f = self.sub_object(value, path, &["part", "count", "mounting_h", "mounting"], &empty);
+        let f = self.sub_object(
+            value,
+            path,
+            &["part", "count", "mounting_h", "mounting", "at_m", "placements", "port_m"],
+            &empty,
+        );
         // A stand-in count of 1 keeps the rail's "nothing to ground" rule from firing on a count already reported.
         if f.known.is_empty() {
-            return DecapGroup::new("", 1, 0.0);
+            return (DecapGroup::new("", 1, 0.0), self.group_stand_in(placed));
         }
-        let count = self
-            .required(&f, "count")
-            .and_then(|v| self.count(v, &join(path, "count"), &crate::model::ranges::COUNT))
-            .unwrap_or(1);
-        let part = self.string(&f, "part");
+        let spot = self.group_spot(&f, placed);
+        (self.decap_fields(&f, path), spot)
+    }
+
+    fn decap_fields(&mut self, f: &Fields, path: &str) -> DecapGroup {
+        let count = self.required(f, "count").and_then(|v| self.count(v, &join(path, "count"), &crate::model::ranges::COUNT)).unwrap_or(1);
+        let part = self.string(f, "part");
         match (f.map.get("mounting_h"), f.map.get("mounting")) {
             (Some(_), Some(_)) => {
                 self.problem(join(path, "mounting"), "give mounting_h or mounting (the geometry), not both");
@@ -572,7 +607,7 @@ impl Decoder {
                 );
                 DecapGroup::new(part, count, 0.0)
             }
-            (Some(_), None) => DecapGroup::new(part, count, self.number(&f, "mounting_h")),
+            (Some(_), None) => DecapGroup::new(part, count, self.number(f, "mounting_h")),
             (None, Some(g)) => {
                 let mounting = self.geometry(g, &join(path, "mounting"));
                 DecapGroup { part, count, mounting_h: 0.0, mounting }

@@ -3,6 +3,7 @@
 
 mod board_file;
 mod bom;
+mod mesh_netlist;
 mod netlist;
 mod png_image;
 mod report;
@@ -17,6 +18,7 @@ pub use board_file::{
     read_board_keeping_unusable, write_board,
 };
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
+pub use mesh_netlist::{MAX_MESH_CELLS, mesh_drive_node, mesh_netlist};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
 pub use png_image::{png_bytes, write_png};
 pub use report::{DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report};

@@ -3,9 +3,15 @@
 //! Everything here is in SI base units (F, Ω, H, Hz, V, A, s). Nothing here touches files, the window or the
 //! command line; reading and writing board files lives in `io`.
 
+mod placement;
+mod rail_file;
 pub mod ranges;
 mod validate;
 
+pub use placement::{
+    DEFAULT_CONDUCTIVITY_S_M, DEFAULT_PART_PORT_M, DEFAULT_PINS_M, DEFAULT_SOURCE_PORT_M, GroupPlacement, GroupSpots,
+    LoadPlacement, PartSpot, Placement, PlanePair, SourcePlacement, placement_problems,
+};
 pub use validate::{Problem, validate_board, validate_part, validate_rail};
 
 use crate::physics::measured::ImpedanceTable;
@@ -287,8 +293,9 @@ impl Part {
     }
 }
 
-/// One supply net and everything that loads and decouples it.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// One supply net and everything that loads and decouples it. Written to files by `rail_file` (the placement's
+/// fields sit inside the source, group and load objects there).
+#[derive(Debug, Clone, PartialEq)]
 pub struct Rail {
     /// Unique name within the board.
     pub name: String,
@@ -298,27 +305,23 @@ pub struct Rail {
     pub ripple_pct: f64,
     /// Frequency range where the target applies, Hz: [low, high]. Absent: the band follows from the loads'
     /// rise times (see [`Rail::band`]).
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub band_hz: Option<[f64; 2]>,
     /// How the loads' steps add up to the rail's ΔI.
-    #[serde(skip_serializing_if = "Combine::is_sum")]
     pub combine: Combine,
     /// The regulator's output model.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub source: Option<Source>,
     /// The power/ground plane pair.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub plane: Option<Plane>,
     /// The package between the board and the die (series R-L).
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub package: Option<Package>,
     /// The on-die capacitance at the die node.
-    #[serde(skip_serializing_if = "Option::is_none")]
     pub die: Option<Die>,
     /// Current steps drawn from the rail.
     pub loads: Vec<Load>,
     /// Decoupling capacitor groups.
     pub decaps: Vec<DecapGroup>,
+    /// Where everything sits on the rail's plane pair; `None` for a lumped rail (one node, as before).
+    pub placement: Option<Placement>,
 }
 
 /// The regulator's output: a series R-L from the rail to AC ground.

@@ -267,7 +267,12 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
             }
         }
     }
-    let has_branch = rail.source.is_some() || rail.plane.is_some() || rail.decaps.iter().any(|g| g.count > 0);
+    // A placed rail's own rules (its plane pair and every position), each with its path.
+    c.problems.extend(super::placement_problems(rail, path));
+    let has_branch = rail.source.is_some()
+        || rail.plane.is_some()
+        || rail.placement.is_some()
+        || rail.decaps.iter().any(|g| g.count > 0);
     if !has_branch {
         c.push(
             path.to_string(),

@@ -6,6 +6,7 @@ pub mod coupling;
 pub mod derating;
 pub mod measured;
 pub mod mounting;
+pub mod plane_pair;
 
 pub use branch::{SeriesRlc, TWO_PI};
 pub use derating::{Corner, Derating, derate};

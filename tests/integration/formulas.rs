@@ -21,6 +21,7 @@ fn rail(name: &str, groups: Vec<DecapGroup>, band: [f64; 2]) -> Rail {
         die: None,
         loads: vec![Load { name: "load".into(), step_a: 10.0, rise_time_s: None }],
         decaps: groups,
+        placement: None,
     }
 }
 

@@ -117,6 +117,7 @@ fn one_rail_board(parts: Vec<Part>, decaps: Vec<DecapGroup>, voltage: f64) -> Bo
             die: None,
             loads: vec![Load { name: "L".into(), step_a: 1.0, rise_time_s: None }],
             decaps,
+            placement: None,
         }],
         ..Board::named("derating")
     }

@@ -133,6 +133,7 @@ fn board_strategy() -> impl Strategy<Value = Board> {
                         .map(|(i, (s, t))| Load { name: format!("L{i}"), step_a: s, rise_time_s: t })
                         .collect(),
                     decaps,
+                    placement: None,
                 }
             });
         let temperature = proptest::option::of((-60.0f64..20.0, 30.0f64..160.0).prop_map(|(a, b)| [a, b]));

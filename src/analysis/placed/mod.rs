@@ -1,0 +1,213 @@
+//! Placed rails: the plane pair as an N-port with the regulator, every part and every load at its port, and the
+//! verdict at each load.
+//!
+//! The verdict at load k: over the band, the noise Σ_l |Z_kl(f)|·ΔI_l (each load's step through the self and
+//! transfer impedances; root-sum-square under `"combine": "rss"`) against V × ripple, written as an effective
+//! impedance (that sum / ΔI, ΔI the rail's step under its combine rule) against the rail's target. With every port
+//! at one point all Z_kl are equal and this is exactly the lumped verdict. The rail meets target when every load
+//! does; the rail's own figures are its worst load's.
+//!
+//! [`PlacedCircuit`] is the circuit (built once from a rail, evaluated per frequency); the scan, the findings and
+//! the faces only read it.
+
+mod advice;
+mod circuit;
+mod ldl;
+
+pub use advice::{PlacedFinding, placed_findings};
+pub use circuit::{BranchPort, LoadMatrix, LoadPort, PlacedCircuit, PortOwner, Workspace};
+
+use super::findings::{self, Extremum, ViolationBand};
+use super::grid::log_grid;
+use super::network::{Network, View};
+use super::rail::{AnalysisOptions, AntiResonance, BranchRef, Curve, RailAnalysis, analyze_lumped, target_impedance};
+use crate::model::{Board, Combine, Rail};
+use crate::physics::Corner;
+use num_complex::Complex64 as C;
+use std::cell::RefCell;
+use std::collections::HashMap;
+
+/// One load's verdict on a placed rail.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LoadVerdict {
+    /// The load's name.
+    pub name: String,
+    /// Where its impedance is seen: at the die when the load has a package, else at its pins.
+    pub view: View,
+    /// True when its effective impedance stays at or below target over the band.
+    pub meets_target: bool,
+    /// Its highest effective impedance over the closed band, Ω.
+    pub worst_ohm: f64,
+    /// Where, Hz.
+    pub worst_hz: f64,
+    /// target / worst.
+    pub margin_ratio: f64,
+    /// 20·log10(target / worst).
+    pub margin_db: f64,
+    /// Ranges above target.
+    pub violations: Vec<ViolationBand>,
+    /// Local maxima inside the band.
+    pub peaks: Vec<Extremum>,
+    /// Local minima inside the band.
+    pub dips: Vec<Extremum>,
+    /// The scan: the effective impedance with the phase of the load's self-impedance.
+    pub scan: Curve,
+}
+
+/// A placed rail analysed: the rail's figures (its worst load's) and each load's.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlacedAnalysis {
+    /// The rail's analysis as every face reads it: the worst load's figures, the rail's target, band and groups.
+    pub rail: RailAnalysis,
+    /// Each load, in the rail's order.
+    pub loads: Vec<LoadVerdict>,
+    /// Index of the worst load.
+    pub worst_load: usize,
+}
+
+/// The highest frequency a placed rail is prepared for: the band's top, or a display sweep's end if higher.
+fn f_max_for(rail: &Rail, options: &AnalysisOptions) -> f64 {
+    let band_hi = rail.band_hz_or_default()[1];
+    options.curve.map_or(band_hi, |(_, to, _)| to.max(band_hi))
+}
+
+/// Each load's effective impedance at one frequency: combine(|Z_kl|·ΔI_l)/ΔI with the phase of Z_kk (at the
+/// dies).
+pub fn effective(circuit: &PlacedCircuit, m: &LoadMatrix, combine: Combine, step_a: f64) -> Vec<C> {
+    (0..m.n)
+        .map(|k| {
+            let terms = circuit.loads.iter().enumerate().map(|(l, load)| m.die(k, l).norm() * load.step_a);
+            let noise = match combine {
+                Combine::Sum => terms.sum::<f64>(),
+                Combine::Rss => terms.map(|x| x * x).sum::<f64>().sqrt(),
+            };
+            C::from_polar(noise / step_a, m.die(k, k).arg())
+        })
+        .collect()
+}
+
+/// Analyse a placed rail: every load's verdict, and the rail's (its worst load's). `None` for a lumped rail or a
+/// rail without band.
+pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<PlacedAnalysis> {
+    let rail = board.rails.get(rail_index)?;
+    let band = rail.band()?;
+    let circuit = PlacedCircuit::of_rail(board, rail, options.corner, f_max_for(rail, options))?;
+    if circuit.loads.is_empty() {
+        return None;
+    }
+    let target = target_impedance(rail);
+    let step = rail.total_step_a();
+    // One solve gives every load; the scans of the loads share them through this cache.
+    let cache: RefCell<HashMap<u64, Vec<C>>> = RefCell::new(HashMap::new());
+    let ws = RefCell::new(Workspace::default());
+    let eff_at = |f: f64| -> Vec<C> {
+        if let Some(v) = cache.borrow().get(&f.to_bits()) {
+            return v.clone();
+        }
+        let m = circuit.solve(f, &mut ws.borrow_mut());
+        let v = effective(&circuit, &m, rail.combine, step);
+        cache.borrow_mut().insert(f.to_bits(), v.clone());
+        v
+    };
+    let mut loads = Vec::new();
+    for (k, load) in circuit.loads.iter().enumerate() {
+        let z_at = |f: f64| eff_at(f)[k];
+        let scan = findings::scan(&z_at, band.hz, options.band_points, target);
+        let worst = scan.worst;
+        let margin_ratio = target / worst.z_ohm;
+        loads.push(LoadVerdict {
+            name: load.name.clone(),
+            view: if load.package.is_some() { View::Die } else { View::Board },
+            meets_target: worst.z_ohm <= target,
+            worst_ohm: worst.z_ohm,
+            worst_hz: worst.freq_hz,
+            margin_ratio,
+            margin_db: 20.0 * margin_ratio.log10(),
+            violations: scan.violations,
+            peaks: scan.peaks,
+            dips: scan.dips,
+            scan: Curve { freq_hz: scan.freq_hz, z: scan.z, branches: Vec::new() },
+        });
+    }
+    let worst_load = (0..loads.len()).max_by(|&a, &b| loads[a].worst_ohm.total_cmp(&loads[b].worst_ohm)).unwrap_or(0);
+    // The rail's band, target and groups as the lumped engine gives them; its verdict figures from the worst load.
+    let mut lumped_rail = rail.clone();
+    lumped_rail.placement = None;
+    let mut a = analyze_lumped(board, &lumped_rail, &AnalysisOptions { curve: None, ..*options })?;
+    let w = &loads[worst_load];
+    let network = Network::of_rail_in(board, &lumped_rail, options.corner);
+    a.view = w.view;
+    a.worst_ohm = w.worst_ohm;
+    a.worst_hz = w.worst_hz;
+    a.margin_ratio = w.margin_ratio;
+    a.margin_db = w.margin_db;
+    a.meets_target = loads.iter().all(|l| l.meets_target);
+    a.violations = w.violations.clone();
+    a.dips = w.dips.clone();
+    a.antiresonances = w
+        .peaks
+        .iter()
+        .map(|p| {
+            let (below, above) = network.bracketing(p.freq_hz, View::Board);
+            let r = |b: &crate::analysis::Branch| BranchRef {
+                kind: b.kind,
+                label: b.label.clone(),
+                resonance_hz: b.resonance_hz,
+            };
+            AntiResonance {
+                freq_hz: p.freq_hz,
+                z_ohm: p.z_ohm,
+                above_target: p.z_ohm > target,
+                inductive_side: below.map(r),
+                capacitive_side: above.map(r),
+            }
+        })
+        .collect();
+    a.scan = w.scan.clone();
+    a.curve = options.curve.map(|(from, to, n)| {
+        let freq_hz = log_grid(from, to, n);
+        let z = freq_hz.iter().map(|&f| eff_at(f)[worst_load]).collect();
+        let branches = if options.branch_curves {
+            network
+                .branches
+                .iter()
+                .map(|b| {
+                    let r = BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz };
+                    (r, freq_hz.iter().map(|&f| b.impedance(f)).collect())
+                })
+                .collect()
+        } else {
+            Vec::new()
+        };
+        Curve { freq_hz, z, branches }
+    });
+    Some(PlacedAnalysis { rail: a, loads, worst_load })
+}
+
+/// The findings a placed rail adds (none for a lumped rail), for the rail's analysis `a`.
+pub fn findings_for(board: &Board, rail: &Rail, a: &RailAnalysis) -> Vec<super::Finding> {
+    match PlacedCircuit::of_rail(board, rail, a.corner, a.band_hz[1]) {
+        Some(circuit) => placed_findings(board, rail, &circuit, a.target_ohm),
+        None => Vec::new(),
+    }
+}
+
+/// The impedance at load `at` (its die when it has a package) at each of `freq_hz`: its self-impedance, or with
+/// `from` the transfer impedance Z(at, from). `None` when the rail is not placed or a load index is out of range.
+pub fn load_sweep(
+    board: &Board,
+    rail: &Rail,
+    at: usize,
+    from: Option<usize>,
+    freq_hz: &[f64],
+    corner: Corner,
+) -> Option<Vec<C>> {
+    let f_max = freq_hz.iter().copied().fold(rail.band_hz_or_default()[1], f64::max);
+    let circuit = PlacedCircuit::of_rail(board, rail, corner, f_max)?;
+    let other = from.unwrap_or(at);
+    if at >= circuit.loads.len() || other >= circuit.loads.len() {
+        return None;
+    }
+    let mut ws = Workspace::default();
+    Some(freq_hz.iter().map(|&f| circuit.solve(f, &mut ws).die(at, other)).collect())
+}

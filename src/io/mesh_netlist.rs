@@ -1,0 +1,218 @@
+//! A placed rail as a SPICE netlist: the plane pair as a mesh of cells, every branch at its port, so the rail can
+//! be signed off in any SPICE.
+//!
+//! The pair is cut into nx × ny cells of side about h (a/nx by b/ny, square when h divides both sides). Each cell is
+//! a capacitance ε0·εr·(cell area)/d to the return plane; each shared edge a series R-L of μ0·d and the foil's DC
+//! resistance per square, scaled by length over width. A port is the cells whose centres lie under it (the
+//! nearest cell when none does): its current is spread evenly over them and its voltage is their average (an
+//! ideal coupling of E and F sources), the cavity model's own port. SPICE has no √f skin effect and no
+//! conductance proportional to frequency, so the foil is its DC resistance and a loss tangent is left out; the
+//! netlist says so in its heading.
+
+use super::netlist::AcSweep;
+use crate::analysis::placed::PlacedCircuit;
+use crate::model::{Board, Rail};
+use crate::physics::Corner;
+use crate::physics::plane_pair::{Conductor, EPS0, MU0, PortRect};
+use crate::units::full_precision as num;
+use std::fmt::Write;
+
+/// The most cells a mesh may have (about 100 MB of netlist text; a finer mesh is refused, not attempted).
+pub const MAX_MESH_CELLS: usize = 1_000_000;
+
+/// The least resistance per square an edge carries, Ω: it keeps SPICE's DC operating point solvable on perfect
+/// conductors and is far below any part's ESR (it moves |Z| by parts in 1e5 or less).
+pub const MIN_SHEET_OHM: f64 = 1e-6;
+
+/// The node driven with 1 A AC: the load's die (or its pins when it has no package), whose voltage is Z.
+pub fn mesh_drive_node(load: usize) -> String {
+    format!("load{load}")
+}
+
+/// The netlist of a placed rail meshed at about `cell_m`, driving load `at` with 1 A AC; frequency, Re V and Im V
+/// of that load's node (and, with `from`, the drive moved to load `from` so V(at) is the transfer impedance) go to
+/// `data_file`.
+pub fn mesh_netlist(
+    board: &Board,
+    rail: &Rail,
+    sweep: &AcSweep,
+    cell_m: f64,
+    at: usize,
+    from: Option<usize>,
+    data_file: &str,
+) -> Result<String, String> {
+    if rail.placement.is_none() {
+        return Err(format!("rail {} is not placed (it has no plane_pair), so it has no plane to mesh", rail.name));
+    }
+    let circuit = PlacedCircuit::of_rail(board, rail, Corner::Nominal, sweep.to_hz)
+        .ok_or_else(|| format!("rail {} could not be built", rail.name))?;
+    if at >= circuit.loads.len() || from.is_some_and(|f| f >= circuit.loads.len()) {
+        return Err(format!("rail {} has no such load", rail.name));
+    }
+    let st = circuit.plane.stackup;
+    let [a, b] = st.size_m;
+    if !(cell_m.is_finite() && cell_m > 0.0) {
+        return Err(format!("the cell size must be a length greater than 0, not {}", num(cell_m)));
+    }
+    let nx = (a / cell_m).round().max(1.0);
+    let ny = (b / cell_m).round().max(1.0);
+    if nx * ny > MAX_MESH_CELLS as f64 {
+        return Err(format!(
+            "a cell of {} m cuts the {} m × {} m pair into {} cells; the limit is {MAX_MESH_CELLS}: choose a larger cell",
+            num(cell_m),
+            num(a),
+            num(b),
+            nx * ny
+        ));
+    }
+    let (nx, ny) = (nx as usize, ny as usize);
+    let (hx, hy) = (a / nx as f64, b / ny as f64);
+    let d = st.dielectric_m;
+    // A loop of ideal inductors is a loop of 0 V sources at SPICE's DC operating point (a singular matrix), so
+    // every edge keeps at least MIN_SHEET_OHM per square.
+    let sheet = match st.conductor {
+        Conductor::Perfect => 0.0,
+        Conductor::Sheet { ohm_per_square } => ohm_per_square,
+        Conductor::Foil { thickness_m, conductivity_s_m } => 2.0 / (conductivity_s_m * thickness_m),
+    }
+    .max(MIN_SHEET_OHM);
+    let mut t = String::with_capacity(80 * nx * ny * 3);
+    let _ = writeln!(t, "* hushrail: placed rail {} of board {}, plane pair meshed", rail.name, board.name);
+    let _ = writeln!(t, "* {nx} x {ny} cells of {} m x {} m", num(hx), num(hy));
+    let _ = writeln!(
+        t,
+        "* SPICE holds no skin effect and no frequency-proportional conductance: the foil is its DC resistance \
+         ({} ohm per square) and the loss tangent ({}) is left out",
+        num(sheet),
+        num(st.loss_tangent)
+    );
+    let drive = from.unwrap_or(at);
+    let _ = writeln!(
+        t,
+        "* 1 A AC drawn at load {} ({}); V({}) is the impedance seen there",
+        drive,
+        circuit.loads[drive].name,
+        mesh_drive_node(at)
+    );
+    let _ = writeln!(t, "Vsupply supply 0 DC {}", num(rail.voltage_v));
+    let cell = |i: usize, j: usize| format!("n{i}_{j}");
+    let c_cell = EPS0 * st.er * hx * hy / d;
+    for j in 0..ny {
+        for i in 0..nx {
+            let _ = writeln!(t, "C{i}_{j} {} 0 {}", cell(i, j), num(c_cell));
+        }
+    }
+    // Edges: along x between (i, j) and (i+1, j): length hx, width hy; along y the reverse.
+    let edge = |t: &mut String, tag: String, n1: String, n2: String, ratio: f64| {
+        let l = MU0 * d * ratio;
+        let _ = writeln!(t, "R{tag} {n1} {tag}m {}", num(sheet * ratio));
+        let _ = writeln!(t, "L{tag} {tag}m {n2} {}", num(l));
+    };
+    for j in 0..ny {
+        for i in 0..nx {
+            if i + 1 < nx {
+                edge(&mut t, format!("x{i}_{j}"), cell(i, j), cell(i + 1, j), hx / hy);
+            }
+            if j + 1 < ny {
+                edge(&mut t, format!("y{i}_{j}"), cell(i, j), cell(i, j + 1), hy / hx);
+            }
+        }
+    }
+    // The cells under a port: centres inside its rectangle, or the nearest cell.
+    let cells_under = |p: &PortRect| -> Vec<(usize, usize)> {
+        let mut out = Vec::new();
+        for j in 0..ny {
+            let yc = (j as f64 + 0.5) * hy;
+            if (yc - p.y).abs() > p.h / 2.0 + 1e-12 {
+                continue;
+            }
+            for i in 0..nx {
+                let xc = (i as f64 + 0.5) * hx;
+                if (xc - p.x).abs() <= p.w / 2.0 + 1e-12 {
+                    out.push((i, j));
+                }
+            }
+        }
+        if out.is_empty() {
+            let i = ((p.x / hx).floor() as usize).min(nx - 1);
+            let j = ((p.y / hy).floor() as usize).min(ny - 1);
+            out.push((i, j));
+        }
+        out
+    };
+    let np = circuit.branches.len();
+    for (k, port) in circuit.plane.ports.iter().enumerate() {
+        let cells = cells_under(port);
+        let node = format!("p{k}");
+        let _ = writeln!(t, "* port {k}: {} cell(s)", cells.len());
+        // Vs carries the net current the port puts into the plane; a chain of E sources holds the port at the
+        // cells' mean voltage (linear sources, so SPICE may skip the operating point); each F puts an equal share
+        // of that current into its cell.
+        let _ = writeln!(t, "Vs{k} {node} {node}e0 0");
+        let share = num(1.0 / cells.len() as f64);
+        for (e, &(i, j)) in cells.iter().enumerate() {
+            let next = if e + 1 == cells.len() { "0".to_string() } else { format!("{node}e{}", e + 1) };
+            let _ = writeln!(t, "E{k}_{e} {node}e{e} {next} {} 0 {share}", cell(i, j));
+        }
+        for &(i, j) in &cells {
+            let _ = writeln!(t, "F{k}_{i}_{j} 0 {} Vs{k} {share}", cell(i, j));
+        }
+        if k < np {
+            let bp = &circuit.branches[k];
+            let end = if matches!(bp.owner, crate::analysis::placed::PortOwner::Source) { "supply" } else { "0" };
+            let _ = writeln!(t, "* branch: {}", bp.branch.label);
+            series(&mut t, &format!("b{k}"), &node, end, bp.branch.rlc.r_ohm, bp.branch.rlc.l_h, bp.branch.rlc.c_f);
+        } else {
+            let l = k - np;
+            let load = &circuit.loads[l];
+            let out = mesh_drive_node(l);
+            let _ = writeln!(t, "* load: {}", load.name);
+            match &load.package {
+                Some(p) => {
+                    series(&mut t, &format!("pk{l}"), &node, &out, p.r_ohm, p.l_h, None);
+                    if let Some(die) = &load.die {
+                        series(&mut t, &format!("die{l}"), &out, "0", die.r_ohm, die.l_h, die.c_f);
+                    }
+                }
+                None => {
+                    let _ = writeln!(t, "Rj{l} {node} {out} 1e-12");
+                }
+            }
+        }
+    }
+    let _ = writeln!(t, "Idrive 0 {} DC 0 AC 1", mesh_drive_node(drive));
+    // The network is linear: ngspice may skip the DC operating point, which on a fine mesh of near-ideal
+    // conductors is slow to converge and tells nothing here.
+    let _ = writeln!(t, ".options noopac");
+    let _ = writeln!(t, ".ac dec {} {} {}", sweep.points_per_decade, num(sweep.from_hz), num(sweep.to_hz));
+    let _ = write!(
+        t,
+        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} v({})\nquit\n.endc\n.end\n",
+        mesh_drive_node(at)
+    );
+    Ok(t)
+}
+
+/// A series R-L-C between two nodes; zero R and L are left out (SPICE refuses or warns on them).
+fn series(t: &mut String, tag: &str, from: &str, to: &str, r: f64, l: f64, c: Option<f64>) {
+    let mut elements: Vec<(char, f64)> = Vec::new();
+    if r > 0.0 {
+        elements.push(('R', r));
+    }
+    if l > 0.0 {
+        elements.push(('L', l));
+    }
+    if let Some(c) = c {
+        elements.push(('C', c));
+    }
+    if elements.is_empty() {
+        elements.push(('R', 1e-12));
+    }
+    let last = elements.len() - 1;
+    let mut node = from.to_string();
+    for (k, (letter, value)) in elements.into_iter().enumerate() {
+        let next = if k == last { to.to_string() } else { format!("{tag}_{k}") };
+        let _ = writeln!(t, "{letter}{tag}_{k} {node} {next} {}", num(value));
+        node = next;
+    }
+}
