@@ -91,18 +91,18 @@ fn placed(c: &mut Criterion) {
     group.sample_size(10);
     group.bench_function("60 ports: prepare the plane, then 1000 frequencies at every load", |b| {
         b.iter(|| {
-            let circuit = PlacedCircuit::of_rail(black_box(&board), rail, Corner::Nominal, 1e9).unwrap();
+            let circuit = PlacedCircuit::of_rail(black_box(&board), rail, Corner::Typical, 1e9).unwrap();
             let mut ws = Workspace::default();
             grid.iter().map(|&f| circuit.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>()
         })
     });
-    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Nominal, 1e9).unwrap();
+    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Typical, 1e9).unwrap();
     group.bench_function("60 ports: 1000 frequencies at every load (prepared)", |b| {
         let mut ws = Workspace::default();
         b.iter(|| grid.iter().map(|&f| circuit.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>())
     });
     group.bench_function("60 ports: prepare the plane", |b| {
-        b.iter(|| PlacedCircuit::of_rail(black_box(&board), rail, Corner::Nominal, 1e9).unwrap())
+        b.iter(|| PlacedCircuit::of_rail(black_box(&board), rail, Corner::Typical, 1e9).unwrap())
     });
     let mut moving = circuit.clone();
     let mut step = 0usize;

@@ -185,20 +185,6 @@ fn to_json(board: &Board, trace: &Trace, checks: &[RailCheck], all_pass: bool) -
 }
 
 /// "MEETS target at its die: worst effective |Z| 12.3 mΩ at 4.56 MHz, margin +3.2 dB".
-fn load_text(l: &LoadVerdict, target_ohm: f64) -> String {
-    let verdict = if l.meets_target { "MEETS target" } else { "MISSES target" };
-    let at = match l.view {
-        View::Board => "at its pins",
-        View::Die => "at its die",
-    };
-    format!(
-        "{verdict} {at}: worst effective |Z| {} at {}, margin {:+.1} dB ({:.2}× target)",
-        format(l.worst_ohm, Unit::Ohm),
-        format(l.worst_hz, Unit::Hertz),
-        l.margin_db,
-        l.worst_ohm / target_ohm,
-    )
-}
 
 /// The verdict for people.
 fn to_text(board: &Board, trace: &Trace, checks: &[RailCheck]) -> String {

@@ -136,7 +136,7 @@ fn the_reduction_to_the_loads_is_the_schur_complement() {
     // matrix (the formula in PLANE-MODEL.md) must give the same impedances among the loads.
     let board = placed("two_loads.json");
     let rail = &board.rails[0];
-    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Nominal, 1e9).unwrap();
+    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Typical, 1e9).unwrap();
     let mut ws = Workspace::default();
     // From 1 MHz: below it the plain formula's own rounding (of the order of 1e-16 of the plate term, divided by
     // the μΩ-level spreading reactance it is subtracted down to) exceeds any useful tolerance.
@@ -161,7 +161,7 @@ fn with_every_port_at_one_point_the_placed_engine_is_the_lumped_network() {
     // with the branches as the lumped engine (Network) builds them.
     let board = all_at_one_point(placed("one_load.json"), 0.002);
     let rail = &board.rails[0];
-    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Nominal, 1e9).unwrap();
+    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Typical, 1e9).unwrap();
     let mut lumped_rail = rail.clone();
     lumped_rail.placement = None;
     let network = hushrail::analysis::Network::of_rail(&board, &lumped_rail);
@@ -238,7 +238,7 @@ fn a_far_part_is_named_with_the_inductance_the_planes_add() {
     let p = near.rails[0].placement.as_mut().unwrap();
     p.groups[1].spots = GroupSpots::At([0.011, 0.01]);
     let f = [3e8];
-    let z_far = load_sweep(&board, &board.rails[0], 0, None, &f, Corner::Nominal).unwrap()[0].norm();
-    let z_near = load_sweep(&near, &near.rails[0], 0, None, &f, Corner::Nominal).unwrap()[0].norm();
+    let z_far = load_sweep(&board, &board.rails[0], 0, None, &f, Corner::Typical).unwrap()[0].norm();
+    let z_near = load_sweep(&near, &near.rails[0], 0, None, &f, Corner::Typical).unwrap()[0].norm();
     assert!(z_near < 0.8 * z_far, "{z_near} vs {z_far}");
 }

@@ -322,6 +322,7 @@ fn extreme_board_strategy() -> impl Strategy<Value = Board> {
                 die: on[2].then_some(Die { capacitance_f: pkg.2, esr_ohm: pkg.3 }),
                 loads: vec![Load { name: "L".into(), step_a: vrs.2, rise_time_s: None }],
                 decaps: vec![DecapGroup::new("p", group.0.max(1), group.1)],
+                placement: None,
             }],
             ..Board::named("extreme")
         }

@@ -148,18 +148,20 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
         .peaks
         .iter()
         .map(|p| {
-            let (below, above) = network.bracketing(p.freq_hz, View::Board);
-            let r = |b: &crate::analysis::Branch| BranchRef {
+            // The lumped network names the branches behind a peak by their share of the susceptance there.
+            let (inductive, capacitive) = network.peak_sides(p.freq_hz, View::Board);
+            let r = |(b, share): (&crate::analysis::Branch, f64)| BranchRef {
                 kind: b.kind,
                 label: b.label.clone(),
                 resonance_hz: b.resonance_hz,
+                share,
             };
             AntiResonance {
                 freq_hz: p.freq_hz,
                 z_ohm: p.z_ohm,
                 above_target: p.z_ohm > target,
-                inductive_side: below.map(r),
-                capacitive_side: above.map(r),
+                inductive_side: inductive.map(r),
+                capacitive_side: capacitive.map(r),
             }
         })
         .collect();
@@ -172,7 +174,8 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
                 .branches
                 .iter()
                 .map(|b| {
-                    let r = BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz };
+                    let r =
+                        BranchRef { kind: b.kind, label: b.label.clone(), resonance_hz: b.resonance_hz, share: 1.0 };
                     (r, freq_hz.iter().map(|&f| b.impedance(f)).collect())
                 })
                 .collect()
