@@ -10,7 +10,12 @@ mod optimize;
 mod rail;
 
 pub use advice::{Finding, Severity, explain, explain_band};
-pub use droop::{Droop, DroopError, DroopOptions, NodeDroop, PatternResponse, Pulse, droop, pattern_response};
+pub use droop::{
+    BandFilter, Droop, DroopError, DroopOptions, IntegratedStep, LINEAR_LIMIT, MAX_STEPS, Modal, NodeDroop,
+    PatternResponse, Pulse, RISE_RANGE_S, RailModes, STEP_RANGE_A, Sustained, WINDOW_RANGE_S, WorstCase, droop,
+    droop_figure, droop_lines, droop_stimulus_line, droop_verdict_line, pattern_response, rail_modes, step_integrated,
+    worst_pattern_over,
+};
 pub use findings::{Extremum, ViolationBand};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, View, magnitude_phase};

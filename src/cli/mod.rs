@@ -178,22 +178,30 @@ fn frequency_range(from: &Option<String>, to: &Option<String>, band_hz: [f64; 2]
     Ok((from, to))
 }
 
-/// Droop options from the command line's --step, --rise and --window (engineering notation), with `points`.
+/// Droop options from the command line's --step, --rise and --window (engineering notation), with `points`; a
+/// value outside the droop's ranges is refused naming its flag.
 fn droop_options(
     step: &Option<String>,
     rise: &Option<String>,
     window: &Option<String>,
     points: usize,
 ) -> Result<crate::analysis::DroopOptions, String> {
+    use crate::analysis::{RISE_RANGE_S, STEP_RANGE_A, WINDOW_RANGE_S};
     use crate::units::{Unit, parse};
-    let value = |opt: &Option<String>, unit: Unit, flag: &str| -> Result<Option<f64>, String> {
-        opt.as_ref().map(|t| parse(t, unit).map_err(|e| format!("--{flag}: {e}"))).transpose()
+    let value = |opt: &Option<String>, unit: Unit, flag: &str, [lo, hi]: [f64; 2]| -> Result<Option<f64>, String> {
+        let Some(text) = opt else { return Ok(None) };
+        let v = parse(text, unit).map_err(|e| format!("--{flag}: {e}"))?;
+        if !(v.is_finite() && v >= lo && v <= hi) {
+            return Err(format!("--{flag}: {text:?} is outside {lo:e} to {hi:e} {}", unit.symbol()));
+        }
+        Ok(Some(v))
     };
     Ok(crate::analysis::DroopOptions {
-        step_a: value(step, Unit::Ampere, "step")?,
-        rise_s: value(rise, Unit::Second, "rise")?,
-        window_s: value(window, Unit::Second, "window")?,
+        step_a: value(step, Unit::Ampere, "step", STEP_RANGE_A)?,
+        rise_s: value(rise, Unit::Second, "rise", RISE_RANGE_S)?,
+        window_s: value(window, Unit::Second, "window", WINDOW_RANGE_S)?,
         points: Some(points),
+        band_limit: None,
     })
 }
 

@@ -512,14 +512,18 @@ impl Decoder {
 
     fn load(&mut self, value: &Value, path: &str) -> Load {
         let empty = Map::new();
-        let f = self.sub_object(value, path, &["name", "step_a", "rise_time_s"], &empty);
+        const KEYS: [&str; 6] = ["name", "step_a", "rise_time_s", "min_period_s", "clock_hz", "max_pulses"];
+        let f = self.sub_object(value, path, &KEYS, &empty);
         if f.known.is_empty() {
-            return Load { name: String::new(), step_a: f64::NAN, rise_time_s: None };
+            return Load::new(String::new(), f64::NAN, None);
         }
         Load {
             name: self.string(&f, "name"),
             step_a: self.number(&f, "step_a"),
             rise_time_s: self.opt_number(&f, "rise_time_s"),
+            min_period_s: self.opt_number(&f, "min_period_s"),
+            clock_hz: self.opt_number(&f, "clock_hz"),
+            max_pulses: f.map.get("max_pulses").and_then(|v| self.count(v, &join(path, "max_pulses"))),
         }
     }
 

@@ -1,7 +1,5 @@
 //! The command-line contract: output shapes, exit codes (0 pass, 1 miss, 2 bad input) and error messages.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{AnalysisOptions, analyze_rail};
 use hushrail::io::read_board;

@@ -1,8 +1,6 @@
 //! `hushrail export` and `hushrail bom`: the exported numbers are the engine's numbers (the engine itself is
 //! checked against ngspice in tests/ngspice.rs), in full precision; bad input exits 2 and writes nothing.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{log_grid, magnitude_phase, sweep, target_impedance};
 use hushrail::io::{Fixture, bill_of_materials, read_board, read_touchstone, z_to_one_port_s};

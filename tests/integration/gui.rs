@@ -1,8 +1,6 @@
 //! The planner window, driven headless through its accessibility tree the way a user would: click, type, press
 //! keys, drop a file. The figures it shows are checked against what the engine computes for the same board.
 
-
-
 use egui::accesskit::Role;
 use egui::{Key, Modifiers};
 use egui_kittest::Harness;

@@ -2,8 +2,6 @@
 //! invented R-L-C values, read into the engine; interpolation at the data, the fitted R-L-C outside it, and a
 //! broken file named with its line.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{AnalysisOptions, Network, Severity, analyze_rail, explain};
 use hushrail::io::{board_to_string, parse_board, read_board, read_board_keeping_unusable};

@@ -5,8 +5,6 @@
 //! Two checks: against ngspice's output committed in tests/reference (written by scripts/regen_reference.sh), and
 //! against ngspice run live on a netlist written now (required under CI).
 
-
-
 use crate::common::*;
 use hushrail::analysis::{Network, View, magnitude_phase};
 use hushrail::io::{AcSweep, parse_wrdata, rail_netlist};

@@ -3,8 +3,6 @@
 //! nothing fetched), every rail with its plot, verdict and findings (the words of `analysis::explain`), the droop,
 //! the bill of materials, the cautions, the version and the date.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{AnalysisOptions, DroopOptions, analyze_rail, droop, explain};
 use hushrail::io::{CAUTIONS, ReportContext, bill_of_materials, read_board, report_html};

@@ -1,8 +1,6 @@
 //! The mix optimizer: exact on small problems (against a brute force judged by the full engine), close to the
 //! best known cost on larger ones, every reported option re-checked by the engine `check` uses and by ngspice.
 
-
-
 use crate::common::*;
 use hushrail::analysis::{
     AnalysisOptions, Candidate, MixEvaluator, Network, Objective, SuggestOptions, analyze_rail, apply_mix,

@@ -9,8 +9,6 @@
 //! - Malformed files (tests/touchstone/bad, listed in EXPECTED.tsv) give an error naming the file, the line and
 //!   the reason.
 
-
-
 use crate::common::*;
 use hushrail::analysis::sweep;
 use hushrail::io::{Fixture, read_board, read_touchstone};
