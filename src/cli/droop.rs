@@ -1,7 +1,7 @@
 //! `hushrail droop`: the rail's voltage after a load step, and the worst case over on/off load patterns.
 
 use super::{EXIT_MISS, EXIT_PASS, emit, load_board};
-use crate::analysis::droop;
+use crate::analysis::{Droop, WorstCase, droop, droop_lines};
 use crate::units::{Unit, format, push_full_precision};
 use clap::Args;
 use serde_json::json;
@@ -31,9 +31,74 @@ pub struct DroopArgs {
     /// Print JSON instead of text.
     #[arg(long, conflicts_with = "csv")]
     pub json: bool,
-    /// Print the waveform as CSV (t_s,v).
+    /// Print the waveform as CSV (t_s,v): the grid of --points plus each interval's lowest and highest point.
     #[arg(long)]
     pub csv: bool,
+    /// Do not filter the load's current to the rail's band (the whole spectrum of its edges meets the network).
+    #[arg(long)]
+    pub unfiltered: bool,
+}
+
+/// The droop as JSON. No value is ever null: a figure that does not exist is left out and a field says why
+/// ("settles": false, "worst_case": {"bounded": false, ...}).
+pub fn droop_json(d: &Droop) -> serde_json::Value {
+    let board_node =
+        d.board_node.as_ref().map(|b| json!({"min_v": b.min_v, "t_min_s": b.t_min_s, "droop_v": b.droop_v}));
+    let mut v = json!({
+        "rail": d.rail, "node": d.node.name(), "step_a": d.step_a, "rise_s": d.rise_s, "ramp_s": d.ramp_s,
+        "window_s": d.window_s, "band_limited": d.filter.is_some(),
+        "nominal_v": d.nominal_v, "min_v": d.min_v, "t_min_s": d.t_min_s, "droop_v": d.droop_v,
+        "beyond_linear_model": d.beyond_model(d.droop_v),
+        "allowed_v": d.allowed_v, "meets": d.meets, "final_v": d.final_v, "settles": d.settling_s.is_some(),
+        "worst_case_meets": d.worst_case_meets, "min_interval_s": d.min_interval_s,
+        "warnings": d.warnings,
+    });
+    let o = v.as_object_mut().expect("an object");
+    if let Some(b) = board_node {
+        o.insert("board_node".into(), b);
+    }
+    if let Some(t) = d.settling_s {
+        o.insert("settling_s".into(), json!(t));
+    }
+    if let Some(f) = d.filter {
+        o.insert(
+            "filter".into(),
+            json!({"edge_hz": f.edge_hz, "load_edge_hz": f.load_edge_hz, "poles_hz": f.poles_hz}),
+        );
+    }
+    if let Some(p) = d.max_pulses {
+        o.insert("max_pulses".into(), json!(p));
+    }
+    if let Some(s) = d.sustained {
+        o.insert(
+            "sustained".into(),
+            json!({"peak_hz": s.peak_hz, "z_ohm": s.z_ohm, "r_dc_ohm": s.r_dc_ohm, "droop_v": s.droop_v,
+                   "beyond_linear_model": d.beyond_model(s.droop_v)}),
+        );
+    }
+    match &d.worst_case {
+        WorstCase::Bounded { droop_v, pattern, t_s, dominant_hz } => {
+            o.insert("worst_case_droop_v".into(), json!(droop_v));
+            o.insert("worst_case_t_s".into(), json!(t_s));
+            o.insert(
+                "worst_case_pattern".into(),
+                pattern.iter().map(|p| json!({"on_s": p.on_s, "off_s": p.off_s})).collect(),
+            );
+            let mut w = json!({"bounded": true, "droop_v": droop_v, "t_s": t_s,
+                               "beyond_linear_model": d.beyond_model(*droop_v)});
+            if let Some(f) = dominant_hz {
+                w["dominant_hz"] = json!(f);
+            }
+            o.insert("worst_case".into(), w);
+        }
+        WorstCase::Unbounded => {
+            o.insert(
+                "worst_case".into(),
+                json!({"bounded": false, "reason": "a resonance without damping: a pattern at its frequency pumps it without limit"}),
+            );
+        }
+    }
+    v
 }
 
 /// Run the droop analysis and print it; exit 0 when the step's droop is within the allowed band, 1 when not.
@@ -41,7 +106,8 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     super::find_rail(&board, &file, &args.rail)?;
     let index = board.rail_index(&args.rail).unwrap_or(0);
-    let options = super::droop_options(&args.step, &args.rise, &args.window, args.points)?;
+    let mut options = super::droop_options(&args.step, &args.rise, &args.window, args.points)?;
+    options.band_limit = Some(!args.unfiltered);
     let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
     if args.csv {
         let mut t = String::with_capacity(48 * d.waveform.len() + 8);
@@ -54,58 +120,14 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
         }
         emit(&t);
     } else if args.json {
-        let board_node =
-            d.board_node.as_ref().map(|b| json!({"min_v": b.min_v, "t_min_s": b.t_min_s, "droop_v": b.droop_v}));
-        let value = json!({
-            "rail": d.rail, "node": d.node.name(), "board_node": board_node, "step_a": d.step_a, "rise_s": d.rise_s, "window_s": d.window_s, "dt_s": d.dt_s,
-            "nominal_v": d.nominal_v, "min_v": d.min_v, "t_min_s": d.t_min_s, "droop_v": d.droop_v,
-            "allowed_v": d.allowed_v, "meets": d.meets, "final_v": d.final_v, "settling_s": d.settling_s,
-            "worst_case_droop_v": d.worst_case_droop_v, "worst_case_t_s": d.worst_case_t_s,
-            "worst_case_meets": d.worst_case_meets,
-            "worst_case_pattern": d.worst_case_pattern.iter().map(|p| json!({"on_s": p.on_s, "off_s": p.off_s})).collect::<Vec<_>>(),
-        });
-        emit(&(serde_json::to_string_pretty(&value).unwrap_or_default() + "\n"));
+        emit(&(serde_json::to_string_pretty(&droop_json(&d)).unwrap_or_default() + "\n"));
     } else {
         let mut t = String::new();
-        let v = |x: f64| format(x, Unit::Volt);
-        let s = |x: f64| format(x, Unit::Second);
         let _ = writeln!(t, "{} ({file})", board.name);
-        let _ = writeln!(
-            t,
-            "{}: step {} with a {} rise, from {} (simulated {} in steps of {})",
-            d.rail,
-            format(d.step_a, Unit::Ampere),
-            s(d.rise_s),
-            v(d.nominal_v),
-            s(d.window_s),
-            s(d.dt_s)
-        );
-        let verdict = if d.meets { "WITHIN" } else { "OUTSIDE" };
-        let at = match d.node {
-            crate::analysis::View::Board => "at the board",
-            crate::analysis::View::Die => "at the die",
-        };
-        let _ = writeln!(
-            t,
-            "  {verdict} the allowed band {at}: droop {} (lowest {} at {}), allowed {}",
-            v(d.droop_v),
-            v(d.min_v),
-            s(d.t_min_s),
-            v(d.allowed_v)
-        );
-        if let Some(b) = &d.board_node {
-            let _ = writeln!(t, "  at the board: droop {} (lowest {} at {})", v(b.droop_v), v(b.min_v), s(b.t_min_s));
+        let _ = writeln!(t, "{}: shown over {}", d.rail, format(d.window_s, Unit::Second));
+        for line in droop_lines(&d) {
+            let _ = writeln!(t, "  {line}");
         }
-        let settle = d.settling_s.map_or("not within the window".to_string(), s);
-        let _ = writeln!(t, "  settles to {} (within 10 % of the droop) after {settle}", v(d.final_v));
-        let verdict = if d.worst_case_meets { "within" } else { "OUTSIDE" };
-        let _ = writeln!(
-            t,
-            "  worst on/off pattern: droop {} ({verdict} the allowed band), {} pulses, lowest at {}",
-            v(d.worst_case_droop_v),
-            d.worst_case_pattern.len(),
-            s(d.worst_case_t_s)
-        );
         emit(&t);
     }
     Ok(if d.meets { EXIT_PASS } else { EXIT_MISS })

@@ -241,23 +241,26 @@ fn frequency_range(from: &Option<String>, to: &Option<String>, band_hz: [f64; 2]
     Ok((from, to))
 }
 
-/// Droop options from the command line's --step, --rise and --window (engineering notation), with `points`.
+/// Droop options from the command line's --step, --rise and --window (engineering notation), with `points`; a
+/// value outside the droop's ranges is refused naming its flag.
 fn droop_options(
     step: &Option<String>,
     rise: &Option<String>,
     window: &Option<String>,
     points: usize,
 ) -> Result<crate::analysis::DroopOptions, String> {
+    use crate::analysis::WINDOW_RANGE_S;
     use crate::model::ranges::{LOAD_STEP, RISE_TIME};
     use crate::units::{Unit, parse};
     let value = |opt: &Option<String>, unit: Unit, range: &crate::model::ranges::Range, flag: &str| {
         opt.as_ref().map(|t| flag_value(t, unit, range, flag)).transpose()
     };
+    let [lo, hi] = WINDOW_RANGE_S;
     let window_s = window
         .as_ref()
         .map(|t| match parse(t, Unit::Second) {
-            Ok(w) if w > 0.0 => Ok(w),
-            Ok(w) => Err(format!("--window: must be a time greater than 0, not {w}")),
+            Ok(w) if (lo..=hi).contains(&w) => Ok(w),
+            Ok(w) => Err(format!("--window: must be from {lo:e} s to {hi:e} s, not {w}")),
             Err(e) => Err(format!("--window: {e}")),
         })
         .transpose()?;
@@ -266,6 +269,7 @@ fn droop_options(
         rise_s: value(rise, Unit::Second, &RISE_TIME, "rise")?,
         window_s,
         points: Some(points),
+        band_limit: None,
     })
 }
 

@@ -774,7 +774,7 @@ fn fallback_board() -> Board {
         plane: None,
         package: None,
         die: None,
-        loads: vec![Load { name: "load".into(), step_a: 1.0, rise_time_s: None }],
+        loads: vec![Load::new("load", 1.0, None)],
         decaps: Vec::new(),
         placement: None,
     });

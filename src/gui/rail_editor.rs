@@ -673,7 +673,7 @@ fn loads_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, 
         let name =
             (1..).map(|n| format!("load {n}")).find(|n| !rail.loads.iter().any(|l| &l.name == n)).unwrap_or_default();
         let result = set_rail(doc, i, &key, format!("add {name} to {}", rail.name), |r| {
-            r.loads.push(Load { name, step_a: 0.1, rise_time_s: None })
+            r.loads.push(Load::new(name, 0.1, None))
         });
         match result {
             Ok(()) => fields.forget(&key),

@@ -30,7 +30,7 @@ impl PatternView {
     /// Start computing the response to `d`'s worst-case pattern on rail `index` of `board`.
     fn start(board: &crate::model::Board, index: usize, of: Arc<DroopResult>, d: &Droop) -> PatternView {
         let (tx, rx) = channel();
-        let (board, pattern) = (board.clone(), d.worst_case_pattern.clone());
+        let (board, pattern) = (board.clone(), d.worst_case.pattern().to_vec());
         std::thread::spawn(move || {
             let answer = pattern_response(&board, index, &pattern, &droop_options()).map_err(|e| e.to_string());
             let _ = tx.send(answer);
@@ -55,24 +55,12 @@ impl PatternView {
     }
 }
 
-/// The figures of a droop in words, as the window shows them, one line each.
+/// The figures of a droop in words, as the window shows them, one line each: the engine's own words
+/// ([`crate::analysis::droop_lines`]) less the stimulus and the verdict, which the window shows above them.
 pub fn droop_lines(d: &Droop) -> Vec<String> {
-    let mut lines = vec![
-        format!("droop {}", format(d.droop_v, Unit::Volt)),
-        format!("lowest {} at {}", format(d.min_v, Unit::Volt), format(d.t_min_s, Unit::Second)),
-        format!("allowed {} (voltage × ripple)", format(d.allowed_v, Unit::Volt)),
-    ];
-    lines.push(match d.settling_s {
-        Some(t) => format!("settles within 10 % after {}", format(t, Unit::Second)),
-        None => format!("not settled within the {} shown", format(d.window_s, Unit::Second)),
-    });
-    lines.push(format!(
-        "worst case over on/off patterns {} ({} pulses), {}",
-        format(d.worst_case_droop_v, Unit::Volt),
-        d.worst_case_pattern.len(),
-        if d.worst_case_meets { "within the allowed band" } else { "beyond the allowed band" }
-    ));
-    lines
+    let all = crate::analysis::droop_lines(d);
+    let skip = [crate::analysis::droop_stimulus_line(d), crate::analysis::droop_verdict_line(d)];
+    all.into_iter().filter(|l| !skip.contains(l)).collect()
 }
 
 impl App {
@@ -114,20 +102,15 @@ impl App {
         ui.horizontal_wrapped(|ui| {
             ui.label(RichText::new(word).strong().color(color));
             ui.label(format!(
-                "after a step of {} rising in {}{}",
-                format(d.step_a, Unit::Ampere),
-                format(d.rise_s, Unit::Second),
+                "after a {}{}",
+                crate::analysis::droop_stimulus_line(d),
                 if d.node == View::Die { ", seen at the die" } else { "" }
             ));
         });
-        ui.horizontal_wrapped(|ui| {
-            for (n, line) in droop_lines(d).into_iter().enumerate() {
-                if n > 0 {
-                    ui.label("·");
-                }
-                ui.label(line);
-            }
-        });
+        ui.label(crate::analysis::droop_verdict_line(d));
+        for line in droop_lines(d) {
+            ui.label(RichText::new(line).small());
+        }
         let show_pattern = &mut self.show_worst_pattern;
         ui.checkbox(show_pattern, "Show the worst-case on/off load pattern and the voltage it gives");
         let pattern = if self.show_worst_pattern {
@@ -238,7 +221,7 @@ impl App {
             })
             .show(ui, |pu| {
                 if let Some(Ok(_)) = &pattern {
-                    for pulse in &d.worst_case_pattern {
+                    for pulse in d.worst_case.pattern() {
                         pu.polygon(
                             Polygon::new(
                                 "load on",

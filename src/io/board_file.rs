@@ -558,20 +558,33 @@ impl Decoder {
 
     fn load(&mut self, value: &Value, path: &str, placed: bool) -> (Load, Option<crate::model::LoadPlacement>) {
         let empty = Map::new();
-        let f = self.sub_object(
-            value,
-            path,
-            &["name", "step_a", "rise_time_s", "at_m", "pins_m", "package", "die"],
-            &empty,
-        );
+        const KEYS: [&str; 10] = [
+            "name",
+            "step_a",
+            "rise_time_s",
+            "min_period_s",
+            "clock_hz",
+            "max_pulses",
+            "at_m",
+            "pins_m",
+            "package",
+            "die",
+        ];
+        let f = self.sub_object(value, path, &KEYS, &empty);
         if f.known.is_empty() {
-            return (Load { name: String::new(), step_a: f64::NAN, rise_time_s: None }, self.load_stand_in(placed));
+            return (Load::new(String::new(), f64::NAN, None), self.load_stand_in(placed));
         }
         let spot = self.load_spot(&f, placed);
         let load = Load {
             name: self.string(&f, "name"),
             step_a: self.number(&f, "step_a"),
             rise_time_s: self.opt_number(&f, "rise_time_s"),
+            min_period_s: self.opt_number(&f, "min_period_s"),
+            clock_hz: self.opt_number(&f, "clock_hz"),
+            max_pulses: f
+                .map
+                .get("max_pulses")
+                .and_then(|v| self.count(v, &join(path, "max_pulses"), &crate::model::ranges::MAX_PULSES)),
         };
         (load, spot)
     }

@@ -33,6 +33,9 @@ pub struct Transient {
     pub stop_s: f64,
     /// Largest internal step, s.
     pub max_step_s: f64,
+    /// When the droop filters the load's current to the band: the filter's two real poles, Hz. The netlist then
+    /// builds the same filter (two buffered R-C sections driving a current source) between the PWL and the node.
+    pub filter_poles_hz: Option<[f64; 2]>,
 }
 
 /// The rail node's name in the netlist.
@@ -64,7 +67,26 @@ pub fn rail_tran_netlist(board: &Board, rail: &Rail, tran: &Transient, data_file
     let mut t = network_text(board, rail, &format!("a piecewise-linear load current drawn from node {node}"));
     let corners: Vec<String> =
         tran.load.iter().map(|(time, i)| format!("{} {}", full_precision(*time), full_precision(*i))).collect();
-    let _ = writeln!(t, "Iload {node} 0 PWL({})", corners.join(" "));
+    match tran.filter_poles_hz {
+        None => {
+            let _ = writeln!(t, "Iload {node} 0 PWL({})", corners.join(" "));
+        }
+        Some([a, b]) => {
+            // The load's current as a voltage (1 V per A), through two R-C low-passes (1 Ω, C = 1/(2π f)) with a
+            // unity buffer between them, drawn from the node by a transconductance of 1 A/V.
+            let c = |f: f64| full_precision(1.0 / (2.0 * std::f64::consts::PI * f));
+            let _ = writeln!(
+                t,
+                "* the load's current filtered to the band: poles at {} Hz and {} Hz",
+                full_precision(a),
+                full_precision(b)
+            );
+            let _ = writeln!(t, "Vpwl lpwl 0 PWL({})", corners.join(" "));
+            let _ = writeln!(t, "Rf1 lpwl lf1 1\nCf1 lf1 0 {}\nEf1 lf1b 0 lf1 0 1", c(a));
+            let _ = writeln!(t, "Rf2 lf1b lf2 1\nCf2 lf2 0 {}", c(b));
+            let _ = writeln!(t, "Gload {node} 0 lf2 0 1");
+        }
+    }
     let _ = writeln!(t, ".options reltol=1e-6 abstol=1e-12 vntol=1e-9");
     let _ = writeln!(
         t,

@@ -308,33 +308,19 @@ fn droop_section(h: &mut String, droop: Option<&Result<Droop, DroopError>>) {
     h.push_str("<h3>Droop after a load step</h3>\n");
     match droop {
         Some(Ok(d)) => {
-            let class = |meets: bool| if meets { "pass" } else { "fail" };
-            let words = |meets: bool| if meets { "within" } else { "beyond" };
-            let _ = writeln!(
-                h,
-                "<table>\n<tr><th>step</th><td>{} rising in {}</td></tr>\n\
-                 <tr><th>lowest voltage</th><td>{} at {} after the step</td></tr>\n\
-                 <tr><th>droop</th><td class=\"{}\">{} ({} the allowed {})</td></tr>\n\
-                 <tr><th>worst on/off pattern</th><td class=\"{}\">{} ({} the allowed {})</td></tr>\n\
-                 <tr><th>settles to</th><td>{}{}</td></tr>\n</table>",
-                format(d.step_a, Unit::Ampere),
-                format(d.rise_s, Unit::Second),
-                format(d.min_v, Unit::Volt),
-                format(d.t_min_s, Unit::Second),
-                class(d.meets),
-                format(d.droop_v, Unit::Volt),
-                words(d.meets),
-                format(d.allowed_v, Unit::Volt),
-                class(d.worst_case_meets),
-                format(d.worst_case_droop_v, Unit::Volt),
-                words(d.worst_case_meets),
-                format(d.allowed_v, Unit::Volt),
-                format(d.final_v, Unit::Volt),
-                match d.settling_s {
-                    Some(t) => format!(" within {}", format(t, Unit::Second)),
-                    None => " (not settled inside the simulated window)".into(),
-                }
-            );
+            // The engine's own words, one row each; the verdict rows coloured by their outcome.
+            h.push_str("<ul class=\"droop\">\n");
+            for line in crate::analysis::droop_lines(d) {
+                let class = if line == crate::analysis::droop_verdict_line(d) {
+                    if d.meets { " class=\"pass\"" } else { " class=\"fail\"" }
+                } else if line.starts_with("worst on/off pattern") {
+                    if d.worst_case_meets { " class=\"pass\"" } else { " class=\"fail\"" }
+                } else {
+                    ""
+                };
+                let _ = writeln!(h, "<li{class}>{}</li>", escape(&line));
+            }
+            h.push_str("</ul>\n");
         }
         Some(Err(e)) => {
             let _ = writeln!(h, "<p>No droop figures: {}.</p>", escape(&e.to_string()));

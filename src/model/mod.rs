@@ -418,6 +418,28 @@ pub struct Load {
     /// 10-90 % rise time of the step, s.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub rise_time_s: Option<f64>,
+    /// The shortest time the load stays on or off, s (its fastest on/off period is twice this). Bounds the worst
+    /// on/off pattern; absent: `clock_hz`, else half a period of the band's upper edge.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub min_period_s: Option<f64>,
+    /// The clock the load switches with, Hz: it stays on or off for at least one cycle (1/clock_hz).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub clock_hz: Option<f64>,
+    /// The most on/off pulses in one burst. Absent: no limit.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub max_pulses: Option<u32>,
+}
+
+impl Load {
+    /// A load with a step and an optional rise time, nothing else given.
+    pub fn new(name: impl Into<String>, step_a: f64, rise_time_s: Option<f64>) -> Load {
+        Load { name: name.into(), step_a, rise_time_s, min_period_s: None, clock_hz: None, max_pulses: None }
+    }
+
+    /// The shortest on or off interval this load gives, s: `min_period_s`, else one cycle of `clock_hz`.
+    pub fn min_interval_s(&self) -> Option<f64> {
+        self.min_period_s.or(self.clock_hz.map(|f| 1.0 / f))
+    }
 }
 
 /// N identical parts of one kind on a rail, with the inductance of how each is mounted.

@@ -113,6 +113,8 @@ pub const VIA_LENGTH: Range = Range::new("a via length", Unit::Metre, 1e-6, 0.02
 pub const VIA_PITCH: Range = Range::new("a via pitch", Unit::Metre, 1e-6, 0.05, false);
 /// Vias on each pad.
 pub const VIAS_PER_PAD: Range = Range::new("vias per pad", Unit::None, 1.0, 64.0, false);
+/// The most on/off pulses a load's burst may hold.
+pub const MAX_PULSES: Range = Range::new("a number of pulses", Unit::None, 1.0, 1e6, false);
 /// Points of a sweep or an export.
 pub const SWEEP_POINTS: Range = Range::new("the points of a sweep", Unit::None, 2.0, 1e6, false);
 /// Points of the in-band scan.
@@ -128,7 +130,7 @@ pub const MAX_BOARD_BYTES: u64 = 64 << 20;
 pub const MAX_TOUCHSTONE_BYTES: u64 = 64 << 20;
 
 /// Every range, in the order README lists them.
-pub const ALL: [&Range; 28] = [
+pub const ALL: [&Range; 29] = [
     &RAIL_VOLTAGE,
     &RIPPLE_PCT,
     &LOAD_STEP,
@@ -157,6 +159,7 @@ pub const ALL: [&Range; 28] = [
     &SCAN_POINTS,
     &COUPLING_IMPEDANCE,
     &COUPLING_FACTOR,
+    &MAX_PULSES,
 ];
 
 #[cfg(test)]

@@ -244,12 +244,24 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
     if rail.loads.is_empty() {
         c.push(format!("{path}.loads"), "a rail needs at least one load (its current step sets the target)");
     }
-    for (i, Load { name, step_a, rise_time_s }) in rail.loads.iter().enumerate() {
+    for (i, Load { name, step_a, rise_time_s, min_period_s, clock_hz, max_pulses }) in rail.loads.iter().enumerate() {
         let lp = format!("{path}.loads[{i}]");
         c.name(format!("{lp}.name"), name, "load name");
         c.range(format!("{lp}.step_a"), *step_a, &ranges::LOAD_STEP);
         if let Some(t) = rise_time_s {
             c.range(format!("{lp}.rise_time_s"), *t, &ranges::RISE_TIME);
+        }
+        if let Some(t) = min_period_s {
+            c.positive(format!("{lp}.min_period_s"), *t);
+        }
+        if let Some(f) = clock_hz {
+            c.positive(format!("{lp}.clock_hz"), *f);
+        }
+        if min_period_s.is_some() && clock_hz.is_some() {
+            c.push(format!("{lp}.clock_hz"), "give min_period_s or clock_hz, not both (one sets the other)");
+        }
+        if *max_pulses == Some(0) {
+            c.push(format!("{lp}.max_pulses"), "must be at least 1 (leave it out for no limit)");
         }
     }
     for (i, DecapGroup { part, count, mounting_h, mounting }) in rail.decaps.iter().enumerate() {

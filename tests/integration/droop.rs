@@ -1,11 +1,20 @@
-//! Droop in time against ngspice .tran (ngspice, a general-purpose circuit simulator, Debian package `ngspice`)
-//! on the same network and the same stimulus: the lowest voltage within 1 % of the droop and its time within 1 %.
-//! The worst-case pattern, run through ngspice, reaches the computed worst case within 1 %, and random on/off
-//! patterns never droop more than it (linear superposition, the basis of the reverse pulse technique, Drabkin et
-//! al., EPEP 2002).
+//! Droop in time against outside references:
+//! - ngspice .tran (ngspice, a general-purpose circuit simulator, Debian package `ngspice`) on the same network and
+//!   the same stimulus (the ramp over rise/0.8, and the band filter built as two buffered R-C sections when the tool
+//!   filters): the lowest voltage within 1 % of the droop and its time within 1 %;
+//! - the trapezoidal integrator kept in the library as the reference for the exact modal method;
+//! - the 10-90 % rise time as IEEE Std 181-2011 defines a transition duration (the 10 % and 90 % reference levels);
+//! - the worst pattern against a brute-force search over patterns, and its droop reached in ngspice (linear
+//!   superposition, the basis of the reverse pulse technique, Drabkin et al., EPEP 2002);
+//! - the sustained-resonance estimate against a single parallel resonance computed by hand (the peak of an L ∥ C
+//!   with series losses, |Z| ≈ (L/C)/(R_L + R_C), any circuits textbook; the square wave's fundamental 2/π·ΔI from
+//!   its Fourier series).
 
 use crate::common::*;
-use hushrail::analysis::{Droop, DroopError, DroopOptions, Pulse, droop, pattern_response};
+use hushrail::analysis::{
+    Droop, DroopError, DroopOptions, Network, Pulse, WorstCase, droop, pattern_response, rail_modes, step_integrated,
+    worst_pattern_over,
+};
 use hushrail::io::{Transient, parse_wrdata, rail_tran_netlist};
 use hushrail::model::Board;
 
@@ -14,11 +23,27 @@ const DATA: &str = "hushrail_tran.txt";
 /// Longest window the ngspice comparisons simulate (keeps ngspice's run short).
 const MAX_WINDOW: f64 = 4e-6;
 
-/// Run ngspice on a PWL load and return (t, V) rows.
-fn ngspice_tran(board: &Board, rail: usize, load: Vec<(f64, f64)>, d: &Droop) -> Vec<(f64, f64)> {
-    let tran = Transient { load, step_s: d.dt_s, stop_s: d.window_s, max_step_s: d.dt_s };
-    let text = run_ngspice(&rail_tran_netlist(board, &board.rails[rail], &tran, DATA), DATA);
-    parse_wrdata(&text).unwrap().into_iter().map(|r| (r[0], r[1])).collect()
+/// Run ngspice on a PWL load (through the droop's band filter when it has one) and return (t, V) rows. ngspice's
+/// step control now and then gives up at the load's first corner on these networks ("timestep too small", the data
+/// ending there); a smaller largest step then gets it through, so the run is repeated with one, up to four times.
+fn ngspice_tran(board: &Board, rail: usize, load: Vec<(f64, f64)>, d: &Droop, stop_s: f64) -> Vec<(f64, f64)> {
+    let mut max_step = (d.ramp_s / 50.0).min(stop_s / 4000.0);
+    for _ in 0..5 {
+        let tran = Transient {
+            load: load.clone(),
+            step_s: max_step,
+            stop_s,
+            max_step_s: max_step,
+            filter_poles_hz: d.filter.map(|f| f.poles_hz),
+        };
+        let text = run_ngspice(&rail_tran_netlist(board, &board.rails[rail], &tran, DATA), DATA);
+        let rows: Vec<(f64, f64)> = parse_wrdata(&text).unwrap().into_iter().map(|r| (r[0], r[1])).collect();
+        if rows.last().is_some_and(|r| r.0 >= stop_s * (1.0 - 1e-9)) {
+            return rows;
+        }
+        max_step /= 2.7;
+    }
+    panic!("ngspice did not get through {stop_s} s");
 }
 
 fn lowest(rows: &[(f64, f64)]) -> (f64, f64) {
@@ -26,56 +51,154 @@ fn lowest(rows: &[(f64, f64)]) -> (f64, f64) {
 }
 
 /// The piecewise-linear corners of a pattern of ramped pulses (exact: the current is linear between them).
-fn pattern_corners(pattern: &[Pulse], step: f64, rise: f64) -> Vec<(f64, f64)> {
+fn pattern_corners(pattern: &[Pulse], step: f64, ramp: f64) -> Vec<(f64, f64)> {
     let mut times: Vec<f64> = vec![0.0];
     for p in pattern {
-        times.extend([p.on_s, p.on_s + rise, p.off_s, p.off_s + rise]);
+        times.extend([p.on_s, p.on_s + ramp, p.off_s, p.off_s + ramp]);
     }
     times.sort_by(f64::total_cmp);
     times.dedup_by(|a, b| (*a - *b).abs() < 1e-18);
-    let ramp = |x: f64| (x / rise).clamp(0.0, 1.0);
-    times
-        .iter()
-        .map(|&t| (t, step * pattern.iter().map(|p| ramp(t - p.on_s) - ramp(t - p.off_s)).sum::<f64>()))
-        .collect()
+    let r = |x: f64| (x / ramp).clamp(0.0, 1.0);
+    times.iter().map(|&t| (t, step * pattern.iter().map(|p| r(t - p.on_s) - r(t - p.off_s)).sum::<f64>())).collect()
 }
 
-fn short_window(board: &Board, rail: usize) -> DroopOptions {
+fn short_window(board: &Board, rail: usize, band_limit: bool) -> DroopOptions {
     let full = droop(board, rail, &DroopOptions { points: Some(200), ..Default::default() }).unwrap();
-    DroopOptions { window_s: Some(full.window_s.min(MAX_WINDOW)), points: Some(200), ..Default::default() }
+    DroopOptions {
+        window_s: Some(full.window_s.min(MAX_WINDOW)),
+        points: Some(200),
+        band_limit: Some(band_limit),
+        ..Default::default()
+    }
+}
+
+/// Every rail with a source, by (name, board, index).
+fn droop_rails() -> Vec<(String, Board, usize)> {
+    let mut out = Vec::new();
+    for (stem, _, board) in reference_boards() {
+        for (i, rail) in board.rails.iter().enumerate() {
+            if rail.source.is_some() {
+                out.push((format!("{stem}/{}", rail.name), board.clone(), i));
+            }
+        }
+    }
+    out
 }
 
 #[test]
-fn step_droop_matches_ngspice_tran() {
+fn step_droop_matches_ngspice_tran_filtered_or_not_as_stated() {
     if !ngspice_available() {
         return;
     }
     let mut checked = 0;
-    for (stem, _, board) in reference_boards() {
-        for (i, rail) in board.rails.iter().enumerate() {
-            if rail.source.is_none() {
-                continue;
+    let mut filtered = 0;
+    for (what, board, i) in droop_rails() {
+        for band_limit in [true, false] {
+            let d = droop(&board, i, &short_window(&board, i, band_limit)).unwrap();
+            if band_limit && d.filter.is_none() {
+                continue; // the same run as unfiltered
             }
-            let d = droop(&board, i, &short_window(&board, i)).unwrap();
-            let load = vec![(0.0, 0.0), (d.rise_s, d.step_a)];
-            let rows = ngspice_tran(&board, i, load, &d);
+            filtered += usize::from(d.filter.is_some());
+            let stop = d.window_s;
+            let rows = ngspice_tran(&board, i, vec![(0.0, 0.0), (d.ramp_s, d.step_a)], &d, stop);
             let (t_ref, v_ref) = lowest(&rows);
             let droop_ref = d.nominal_v - v_ref;
-            let what = format!("{stem}/{}", rail.name);
+            let tag = format!("{what} ({})", if d.filter.is_some() { "filtered" } else { "unfiltered" });
+            if d.t_min_s > stop {
+                // The lowest voltage is the settled one (V − R_dc·ΔI, approached from above long after the window).
+                eprintln!(
+                    "{tag}: settles to its lowest {:.5e} V; ngspice {droop_ref:.5e} V by {stop:.3e} s",
+                    d.droop_v
+                );
+                assert!(droop_ref <= d.droop_v * 1.001 && rel(d.droop_v, d.nominal_v - d.final_v) < 1e-4, "{tag}");
+                continue;
+            }
+            eprintln!("{tag}: droop {:.5e} V vs {droop_ref:.5e} V, at {:.5e} s vs {t_ref:.5e} s", d.droop_v, d.t_min_s);
             assert!(
                 (d.droop_v - droop_ref).abs() <= 0.01 * droop_ref,
-                "{what}: droop {} vs ngspice {droop_ref}",
+                "{tag}: droop {} vs ngspice {droop_ref}",
                 d.droop_v
             );
-            assert!((d.t_min_s - t_ref).abs() <= 0.01 * t_ref, "{what}: t_min {} vs ngspice {t_ref}", d.t_min_s);
-            eprintln!(
-                "{what}: droop {:.4e} V vs {:.4e} V, at {:.4e} s vs {:.4e} s",
-                d.droop_v, droop_ref, d.t_min_s, t_ref
-            );
+            assert!((d.t_min_s - t_ref).abs() <= 0.01 * t_ref, "{tag}: t_min {} vs ngspice {t_ref}", d.t_min_s);
             checked += 1;
         }
     }
-    assert!(checked >= 9, "{checked} rails checked");
+    assert!(checked >= 9 && filtered >= 2, "{checked} runs, {filtered} filtered");
+}
+
+/// The exact modal method against the library's own time-stepping reference, unfiltered, on every rail.
+#[test]
+fn modal_step_matches_the_integrator() {
+    for (what, board, i) in droop_rails() {
+        let options = short_window(&board, i, false);
+        let d = droop(&board, i, &options).unwrap();
+        let r = step_integrated(&board, i, &options).unwrap();
+        let (a, b) = (d.droop_v, d.nominal_v - r.min_v);
+        if d.t_min_s > r.window_s {
+            // Lowest at the settled value, after the window: the integrator only approaches it.
+            assert!(b <= a * 1.001 && rel(a, d.nominal_v - d.final_v) < 1e-4, "{what}: {a} vs {b}");
+            continue;
+        }
+        assert!((a - b).abs() <= 2e-3 * b, "{what}: modal {a} vs integrator {b}");
+        assert!(
+            (d.t_min_s - r.t_min_s).abs() <= 0.01 * r.t_min_s.max(d.ramp_s),
+            "{what}: {} vs {}",
+            d.t_min_s,
+            r.t_min_s
+        );
+    }
+}
+
+/// The poles and residues give back the frequency-domain impedance the verdict uses (at the die where the rail has
+/// a package), 1 kHz to 1 GHz.
+#[test]
+fn modal_impedance_equals_the_network_impedance() {
+    for (what, board, i) in droop_rails() {
+        let network = Network::of_rail(&board, &board.rails[i]);
+        if network.branches.iter().any(|b| b.measured.is_some()) {
+            continue; // the time domain uses the fitted R-L-C
+        }
+        let modes = rail_modes(&network).unwrap();
+        for k in 0..=60 {
+            let f = 1e3 * 10f64.powf(k as f64 / 10.0);
+            let s = num_complex::Complex64::new(0.0, 2.0 * std::f64::consts::PI * f);
+            let ours = modes.main.eval(s);
+            let theirs = network.impedance_in(f, network.verdict_view());
+            assert!((ours - theirs).norm() <= 1e-6 * theirs.norm(), "{what} at {f} Hz: {ours} vs {theirs}");
+        }
+    }
+}
+
+/// IEEE Std 181-2011: the transition duration is the time between the 10 % and 90 % reference levels. On a purely
+/// resistive rail the drop follows the load's current, so its 10-90 % time is the rise time asked for.
+#[test]
+fn the_rise_time_is_the_edges_10_to_90_percent_time() {
+    let text = r#"{"format":"hushrail-board","version":1,"name":"r","parts":[],
+      "rails":[{"name":"R","voltage_v":1.0,"ripple_pct":5,"band_hz":[1e3,1e9],"source":{"r_ohm":0.01,"l_h":0},
+      "loads":[{"name":"l","step_a":2,"rise_time_s":1e-9}],"decaps":[]}]}"#;
+    let board = hushrail::io::parse_board(text, "r.json").unwrap();
+    let d =
+        droop(&board, 0, &DroopOptions { window_s: Some(2e-9), points: Some(20001), ..Default::default() }).unwrap();
+    assert!(d.filter.is_none(), "0.35/1 ns is inside the 1 GHz band");
+    let full = 0.02;
+    let cross = |level: f64| d.waveform.iter().find(|p| d.nominal_v - p[1] >= level * full).unwrap()[0];
+    let t10_90 = cross(0.9) - cross(0.1);
+    assert!((t10_90 - 1e-9).abs() <= 2e-13, "10-90 % time {t10_90}");
+    assert!((d.ramp_s - 1.25e-9).abs() < 1e-20);
+}
+
+/// Textbook check: a regulator modelled as a pure resistance R with no capacitors settles at once to V − R·ΔI.
+#[test]
+fn resistive_source_gives_ohms_law() {
+    let text = r#"{"format":"hushrail-board","version":1,"name":"r","parts":[],
+      "rails":[{"name":"R","voltage_v":1.0,"ripple_pct":5,"band_hz":[1e3,1e6],"source":{"r_ohm":0.01,"l_h":0},
+      "loads":[{"name":"l","step_a":2,"rise_time_s":1e-9}],"decaps":[]}]}"#;
+    let board = hushrail::io::parse_board(text, "r.json").unwrap();
+    let d = droop(&board, 0, &DroopOptions { window_s: Some(1e-8), band_limit: Some(false), ..Default::default() })
+        .unwrap();
+    assert!((d.droop_v - 0.02).abs() < 1e-12, "{}", d.droop_v);
+    assert!((d.final_v - 0.98).abs() < 1e-12);
+    assert!(d.meets, "20 mV within 50 mV");
 }
 
 #[test]
@@ -88,18 +211,27 @@ fn worst_case_pattern_reaches_its_droop_in_ngspice() {
     {
         let board = hushrail::io::read_board(&root().join(board_file)).unwrap();
         let i = board.rail_index(rail_name).unwrap();
-        let d = droop(&board, i, &short_window(&board, i)).unwrap();
-        assert!(!d.worst_case_pattern.is_empty());
-        assert!(d.worst_case_droop_v >= d.droop_v, "the worst case is at least the single step");
-        let rows = ngspice_tran(&board, i, pattern_corners(&d.worst_case_pattern, d.step_a, d.rise_s), &d);
+        let d = droop(&board, i, &short_window(&board, i, true)).unwrap();
+        let WorstCase::Bounded { droop_v, pattern, t_s, .. } = &d.worst_case else { panic!("bounded") };
+        assert!(!pattern.is_empty());
+        assert!(*droop_v >= d.droop_v * (1.0 - 1e-9), "the worst case is at least the single step");
+        let rows = ngspice_tran(&board, i, pattern_corners(pattern, d.step_a, d.ramp_s), &d, t_s * 1.05 + d.ramp_s);
         let (t_ref, v_ref) = lowest(&rows);
         let reached = d.nominal_v - v_ref;
-        assert!(
-            (reached - d.worst_case_droop_v).abs() <= 0.01 * d.worst_case_droop_v,
-            "{board_file}/{rail_name}: ngspice reaches {reached} at {t_ref}, computed {} at {}",
-            d.worst_case_droop_v,
-            d.worst_case_t_s
+        eprintln!(
+            "{board_file}/{rail_name}: worst {droop_v:.5e} V at {t_s:.5e} s, ngspice {reached:.5e} V at {t_ref:.5e} s"
         );
+        assert!(
+            (reached - droop_v).abs() <= 0.01 * droop_v,
+            "{board_file}/{rail_name}: ngspice reaches {reached} at {t_ref}, computed {droop_v} at {t_s}"
+        );
+        // Every on and off interval respects the shortest interval.
+        for w in pattern.windows(2) {
+            assert!(w[1].on_s - w[0].off_s >= d.min_interval_s * (1.0 - 1e-9));
+        }
+        for p in pattern {
+            assert!(p.off_s - p.on_s >= d.min_interval_s * (1.0 - 1e-9));
+        }
     }
 }
 
@@ -112,47 +244,137 @@ impl Lcg {
     }
 }
 
+/// Random patterns that keep the shortest interval never droop more than the worst case; one of them run through
+/// ngspice lands where our superposition does.
 #[test]
 fn random_patterns_never_droop_more_than_the_worst_case() {
     let board = hushrail::io::read_board(&root().join("tests/networks/regulator_plane.json")).unwrap();
     let i = board.rail_index("CORE").unwrap();
-    let options = DroopOptions { window_s: Some(1e-6), points: Some(100), ..Default::default() };
+    let options = DroopOptions { window_s: Some(1e-6), points: Some(400), ..Default::default() };
     let d = droop(&board, i, &options).unwrap();
+    let worst = d.worst_case_droop_v().unwrap();
     let mut rng = Lcg(7);
     let mut pattern = Vec::new();
     for _ in 0..40 {
         pattern.clear();
         let mut t = rng.next() * 50e-9;
         while t < d.window_s {
-            let on = rng.next() * 80e-9 + 1e-9;
-            let off = rng.next() * 80e-9 + 1e-9;
+            let on = rng.next() * 80e-9 + d.min_interval_s;
+            let off = rng.next() * 80e-9 + d.min_interval_s;
             pattern.push(Pulse { on_s: t, off_s: t + on });
             t += on + off;
         }
         let v_min = pattern_response(&board, i, &pattern, &options).unwrap().min_v;
         let dr = d.nominal_v - v_min;
-        assert!(
-            dr <= d.worst_case_droop_v * (1.0 + 1e-12),
-            "random pattern droops {dr} > worst {}",
-            d.worst_case_droop_v
-        );
+        // The worst pattern's ages are chosen on samples of the step response (0.15 rad of its fastest live mode
+        // apart, extrema refined by a parabola): a pattern elsewhere can beat it by that resolution only.
+        assert!(dr <= worst * (1.0 + 1e-3), "random pattern droops {dr} > worst {worst}");
     }
-    // The computed pattern itself reaches the worst case in our own integration too.
-    let v_min = pattern_response(&board, i, &d.worst_case_pattern, &options).unwrap().min_v;
+    // The computed pattern itself reaches the worst case in our own response too.
+    let WorstCase::Bounded { t_s, .. } = &d.worst_case else { panic!("bounded") };
+    let opts = DroopOptions { window_s: Some(t_s + 1e-8), ..options };
+    let v_min = pattern_response(&board, i, d.worst_case.pattern(), &opts).unwrap().min_v;
     let reached = d.nominal_v - v_min;
-    assert!(
-        (reached - d.worst_case_droop_v).abs() <= 1e-9 * d.worst_case_droop_v,
-        "{reached} vs {}",
-        d.worst_case_droop_v
-    );
-    // The last random pattern, run through ngspice as an outside check of the superposition, lands where ours does.
+    // Its lowest sample on this grid, against the refined lowest point of the same response.
+    assert!((reached - worst).abs() <= 1e-3 * worst, "{reached} vs {worst}");
     if ngspice_available() {
         let ours = pattern_response(&board, i, &pattern, &options).unwrap().min_v;
-        let rows = ngspice_tran(&board, i, pattern_corners(&pattern, d.step_a, d.rise_s), &d);
+        let rows = ngspice_tran(&board, i, pattern_corners(&pattern, d.step_a, d.ramp_s), &d, d.window_s);
         let (_, theirs) = lowest(&rows);
         let (a, b) = (d.nominal_v - ours, d.nominal_v - theirs);
         assert!((a - b).abs() <= 0.01 * b, "random pattern: ours {a} vs ngspice {b}");
     }
+}
+
+/// The dynamic programme against every alternating choice of edge ages on a small grid, with and without the
+/// shortest interval and a pulse limit.
+#[test]
+fn worst_pattern_equals_brute_force_over_patterns() {
+    let mut rng = Lcg(11);
+    for case in 0..30 {
+        let n = 14;
+        let tau: Vec<f64> = (0..n).map(|k| k as f64).collect();
+        let mut s: Vec<f64> = (0..n).map(|_| rng.next() * 2.0 - 0.5).collect();
+        s[0] = 0.0;
+        for (gap, limit) in [(0.0, None), (1.0, None), (2.0, None), (3.0, None), (1.0, Some(1)), (2.0, Some(2))] {
+            let (best, pulses) = worst_pattern_over(&tau, &s, gap, limit);
+            // Brute force: every increasing sequence of ages, alternately off (even positions) and on (odd),
+            // may start with an off at any age, must end with an on.
+            let mut brute = 0.0f64;
+            for mask in 0u32..(1 << n) {
+                let ages: Vec<usize> = (0..n).filter(|k| mask >> k & 1 == 1).collect();
+                for start_off in [true, false] {
+                    let mut chosen = ages.clone();
+                    if !start_off {
+                        // The load is on at T: an implicit off at age 0.
+                        if chosen.first() == Some(&0) {
+                            continue;
+                        }
+                        chosen.insert(0, 0);
+                    }
+                    if chosen.len() % 2 == 1 {
+                        continue;
+                    }
+                    if chosen.windows(2).any(|w| tau[w[1]] - tau[w[0]] < gap) {
+                        continue;
+                    }
+                    if limit.is_some_and(|l| chosen.len() / 2 > l) {
+                        continue;
+                    }
+                    let v: f64 = chosen.chunks(2).map(|c| s[c[1]] - s[c[0]]).sum();
+                    brute = brute.max(v);
+                }
+            }
+            assert!((best - brute).abs() < 1e-12, "case {case} gap {gap} limit {limit:?}: {best} vs {brute}");
+            let again: f64 = pulses.iter().map(|&(on, off)| s[on] - s[off]).sum();
+            assert!((again - best).abs() < 1e-12, "the pattern gives its droop");
+        }
+    }
+}
+
+/// A single parallel resonance by hand: a source of R_s + L_s against one capacitor of C and ESR R_c, peak
+/// |Z| ≈ (L/C)/(R_s + R_c) at f = 1/(2π√(LC)) (high Q); the estimate is ΔI·((2/π)|Z| + R_s/2).
+#[test]
+fn sustained_resonance_estimate_on_a_single_resonance() {
+    let (rs, ls, c, rc, di): (f64, f64, f64, f64, f64) = (2e-3, 10e-9, 10e-6, 2e-3, 1.0);
+    let text = format!(
+        r#"{{"format":"hushrail-board","version":1,"name":"one","parts":[{{"id":"c","kind":"ceramic",
+        "capacitance_f":{c},"esr_ohm":{rc},"esl_h":0}}],
+        "rails":[{{"name":"R","voltage_v":1.0,"ripple_pct":5,"band_hz":[1e3,1e8],"source":{{"r_ohm":{rs},"l_h":{ls}}},
+        "loads":[{{"name":"l","step_a":{di},"rise_time_s":1e-8}}],"decaps":[{{"part":"c","count":1,"mounting_h":0}}]}}]}}"#
+    );
+    let board = hushrail::io::parse_board(&text, "one.json").unwrap();
+    let d = droop(&board, 0, &DroopOptions::default()).unwrap();
+    let s = d.sustained.unwrap();
+    let f0 = 1.0 / (2.0 * std::f64::consts::PI * (ls * c).sqrt());
+    let z_hand = (ls / c) / (rs + rc);
+    assert!(rel(s.peak_hz, f0) < 0.01, "{} vs {f0}", s.peak_hz);
+    assert!(rel(s.z_ohm, z_hand) < 0.01, "{} vs {z_hand}", s.z_ohm);
+    let hand = di * (2.0 / std::f64::consts::PI * z_hand + rs / 2.0);
+    assert!(rel(s.droop_v, hand) < 0.01, "{} vs {hand}", s.droop_v);
+    // The worst pattern drives the same resonance: at least the estimate's AC part, and its dominant frequency
+    // is the peak's.
+    let WorstCase::Bounded { droop_v, dominant_hz, .. } = &d.worst_case else { panic!() };
+    assert!(*droop_v >= 0.9 * di * 2.0 / std::f64::consts::PI * z_hand, "{droop_v}");
+    assert!(rel(dominant_hz.unwrap(), f0) < 0.05, "{dominant_hz:?} vs {f0}");
+}
+
+/// A rail with no damping anywhere: its worst pattern is unbounded and it never settles, however long the window.
+#[test]
+fn a_lossless_rail_is_unbounded_not_a_large_number() {
+    let text = r#"{"format":"hushrail-board","version":1,"name":"lossless","parts":[{"id":"c","kind":"film",
+      "capacitance_f":1e-6,"esr_ohm":0,"esl_h":1e-9}],
+      "rails":[{"name":"R","voltage_v":1.0,"ripple_pct":5,"band_hz":[1e3,1e8],"source":{"r_ohm":0,"l_h":1e-8},
+      "loads":[{"name":"l","step_a":1,"rise_time_s":1e-8}],"decaps":[{"part":"c","count":1,"mounting_h":0}]}]}"#;
+    let board = hushrail::io::parse_board(text, "l.json").unwrap();
+    let mut droops = Vec::new();
+    for window in [1e-5, 1e-4, 1e-3] {
+        let d = droop(&board, 0, &DroopOptions { window_s: Some(window), ..Default::default() }).unwrap();
+        assert_eq!(d.worst_case, WorstCase::Unbounded, "window {window}");
+        assert_eq!(d.settling_s, None);
+        droops.push(d.droop_v);
+    }
+    assert!(droops.iter().all(|x| rel(*x, droops[0]) < 1e-6), "{droops:?}");
 }
 
 #[test]
@@ -170,32 +392,53 @@ fn a_rail_without_source_is_explained() {
     assert!(String::from_utf8_lossy(&out.stderr).contains("falls without end"));
 }
 
-/// Textbook check: a regulator modelled as a pure resistance R with no capacitors settles at once to V − R·ΔI.
+/// The one band: VDDR of the sample board meets its impedance target, and its step droop and worst pattern,
+/// filtered to that band, agree.
 #[test]
-fn resistive_source_gives_ohms_law() {
-    let text = r#"{"format":"hushrail-board","version":1,"name":"r","parts":[],
-      "rails":[{"name":"R","voltage_v":1.0,"ripple_pct":5,"band_hz":[1e3,1e6],"source":{"r_ohm":0.01,"l_h":0},
-      "loads":[{"name":"l","step_a":2,"rise_time_s":1e-9}],"decaps":[]}]}"#;
-    let board = hushrail::io::parse_board(text, "r.json").unwrap();
-    let d = droop(&board, 0, &DroopOptions { window_s: Some(1e-8), ..Default::default() }).unwrap();
-    assert!((d.droop_v - 0.02).abs() < 1e-12, "{}", d.droop_v);
-    assert!((d.final_v - 0.98).abs() < 1e-12);
-    assert!(d.meets, "20 mV within 50 mV");
+fn sample_vddr_agrees_with_its_impedance_verdict() {
+    let board = hushrail::samples::default_board().unwrap();
+    let i = board.rail_index("VDDR").unwrap();
+    let d = droop(&board, i, &DroopOptions::default()).unwrap();
+    assert!(d.filter.is_some());
+    assert!(d.meets, "{}", d.droop_v);
+    assert!(d.worst_case_meets, "{:?}", d.worst_case);
+}
+
+fn json_of(args: &[&str]) -> (Option<i32>, serde_json::Value, String) {
+    let out = hushrail().args(args).current_dir(root()).output().unwrap();
+    let v = serde_json::from_slice(&out.stdout).unwrap_or(serde_json::Value::Null);
+    (out.status.code(), v, String::from_utf8_lossy(&out.stderr).into_owned())
+}
+
+fn has_null(v: &serde_json::Value) -> bool {
+    match v {
+        serde_json::Value::Null => true,
+        serde_json::Value::Array(a) => a.iter().any(has_null),
+        serde_json::Value::Object(o) => o.values().any(has_null),
+        _ => false,
+    }
 }
 
 #[test]
-fn droop_cli_json_has_the_contract_fields() {
-    let out = hushrail()
-        .args(["droop", "sample_boards/edge_camera.json", "--rail", "VDDR", "--window", "2u", "--json"])
-        .current_dir(root())
-        .output()
-        .unwrap();
-    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
-    for k in ["rail", "step_a", "rise_s", "min_v", "t_min_s", "droop_v", "allowed_v", "meets", "worst_case_droop_v"] {
-        assert!(!v[k].is_null(), "{k} missing");
+fn droop_cli_json_has_the_contract_fields_and_no_null() {
+    for rail in ["VCORE", "VDDR", "V3V3_IO"] {
+        let (code, v, _) = json_of(&["droop", "sample_boards/edge_camera.json", "--rail", rail, "--json"]);
+        for k in
+            ["rail", "step_a", "rise_s", "ramp_s", "min_v", "t_min_s", "droop_v", "allowed_v", "meets", "worst_case"]
+        {
+            assert!(!v[k].is_null(), "{rail}: {k} missing");
+        }
+        assert!(!has_null(&v), "{rail}: a null in {v}");
+        let meets = v["meets"].as_bool().unwrap();
+        assert_eq!(code, Some(if meets { 0 } else { 1 }));
     }
-    let meets = v["meets"].as_bool().unwrap();
-    assert_eq!(out.status.code(), Some(if meets { 0 } else { 1 }));
+}
+
+/// The CSV keeps each interval's extremes: its lowest point is the lowest voltage the text prints.
+#[test]
+fn csv_holds_the_lowest_point() {
+    let (_, v, _) = json_of(&["droop", "sample_boards/edge_camera.json", "--rail", "VDDR", "--window", "2u", "--json"]);
+    let min_v = v["min_v"].as_f64().unwrap();
     let csv = hushrail()
         .args([
             "droop",
@@ -214,6 +457,75 @@ fn droop_cli_json_has_the_contract_fields() {
     let text = String::from_utf8_lossy(&csv.stdout);
     let lines: Vec<&str> = text.lines().collect();
     assert_eq!(lines[0], "t_s,v");
-    assert_eq!(lines.len(), 12);
-    assert_eq!(lines[11].split(',').next().unwrap().parse::<f64>().unwrap(), 2e-6);
+    assert!(lines.len() >= 12, "the 11 grid points at least");
+    let rows: Vec<(f64, f64)> = lines[1..]
+        .iter()
+        .map(|l| {
+            let mut it = l.split(',').map(|x| x.parse::<f64>().unwrap());
+            (it.next().unwrap(), it.next().unwrap())
+        })
+        .collect();
+    assert!(rows.windows(2).all(|w| w[1].0 >= w[0].0), "in time order");
+    assert_eq!(rows.last().unwrap().0, 2e-6);
+    let lowest = rows.iter().map(|r| r.1).fold(f64::INFINITY, f64::min);
+    assert!((lowest - min_v).abs() <= 1e-12, "CSV lowest {lowest} vs {min_v}");
+}
+
+/// Inputs that once asked for gigabytes or gave NaN: bounded, finite, or refused naming the flag (exit 2).
+#[test]
+fn droop_cost_is_bounded_and_bad_flags_are_named() {
+    let b = "sample_boards/edge_camera.json";
+    for args in [
+        vec!["droop", b, "--rail", "VDDR", "--window", "1", "--json"],
+        vec!["droop", b, "--rail", "VDDR", "--rise", "1e-15", "--json"],
+        vec!["droop", b, "--rail", "VCORE", "--window", "1e6", "--points", "100000", "--json"],
+    ] {
+        let (code, v, err) = json_of(&args);
+        assert!(matches!(code, Some(0 | 1)), "{args:?}: {code:?} {err}");
+        assert!(!has_null(&v), "{args:?}");
+        assert!(v["droop_v"].as_f64().unwrap().is_finite());
+    }
+    // `--window 1` gives the same droop as the default window, and a note that the window is long.
+    let (_, short, _) = json_of(&["droop", b, "--rail", "VDDR", "--json"]);
+    let (_, long, _) = json_of(&["droop", b, "--rail", "VDDR", "--window", "1", "--json"]);
+    assert!(rel(long["droop_v"].as_f64().unwrap(), short["droop_v"].as_f64().unwrap()) < 1e-9);
+    assert_eq!(long["meets"], short["meets"]);
+    for (flag, value) in [("--window", "4294967296"), ("--step", "1e308"), ("--rise", "0"), ("--rise", "1e-400")] {
+        let (code, _, err) = json_of(&["droop", b, "--rail", "VDDR", flag, value, "--json"]);
+        assert_eq!(code, Some(2), "{flag} {value}");
+        assert!(err.contains(flag), "{flag} {value}: {err}");
+    }
+    // The netlist and the report with droop run in bounded time too.
+    let out = hushrail()
+        .args(["netlist", b, "--rail", "VDDR", "--droop", "--window", "1"])
+        .current_dir(root())
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(0));
+    let dir = tempfile::tempdir().unwrap();
+    let html = dir.path().join("r.html");
+    let out = hushrail().args(["report", b, "-o", html.to_str().unwrap()]).current_dir(root()).output().unwrap();
+    assert_eq!(out.status.code(), Some(0), "{}", String::from_utf8_lossy(&out.stderr));
+}
+
+/// A source of 0.1 µΩ (a default window of seconds) and a rail with a part fitted from a Touchstone file.
+#[test]
+fn long_default_windows_and_measured_parts_are_bounded() {
+    let text = r#"{"format":"hushrail-board","version":1,"name":"r","parts":[{"id":"c","kind":"ceramic",
+      "capacitance_f":1e-5,"esr_ohm":0.003,"esl_h":5e-10}],
+      "rails":[{"name":"R","voltage_v":1.0,"ripple_pct":5,"band_hz":[1e3,1e8],"source":{"r_ohm":1e-7,"l_h":2e-8},
+      "loads":[{"name":"l","step_a":1,"rise_time_s":1e-9}],"decaps":[{"part":"c","count":4,"mounting_h":3e-10}]}]}"#;
+    let board = hushrail::io::parse_board(text, "r.json").unwrap();
+    let d = droop(&board, 0, &DroopOptions::default()).unwrap();
+    assert!(d.droop_v.is_finite() && d.waveform.iter().all(|p| p[1].is_finite()));
+    assert!(d.waveform.len() <= 3 * 2000 + 4);
+    for (stem, _, board) in reference_boards() {
+        for (i, rail) in board.rails.iter().enumerate() {
+            if rail.source.is_none() {
+                continue;
+            }
+            let d = droop(&board, i, &DroopOptions::default()).unwrap();
+            assert!(d.droop_v.is_finite(), "{stem}/{}", rail.name);
+        }
+    }
 }

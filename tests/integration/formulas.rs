@@ -19,7 +19,7 @@ fn rail(name: &str, groups: Vec<DecapGroup>, band: [f64; 2]) -> Rail {
         plane: None,
         package: None,
         die: None,
-        loads: vec![Load { name: "load".into(), step_a: 10.0, rise_time_s: None }],
+        loads: vec![Load::new("load", 10.0, None)],
         decaps: groups,
         placement: None,
     }

@@ -115,7 +115,7 @@ fn one_rail_board(parts: Vec<Part>, decaps: Vec<DecapGroup>, voltage: f64) -> Bo
             plane: None,
             package: None,
             die: None,
-            loads: vec![Load { name: "L".into(), step_a: 1.0, rise_time_s: None }],
+            loads: vec![Load::new("L", 1.0, None)],
             decaps,
             placement: None,
         }],
@@ -209,10 +209,7 @@ fn band_follows_the_fastest_rise_time() {
 #[test]
 fn rss_combination_sets_the_target() {
     let mut rail = one_rail_board(vec![], vec![], 1.0).rails.remove(0);
-    rail.loads = vec![
-        Load { name: "a".into(), step_a: 3.0, rise_time_s: None },
-        Load { name: "b".into(), step_a: 4.0, rise_time_s: None },
-    ];
+    rail.loads = vec![Load::new("a", 3.0, None), Load::new("b", 4.0, None)];
     assert!((target_impedance(&rail) - 0.05 / 7.0).abs() < 1e-15);
     rail.combine = Combine::Rss;
     assert!((target_impedance(&rail) - 0.01).abs() < 1e-15);

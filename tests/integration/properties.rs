@@ -127,11 +127,7 @@ fn board_strategy() -> impl Strategy<Value = Board> {
                     plane,
                     package: package.map(|p| p.0),
                     die: package.and_then(|p| p.1),
-                    loads: steps
-                        .into_iter()
-                        .enumerate()
-                        .map(|(i, (s, t))| Load { name: format!("L{i}"), step_a: s, rise_time_s: t })
-                        .collect(),
+                    loads: steps.into_iter().enumerate().map(|(i, (s, t))| Load::new(format!("L{i}"), s, t)).collect(),
                     decaps,
                     placement: None,
                 }

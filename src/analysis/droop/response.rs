@@ -1,0 +1,374 @@
+//! The exact response of the rail's modes to a piecewise-linear load current.
+//!
+//! Each mode x' = p·x + i(t) is advanced over a step h on which the current is linear by the ramp-invariant
+//! update x₁ = e^{ph}·x₀ + i₀·(e^{ph} − 1)/p + (i₁ − i₀)·(e^{ph} − 1 − ph)/(p²h), exact for any h, so the step is
+//! chosen only to see the waveform (its fastest mode still alive, the output grid, the load's corners), never for
+//! stability or accuracy. The voltage drop is Re Σ rₖ·xₖ + d·i + e·di/dt.
+
+use super::rational::Modal;
+use num_complex::Complex64;
+
+type C = Complex64;
+
+/// A piecewise-linear load current: corners (t, A) by time; 0 before the first, constant after the last.
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct Pwl {
+    pub corners: Vec<(f64, f64)>,
+}
+
+impl Pwl {
+    /// The current at t.
+    pub fn at(&self, t: f64) -> f64 {
+        let c = &self.corners;
+        if c.is_empty() || t <= c[0].0 {
+            return c.first().map_or(0.0, |_| if t < c[0].0 { 0.0 } else { c[0].1 });
+        }
+        let k = c.partition_point(|&(tc, _)| tc <= t);
+        if k >= c.len() {
+            return c[c.len() - 1].1;
+        }
+        let ((t0, i0), (t1, i1)) = (c[k - 1], c[k]);
+        if t1 > t0 { i0 + (i1 - i0) * (t - t0) / (t1 - t0) } else { i1 }
+    }
+
+    /// The slope just after t (right = true) or just before it.
+    pub fn slope(&self, t: f64, right: bool) -> f64 {
+        let c = &self.corners;
+        // The segment [c[k-1], c[k]] holding t (just after it, or just before it at a corner).
+        let k = if right { c.partition_point(|&(tc, _)| tc <= t) } else { c.partition_point(|&(tc, _)| tc < t) };
+        if k == 0 || k >= c.len() {
+            return 0.0;
+        }
+        let ((t0, i0), (t1, i1)) = (c[k - 1], c[k]);
+        if t1 > t0 { (i1 - i0) / (t1 - t0) } else { 0.0 }
+    }
+
+    /// The first corner strictly after t.
+    pub fn next_corner(&self, t: f64) -> Option<f64> {
+        let k = self.corners.partition_point(|&(tc, _)| tc <= t);
+        self.corners.get(k).map(|c| c.0)
+    }
+}
+
+/// (e^z − 1)/z and (e^z − 1 − z)/z², by their series near 0 where the direct forms cancel.
+fn phi12(z: C) -> (C, C) {
+    if z.norm() < 0.25 {
+        // Σ z^k/(k+1)! and Σ z^k/(k+2)!
+        let (mut t1, mut t2) = (C::new(1.0, 0.0), C::new(0.5, 0.0));
+        let (mut s1, mut s2) = (t1, t2);
+        for k in 1..18 {
+            t1 = t1 * z / (k as f64 + 1.0);
+            t2 = t2 * z / (k as f64 + 2.0);
+            s1 += t1;
+            s2 += t2;
+        }
+        (s1, s2)
+    } else {
+        let e = z.exp();
+        ((e - 1.0) / z, (e - 1.0 - z) / (z * z))
+    }
+}
+
+/// The modes' state and the update coefficients for the current step length.
+#[derive(Debug, Clone)]
+pub(super) struct Stepper<'a> {
+    pub modal: &'a Modal,
+    pub x: Vec<C>,
+    h: f64,
+    /// (e^{ph}, h·φ₁(ph), h·φ₂(ph)) per mode for step `h`.
+    coef: Vec<(C, C, C)>,
+}
+
+impl<'a> Stepper<'a> {
+    pub fn new(modal: &'a Modal) -> Stepper<'a> {
+        Stepper { modal, x: vec![C::new(0.0, 0.0); modal.modes.len()], h: f64::NAN, coef: Vec::new() }
+    }
+
+    /// Advance by h with the current going linearly from i0 to i1.
+    pub fn advance(&mut self, h: f64, i0: f64, i1: f64) {
+        if h <= 0.0 {
+            return;
+        }
+        if h != self.h {
+            self.h = h;
+            self.coef = self
+                .modal
+                .modes
+                .iter()
+                .map(|&(p, _)| {
+                    let z = p * h;
+                    let (f1, f2) = phi12(z);
+                    (z.exp(), f1 * h, f2 * h)
+                })
+                .collect();
+        }
+        let di = i1 - i0;
+        for (x, &(a, b0, b1)) in self.x.iter_mut().zip(&self.coef) {
+            *x = a * *x + b0 * i0 + b1 * di;
+        }
+    }
+
+    /// The voltage drop now, for a load current `i` with slope `di` at this instant.
+    pub fn drop_with(&self, modal: &Modal, i: f64, di: f64) -> f64 {
+        let sum: f64 = self.x.iter().zip(&modal.modes).map(|(x, &(_, r))| (r * x).re).sum();
+        sum + modal.d * i + modal.e * di
+    }
+
+    /// How far mode k is from its steady state under a constant current `i` (x = −i/p), times its residue.
+    fn deviation(&self, k: usize, i: f64) -> f64 {
+        let (p, r) = self.modal.modes[k];
+        let steady = if p.norm() > 0.0 { -i / p } else { C::new(0.0, 0.0) };
+        (r * (self.x[k] - steady)).norm()
+    }
+
+    /// A bound on how far the drop can still move from its final value under a constant current `i` from now on:
+    /// Σ |rₖ·(xₖ − xₖ,∞)| (no mode grows).
+    pub fn alive(&self, i: f64) -> f64 {
+        (0..self.x.len()).map(|k| self.deviation(k, i)).sum()
+    }
+
+    /// The fastest mode still more than `tol` from its steady state under `i`, rad/s (0 when none is).
+    pub fn fastest_alive(&self, tol: f64, i: f64) -> f64 {
+        (0..self.x.len())
+            .filter(|&k| self.deviation(k, i) > tol)
+            .map(|k| self.modal.modes[k].0.norm())
+            .fold(0.0, f64::max)
+    }
+
+    /// Advance from t0 to t1 under `load`, splitting the step at the load's corners.
+    pub fn advance_through(&mut self, load: &Pwl, t0: f64, t1: f64) {
+        let mut t = t0;
+        while t < t1 {
+            let next = load.next_corner(t).filter(|&c| c < t1).unwrap_or(t1);
+            self.advance(next - t, load.at(t), load.at(next));
+            t = next;
+        }
+    }
+}
+
+/// Voltage drops at the times the response was sampled.
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct Samples {
+    pub t: Vec<f64>,
+    /// The drop at the load's node (left limit at a corner where it jumps).
+    pub main: Vec<f64>,
+    /// The drop at the board node, when the load is at the die.
+    pub board: Option<Vec<f64>>,
+    /// The largest drop and where: (index of the sample before it, refined t, refined drop).
+    pub peak: (usize, f64, f64),
+    /// The same at the board node.
+    pub board_peak: Option<(usize, f64, f64)>,
+    /// The drop the response settles to (all modes gone), V.
+    pub final_drop: f64,
+    /// At the walk's end, a bound on how far the drop can still move from `final_drop` at any later time, V.
+    pub end_bound: f64,
+    /// Up to when the response was followed; at least the window unless the sample limit stopped it.
+    pub end_s: f64,
+    /// False when the sample limit stopped the walk before the window's end (the fastest live mode was not
+    /// resolved up to the end).
+    pub resolved: bool,
+    /// A mode with no damping carries part of the drop: it never settles and patterns can pump it without end.
+    pub undamped: bool,
+}
+
+/// How the walk is asked to run.
+pub(super) struct Walk<'a> {
+    pub main: &'a Modal,
+    pub board: Option<&'a Modal>,
+    pub load: &'a Pwl,
+    pub window_s: f64,
+    /// Output grid times that must be sampled (evenly spaced over the window).
+    pub grid_points: usize,
+    /// Most adaptive samples (beyond the grid and the corners).
+    pub max_samples: usize,
+}
+
+/// Samples per period of the fastest live mode (in |p|·h, radians per step).
+const RADIANS_PER_STEP: f64 = 0.15;
+
+/// Follow the response from t = 0: at every output grid time and load corner, and in between at a step that
+/// resolves the fastest mode still alive; past the window's end until no mode is left (so settling is judged on
+/// the whole future, not one sample), within the sample limit.
+pub(super) fn walk(w: &Walk) -> Samples {
+    let mut st = Stepper::new(w.main);
+    let final_current = w.load.corners.last().map_or(0.0, |c| c.1);
+    let final_drop = w.main.dc() * final_current;
+    // Scale of the response: every mode's size after the load's first edge, and the DC drop.
+    let slope_max =
+        w.load.corners.windows(2).map(|c| ((c[1].1 - c[0].1) / (c[1].0 - c[0].0)).abs()).fold(0.0, f64::max);
+    let first_edge = w.load.corners.windows(2).map(|c| c[1].0 - c[0].0).fold(f64::INFINITY, f64::min);
+    let potential = |p: C, r: C| -> f64 {
+        let z = p * first_edge;
+        let (_, f2) = phi12(z);
+        (r * f2).norm() * slope_max * first_edge * first_edge + (r / p).norm() * final_current.abs()
+    };
+    let scale = w.main.modes.iter().map(|&(p, r)| potential(p, r)).sum::<f64>() + final_drop.abs();
+    let tol = 1e-7 * scale.max(1e-300);
+    // The step resolves every mode carrying more than this of the response (a smaller one moves the extremes
+    // between samples by less than that).
+    let tol_res = 1e-5 * scale.max(1e-300);
+    // Where the load moves, resolve the fastest mode it can excite.
+    let fastest_possible =
+        w.main.modes.iter().filter(|&&(p, r)| potential(p, r) > tol_res).map(|(p, _)| p.norm()).fold(0.0, f64::max);
+    let h_fast = if fastest_possible > 0.0 { RADIANS_PER_STEP / fastest_possible } else { f64::INFINITY };
+    let grid_dt = w.window_s / (w.grid_points.max(2) - 1) as f64;
+    let mut t = 0.0;
+    let mut s = Samples {
+        t: vec![0.0],
+        main: vec![0.0],
+        board: w.board.map(|_| vec![0.0]),
+        peak: (0, 0.0, 0.0),
+        board_peak: w.board.map(|_| (0, 0.0, 0.0)),
+        final_drop,
+        end_bound: 0.0,
+        end_s: w.window_s,
+        resolved: true,
+        undamped: false,
+    };
+    let mut board_x: Option<Stepper> = w.board.map(Stepper::new);
+    let mut adaptive = 0usize;
+    let mut grid_k = 1usize;
+    let mut h_live = h_fast;
+    let mut count = 0usize;
+    let last_corner = w.load.corners.last().map_or(0.0, |c| c.0);
+    loop {
+        let live = st.alive(final_current);
+        let past_window = t >= w.window_s * (1.0 - 1e-12);
+        if past_window && (live <= 1e-6 * scale.max(1e-300) || undamped_alive(&st, tol, final_current)) {
+            break;
+        }
+        // Re-aim the step at the fastest mode still alive now and then (it gets longer as modes die out); each
+        // corner of the load excites every mode again, so the step starts over from the fastest there.
+        if count.is_multiple_of(32) && t > 0.0 {
+            let i_now = if t >= last_corner { final_current } else { w.load.at(t) };
+            let f = st.fastest_alive(tol_res, i_now);
+            h_live = if f > 0.0 { RADIANS_PER_STEP / f } else { f64::INFINITY };
+            if t < last_corner {
+                // Between corners the current may still ramp: never coarser than the ramp's own pace.
+                h_live = h_live.min(w.load.next_corner(t).map_or(f64::INFINITY, |c| (c - t).max(h_fast)));
+            }
+        }
+        count += 1;
+        let mut next = t + h_live.min(if past_window { f64::INFINITY } else { grid_dt });
+        let mut is_grid = false;
+        if !past_window {
+            let g = if grid_k + 1 >= w.grid_points {
+                w.window_s
+            } else {
+                w.window_s * grid_k as f64 / (w.grid_points - 1) as f64
+            };
+            if g <= next {
+                next = g;
+                is_grid = true;
+            }
+        }
+        let corner = w.load.next_corner(t);
+        if let Some(c) = corner.filter(|&c| c < next) {
+            next = c;
+            is_grid = false;
+        }
+        if !next.is_finite() {
+            break;
+        }
+        if is_grid {
+            grid_k += 1;
+        } else {
+            adaptive += 1;
+            if adaptive > w.max_samples {
+                if t < w.window_s {
+                    s.resolved = false;
+                }
+                break;
+            }
+        }
+        if corner == Some(next) {
+            h_live = h_fast;
+            count = 1;
+        }
+        let (i0, i1) = (w.load.at(t), w.load.at(next));
+        st.advance(next - t, i0, i1);
+        if let Some(b) = board_x.as_mut() {
+            b.advance(next - t, i0, i1);
+        }
+        t = next;
+        let slope_in = w.load.slope(t, false);
+        let v = st.drop_with(w.main, i1, slope_in);
+        s.t.push(t);
+        s.main.push(v);
+        if let (Some(b), Some(m), Some(bv)) = (&board_x, w.board, s.board.as_mut()) {
+            bv.push(b.drop_with(m, i1, slope_in));
+        }
+        // Where the slope jumps and the drop with it (a series inductance at the node), keep the right limit too.
+        let slope_out = w.load.slope(t, true);
+        if w.main.e != 0.0 && slope_out != slope_in {
+            s.t.push(t);
+            s.main.push(st.drop_with(w.main, i1, slope_out));
+            if let (Some(b), Some(m), Some(bv)) = (&board_x, w.board, s.board.as_mut()) {
+                bv.push(b.drop_with(m, i1, slope_out));
+            }
+        }
+    }
+    s.end_s = t;
+    s.end_bound = st.alive(final_current);
+    // An undamped mode still carrying part of the drop when the walk stopped.
+    s.undamped = undamped_alive(&st, 1e-4 * scale.max(1e-300), final_current);
+    s.peak = peak_of(&s.t, &s.main, w.main, w.load);
+    if let (Some(b), Some(m)) = (&s.board, w.board) {
+        s.board_peak = Some(peak_of(&s.t, b, m, w.load));
+    }
+    s
+}
+
+/// True when a mode without damping (Q beyond 10⁹) carries more than `tol` of the drop.
+fn undamped_alive(st: &Stepper, tol: f64, i: f64) -> bool {
+    (0..st.x.len()).any(|k| {
+        let p = st.modal.modes[k].0;
+        p.re.abs() <= 1e-9 * p.norm() && st.deviation(k, i) > tol
+    })
+}
+
+/// The largest drop: the largest sample, refined by a golden-section search on the exact response between its
+/// neighbours (no search at a corner of the load, where the drop has a kink or a jump).
+fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl) -> (usize, f64, f64) {
+    let Some((i, &best)) = v.iter().enumerate().max_by(|a, b| a.1.total_cmp(b.1)) else { return (0, 0.0, 0.0) };
+    if i == 0 || i + 1 >= t.len() || t[i - 1] == t[i] || t[i + 1] == t[i] {
+        return (i, t[i], best);
+    }
+    let at_corner = load.corners.iter().any(|&(c, _)| c == t[i]);
+    if at_corner {
+        return (i, t[i], best);
+    }
+    let (a, b) = (t[i - 1], t[i + 1]);
+    let drop_at = |x: f64| response_at(modal, load, x);
+    let g = 0.5 * (5f64.sqrt() - 1.0);
+    let (mut lo, mut hi) = (a, b);
+    let (mut c, mut d) = (hi - g * (hi - lo), lo + g * (hi - lo));
+    let (mut fc, mut fd) = (drop_at(c), drop_at(d));
+    for _ in 0..60 {
+        if fc > fd {
+            hi = d;
+            d = c;
+            fd = fc;
+            c = hi - g * (hi - lo);
+            fc = drop_at(c);
+        } else {
+            lo = c;
+            c = d;
+            fc = fd;
+            d = lo + g * (hi - lo);
+            fd = drop_at(d);
+        }
+        if hi - lo <= 1e-12 * hi.abs() {
+            break;
+        }
+    }
+    let (tm, vm) = if fc > fd { (c, fc) } else { (d, fd) };
+    if vm >= best { (i, tm, vm) } else { (i, t[i], best) }
+}
+
+/// The drop at one instant t (left limit at a corner), from rest at t = 0.
+pub(super) fn response_at(modal: &Modal, load: &Pwl, t: f64) -> f64 {
+    let mut st = Stepper::new(modal);
+    st.advance_through(load, 0.0, t);
+    st.drop_with(modal, load.at(t), load.slope(t, false))
+}
