@@ -43,8 +43,7 @@ fn sixty_ports() -> Board {
         groups.push(DecapGroup::new(*part, 25, 3e-10));
         spots.push(GroupPlacement { spots: GroupSpots::Each(each), port_m: None });
     }
-    let loads: Vec<Load> =
-        (0..4).map(|i| Load { name: format!("U{}", i + 1), step_a: 1.0, rise_time_s: None }).collect();
+    let loads: Vec<Load> = (0..4).map(|i| Load::new(format!("U{}", i + 1), 1.0, None)).collect();
     let load_spots = loads_at
         .iter()
         .map(|&at_m| LoadPlacement {

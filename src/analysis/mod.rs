@@ -17,17 +17,16 @@ mod worst;
 pub use advice::{Finding, Severity, explain, explain_band};
 pub use cautions::{Caution, CautionKind, cautions, derating_limit};
 pub use check::{
-    load_line,
-    CheckOptions, Kept, RailCheck, bias_words, check_board, check_rail, kept_words, search_words, sensitivity_words,
-    summary, verdict_word, vertex_words, view_words, yield_words,
+    CheckOptions, Kept, RailCheck, bias_words, check_board, check_rail, kept_words, load_line, search_words,
+    sensitivity_words, summary, verdict_word, vertex_words, view_words, yield_words,
 };
-pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use droop::{
     BandFilter, Droop, DroopError, DroopOptions, IntegratedStep, LINEAR_LIMIT, MAX_STEPS, Modal, NodeDroop,
     PatternResponse, Pulse, RISE_RANGE_S, RailModes, STEP_RANGE_A, Sustained, WINDOW_RANGE_S, WorstCase, droop,
     droop_figure, droop_lines, droop_stimulus_line, droop_verdict_line, pattern_response, rail_modes, step_integrated,
     worst_pattern_over,
 };
+pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;
 pub use network::{Branch, BranchKind, Network, Scale, View, group_branch, magnitude_phase};
 pub use optimize::{

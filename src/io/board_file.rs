@@ -606,7 +606,10 @@ impl Decoder {
     }
 
     fn decap_fields(&mut self, f: &Fields, path: &str) -> DecapGroup {
-        let count = self.required(f, "count").and_then(|v| self.count(v, &join(path, "count"), &crate::model::ranges::COUNT)).unwrap_or(1);
+        let count = self
+            .required(f, "count")
+            .and_then(|v| self.count(v, &join(path, "count"), &crate::model::ranges::COUNT))
+            .unwrap_or(1);
         let part = self.string(f, "part");
         match (f.map.get("mounting_h"), f.map.get("mounting")) {
             (Some(_), Some(_)) => {

@@ -252,10 +252,10 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
             c.range(format!("{lp}.rise_time_s"), *t, &ranges::RISE_TIME);
         }
         if let Some(t) = min_period_s {
-            c.positive(format!("{lp}.min_period_s"), *t);
+            c.range(format!("{lp}.min_period_s"), *t, &ranges::RISE_TIME);
         }
         if let Some(f) = clock_hz {
-            c.positive(format!("{lp}.clock_hz"), *f);
+            c.range(format!("{lp}.clock_hz"), *f, &ranges::FREQUENCY);
         }
         if min_period_s.is_some() && clock_hz.is_some() {
             c.push(format!("{lp}.clock_hz"), "give min_period_s or clock_hz, not both (one sets the other)");

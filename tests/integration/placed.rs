@@ -187,13 +187,13 @@ fn co_located_loads_share_one_verdict_under_either_combine_rule() {
         let mut two = all_at_one_point(placed("one_load.json"), 0.002);
         let rail = &mut two.rails[0];
         rail.combine = combine;
-        rail.loads.push(Load { name: "U2".into(), step_a: 0.5, rise_time_s: None });
+        rail.loads.push(Load::new("U2", 0.5, None));
         let mut second = rail.placement.as_ref().unwrap().loads[0];
         second.pins_m = Some([0.002, 0.002]);
         rail.placement.as_mut().unwrap().loads.push(second);
         let mut one = two.clone();
         let r1 = &mut one.rails[0];
-        r1.loads = vec![Load { name: "U1".into(), step_a: r1.total_step_a(), rise_time_s: None }];
+        r1.loads = vec![Load::new("U1", r1.total_step_a(), None)];
         r1.combine = Combine::Sum;
         r1.placement.as_mut().unwrap().loads.truncate(1);
         let options = AnalysisOptions::default();

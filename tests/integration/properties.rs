@@ -316,7 +316,7 @@ fn extreme_board_strategy() -> impl Strategy<Value = Board> {
                 plane: on[1].then_some(Plane { capacitance_f: plane.0, esr_ohm: plane.1, esl_h: plane.2 }),
                 package: on[2].then_some(Package { r_ohm: pkg.0, l_h: pkg.1 }),
                 die: on[2].then_some(Die { capacitance_f: pkg.2, esr_ohm: pkg.3 }),
-                loads: vec![Load { name: "L".into(), step_a: vrs.2, rise_time_s: None }],
+                loads: vec![Load::new("L", vrs.2, None)],
                 decaps: vec![DecapGroup::new("p", group.0.max(1), group.1)],
                 placement: None,
             }],
