@@ -40,11 +40,12 @@ pub fn mesh_netlist(
     at: usize,
     from: Option<usize>,
     data_file: &str,
+    corner: Corner,
 ) -> Result<String, String> {
     if rail.placement.is_none() {
         return Err(format!("rail {} is not placed (it has no plane_pair), so it has no plane to mesh", rail.name));
     }
-    let circuit = PlacedCircuit::of_rail(board, rail, Corner::Typical, sweep.to_hz)
+    let circuit = PlacedCircuit::of_rail(board, rail, corner, sweep.to_hz)
         .ok_or_else(|| format!("rail {} could not be built", rail.name))?;
     if at >= circuit.loads.len() || from.is_some_and(|f| f >= circuit.loads.len()) {
         return Err(format!("rail {} has no such load", rail.name));

@@ -477,7 +477,7 @@ fn droop_cost_is_bounded_and_bad_flags_are_named() {
     let b = "sample_boards/edge_camera.json";
     for args in [
         vec!["droop", b, "--rail", "VDDR", "--window", "1", "--json"],
-        vec!["droop", b, "--rail", "VDDR", "--rise", "1e-15", "--json"],
+        vec!["droop", b, "--rail", "VDDR", "--rise", "1e-12", "--json"],
         vec!["droop", b, "--rail", "VCORE", "--window", "1e6", "--points", "100000", "--json"],
     ] {
         let (code, v, err) = json_of(&args);

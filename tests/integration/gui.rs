@@ -80,11 +80,11 @@ fn settle(harness: &mut Harness<'_, App>) {
     panic!("the window never went idle");
 }
 
-/// Step the window (without insisting that it goes idle: a search in progress keeps asking for frames) until
-/// `label` shows, for at most `steps` frames a few milliseconds apart.
+/// Step the window (without insisting that it goes idle: a search in progress keeps asking for frames) until a
+/// label holding `label` shows, for at most `steps` frames a few milliseconds apart.
 fn step_until(harness: &mut Harness<'_, App>, label: &str, steps: usize) {
     for _ in 0..steps {
-        if harness.query_by_label(label).is_some() {
+        if harness.query_by_label_contains(label).is_some() {
             return;
         }
         std::thread::sleep(std::time::Duration::from_millis(20));
