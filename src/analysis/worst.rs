@@ -12,7 +12,7 @@
 //! proven bound on what the unexplored vertices could reach.
 
 use super::network::{Network, Scale, View, group_branch, invert};
-use crate::model::{Board, Rail};
+use crate::model::{Board, Part, Rail};
 use crate::physics::Corner;
 use num_complex::Complex64;
 
@@ -187,19 +187,40 @@ impl Frame {
 
     /// A proven upper bound of |Z| at point k when the board admittance lies in the disk (c, r).
     fn bound(&self, k: usize, c: Complex64, r: f64) -> f64 {
-        match &self.die {
-            None => {
-                let d = c.norm() - r;
-                if d > 0.0 { 1.0 / d } else { f64::INFINITY }
-            }
-            Some((zp, yd)) => {
-                let Some((c1, r1)) = disk_inverse(c, r) else { return f64::INFINITY };
-                let Some((c2, r2)) = disk_inverse(c1 + zp[k], r1) else { return f64::INFINITY };
-                let d = (c2 + yd[k]).norm() - r2;
-                if d > 0.0 { 1.0 / d } else { f64::INFINITY }
-            }
+        z_bound(c, r, self.die.as_ref().map(|(zp, yd)| (zp[k], yd[k])))
+    }
+}
+
+/// A proven upper bound of |Z| when the board node's admittance lies in the disk |y − c| ≤ r: seen from the board
+/// (`die` None), or from the die behind a package of impedance zp with a die admittance yd (`die` Some((zp, yd))).
+pub(super) fn z_bound(c: Complex64, r: f64, die: Option<(Complex64, Complex64)>) -> f64 {
+    match die {
+        None => {
+            let d = c.norm() - r;
+            if d > 0.0 { 1.0 / d } else { f64::INFINITY }
+        }
+        Some((zp, yd)) => {
+            let Some((c1, r1)) = disk_inverse(c, r) else { return f64::INFINITY };
+            let Some((c2, r2)) = disk_inverse(c1 + zp, r1) else { return f64::INFINITY };
+            let d = (c2 + yd).norm() - r2;
+            if d > 0.0 { 1.0 / d } else { f64::INFINITY }
         }
     }
+}
+
+/// A part's tolerance vertices: (capacitance end, ESR end, the factors they mean); one choice, the middle, for a
+/// part that gives no tolerance (or is measured). The worst corner's search and the optimizer both take them here.
+pub(super) fn vertex_choices(part: &Part) -> Vec<(Side, Side, Scale)> {
+    let (tc, tr) = (part.c_tolerance(), part.esr_tolerance());
+    let c_sides: &[Side] = if tc > 0.0 { &[Side::Low, Side::High] } else { &[Side::Middle] };
+    let r_sides: &[Side] = if tr > 0.0 { &[Side::Low, Side::High] } else { &[Side::Middle] };
+    let mut choices = Vec::new();
+    for &cs in c_sides {
+        for &rs in r_sides {
+            choices.push((cs, rs, Scale { c: cs.factor(tc), esr: rs.factor(tr) }));
+        }
+    }
+    choices
 }
 
 /// The image of the disk |z − c| ≤ r under 1/z, when the disk leaves out 0: the disk centred at
@@ -223,17 +244,9 @@ pub fn worst_vertex(board: &Board, rail: &Rail, view: View, freq_hz: &[f64], opt
         if group_branch(board, rail, i, corner, Scale::MIDDLE, None).is_none() {
             continue;
         }
-        let (tc, tr) = (part.c_tolerance(), part.esr_tolerance());
-        let c_sides: &[Side] = if tc > 0.0 { &[Side::Low, Side::High] } else { &[Side::Middle] };
-        let r_sides: &[Side] = if tr > 0.0 { &[Side::Low, Side::High] } else { &[Side::Middle] };
-        if c_sides.len() * r_sides.len() == 1 {
+        let choices = vertex_choices(part);
+        if choices.len() == 1 {
             continue;
-        }
-        let mut choices = Vec::new();
-        for &cs in c_sides {
-            for &rs in r_sides {
-                choices.push((cs, rs, Scale { c: cs.factor(tc), esr: rs.factor(tr) }));
-            }
         }
         let y: Vec<Vec<Complex64>> = choices
             .iter()

@@ -254,7 +254,9 @@ pub(super) fn package_floor(rail: &Rail, eval: &MixEvaluator, required: f64) -> 
 
 /// The count bound at the board node: at each grid point, the most admittance any mix within the limits can add
 /// is the largest |yᵢ| filled first (at most `max_per_part` of each, `max_total` in all, within the kinds slots),
-/// so |Z| ≥ 1 / (|Y_fixed| + that). Only claimed at the board view, where it is a proof.
+/// so |Z| ≥ 1 / (|Y_fixed| + that). In the worst corner each |yᵢ| is its least over the part's tolerance vertices
+/// and |Y_fixed| its most over the kept groups' (the mix at those vertices is one the engine's search weighs).
+/// Only claimed at the board view, where it is a proof.
 #[allow(clippy::too_many_arguments)]
 pub(super) fn count_floor(
     eval: &MixEvaluator,
@@ -273,7 +275,7 @@ pub(super) fn count_floor(
     let mut worst: Option<(f64, usize, usize, u32)> = None;
     let mut first_bad = None;
     for p in 0..eval.freq_hz.len() {
-        order.sort_by(|&a, &b| eval.unit(b)[p].norm().total_cmp(&eval.unit(a)[p].norm()));
+        order.sort_by(|&a, &b| eval.unit_least(b, p).total_cmp(&eval.unit_least(a, p)));
         let (mut left, mut slots, mut added, mut placed) = (max_total, kinds_free, 0.0, 0u32);
         for &i in &order {
             if left == 0 {
@@ -286,9 +288,9 @@ pub(super) fn count_floor(
             left -= n;
             slots -= slot[i];
             placed += n;
-            added += n as f64 * eval.unit(i)[p].norm();
+            added += n as f64 * eval.unit_least(i, p);
         }
-        let bound = 1.0 / (eval.fixed()[p].norm() + added);
+        let bound = 1.0 / (eval.fixed_most(p) + added);
         if bound > required {
             first_bad.get_or_insert(p);
             if worst.is_none_or(|w| bound / required > w.0 / required) {
@@ -300,8 +302,8 @@ pub(super) fn count_floor(
     let f = eval.freq_hz[p];
     let part = &candidates[best].part;
     let inductive = eval.unit(best)[p].im < 0.0;
-    let y_best = eval.unit(best)[p].norm();
-    let wanted = 1.0 / required - eval.fixed()[p].norm();
+    let y_best = eval.unit_least(best, p);
+    let wanted = 1.0 / required - eval.fixed_most(p);
     let needed_parts = (wanted > 0.0 && y_best > 0.0).then(|| (wanted / y_best).ceil() as u64);
     // With the allowed parts, each must have |z| ≤ placed / wanted; above resonance z ≈ R + jωL.
     let needed_mounting_h = (inductive && placed > 0 && wanted > 0.0).then_some(()).and_then(|_| {

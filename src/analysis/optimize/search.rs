@@ -101,7 +101,7 @@ impl<'a> Search<'a> {
 
     fn fresh(&mut self, counts: Vec<u32>) -> Mix {
         let y = self.p.eval.admittance(&counts);
-        let (worst, _, excess) = self.p.eval.score(&y, self.limit);
+        let (worst, _, excess) = self.p.eval.score(&y, &counts, self.limit);
         let objective = self.objective_of(&counts);
         self.record(&counts, objective, worst);
         let total = counts.iter().sum();
@@ -140,7 +140,7 @@ impl<'a> Search<'a> {
     ) {
         let k = counts.len();
         if i == k {
-            let (worst, _, _) = self.p.eval.score(&buffers[src], self.limit);
+            let (worst, _, _) = self.p.eval.score(&buffers[src], counts, self.limit);
             self.record(counts, objective, worst);
             return;
         }
@@ -179,7 +179,7 @@ impl<'a> Search<'a> {
         } else if was > 0 && m.counts[i] == 0 {
             m.slots -= self.p.slot[i];
         }
-        let (worst, _, excess) = self.p.eval.score(&m.y, self.limit);
+        let (worst, _, excess) = self.p.eval.score(&m.y, &m.counts, self.limit);
         m.worst = worst;
         m.excess = excess;
         m.objective = self.objective_of(&m.counts);
@@ -197,7 +197,7 @@ impl<'a> Search<'a> {
                     continue;
                 }
                 self.evaluations += 1;
-                let (worst, excess) = self.p.eval.score_with(&m.y, i, 1.0, self.limit);
+                let (worst, excess) = self.p.eval.score_with(&m.y, &m.counts, i, 1.0, self.limit);
                 let gain = (m.excess - excess) + (m.worst - worst) / self.limit;
                 let delta = self.p.unit[i] + if m.counts[i] == 0 { self.p.line[i] } else { 0.0 };
                 let score = gain / delta.max(1e-12);
@@ -252,7 +252,7 @@ impl<'a> Search<'a> {
                             *a += u * d as f64;
                         }
                     }
-                    let (worst, _, excess) = self.p.eval.score(&y, self.limit);
+                    let (worst, _, excess) = self.p.eval.score(&y, &counts, self.limit);
                     self.record(&counts, objective, worst);
                     if worst <= self.limit {
                         m = Mix { counts, y, worst, excess, objective, total, slots };
@@ -308,7 +308,7 @@ impl<'a> Search<'a> {
                 if !self.can_add(&m, i, None) {
                     continue;
                 }
-                let (worst, excess) = self.p.eval.score_with(&m.y, i, 1.0, self.limit);
+                let (worst, excess) = self.p.eval.score_with(&m.y, &m.counts, i, 1.0, self.limit);
                 if best.is_none_or(|(w, e, _)| (worst, excess) < (w, e)) {
                     best = Some((worst, excess, i));
                 }
