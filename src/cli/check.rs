@@ -184,8 +184,6 @@ fn to_json(board: &Board, trace: &Trace, checks: &[RailCheck], all_pass: bool) -
     })
 }
 
-/// "MEETS target at its die: worst effective |Z| 12.3 mΩ at 4.56 MHz, margin +3.2 dB".
-
 /// The verdict for people.
 fn to_text(board: &Board, trace: &Trace, checks: &[RailCheck]) -> String {
     let mut t = String::new();

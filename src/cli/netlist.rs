@@ -98,7 +98,8 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
         let at = args.at.as_deref().map(index).transpose()?.unwrap_or(0);
         let from_load = args.from_load.as_deref().map(index).transpose()?;
         let text =
-            mesh_netlist(&board, rail, &sweep, cell, at, from_load, &args.data, crate::physics::Corner::Typical).map_err(|e| format!("{file}: {e}"))?;
+            mesh_netlist(&board, rail, &sweep, cell, (at, from_load), &args.data, crate::physics::Corner::Typical)
+                .map_err(|e| format!("{file}: {e}"))?;
         return write_out(args, &board, &text);
     }
     let view = args.view.resolve(rail)?;

@@ -37,8 +37,7 @@ pub fn mesh_netlist(
     rail: &Rail,
     sweep: &AcSweep,
     cell_m: f64,
-    at: usize,
-    from: Option<usize>,
+    (at, from): (usize, Option<usize>),
     data_file: &str,
     corner: Corner,
 ) -> Result<String, String> {
