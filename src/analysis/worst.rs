@@ -59,6 +59,9 @@ pub struct GroupVertex {
     pub scale: Scale,
 }
 
+/// The most group-by-grid-point evaluations one search may spend (about a second on this project's machine).
+const MAX_SEARCH_WORK: u64 = 200_000_000;
+
 /// How the vertex was found.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum SearchMethod {
@@ -293,7 +296,10 @@ pub fn worst_vertex(board: &Board, rail: &Rail, view: View, freq_hz: &[f64], opt
         SearchMethod::Exhaustive
     } else {
         search.seed();
-        search.budget = options.node_budget;
+        // Each node costs about one pass over the varied groups at every grid point: keep the whole search to a
+        // bounded amount of work however many groups a rail has (a stopped search states its bound).
+        let per_node = (varied.len().max(1) * p.max(1)) as u64;
+        search.budget = options.node_budget.min((MAX_SEARCH_WORK / per_node).max(1));
         search.run(0);
         if search.unexplored > search.best { SearchMethod::Bounded } else { SearchMethod::BranchAndBound }
     };
@@ -365,42 +371,38 @@ impl<'a> Search<'a> {
         }
     }
 
-    /// The highest |Z| on the grid with every group fixed as in `choice`.
-    fn leaf_value(&self, choice: &[usize]) -> f64 {
-        let p = self.frame.y0.len();
-        let mut worst: f64 = 0.0;
-        for k in 0..p {
-            let mut y = self.frame.y0[k];
-            for (v, &c) in self.varied.iter().zip(choice) {
-                y += v.y[c][k];
-            }
-            let z = self.frame.z(k, y);
-            // A NaN never counts as worst; an infinite |Z| (an open node) does.
-            if z > worst {
-                worst = z;
-            }
-        }
-        worst
-    }
-
     /// A good vertex to start from, so the bound prunes early: one group at a time takes its worst choice with
-    /// the others held, until no change helps.
+    /// the others held, until no change helps. The node's admittance is kept as a running sum, so each try costs
+    /// one pass over the grid, not one over every group as well (a rail of thousands of groups stays quick).
     fn seed(&mut self) {
-        let mut choice = vec![0; self.varied.len()];
-        let mut best = self.leaf_value(&choice);
+        let p = self.frame.y0.len();
+        let frame = self.frame;
+        let varied = self.varied;
+        let value = |total: &[Complex64]| {
+            // A NaN never counts as worst; an infinite |Z| (an open node) does.
+            (0..p).map(|k| frame.z(k, total[k])).fold(0.0f64, |w, z| if z > w { z } else { w })
+        };
+        let mut choice = vec![0; varied.len()];
+        let mut total: Vec<Complex64> =
+            (0..p).map(|k| frame.y0[k] + varied.iter().map(|v| v.y[0][k]).sum::<Complex64>()).collect();
+        let mut best = value(&total);
+        let mut tries = 0;
         for _ in 0..4 {
             let mut changed = false;
-            for d in 0..self.varied.len() {
-                for c in 0..self.varied[d].choices.len() {
+            for (d, v) in varied.iter().enumerate() {
+                for c in 0..v.choices.len() {
                     let old = choice[d];
-                    choice[d] = c;
-                    let v = self.leaf_value(&choice);
-                    self.leaves += 1;
-                    if v > best {
-                        best = v;
+                    if c == old {
+                        continue;
+                    }
+                    let trial: Vec<Complex64> = (0..p).map(|k| total[k] - v.y[old][k] + v.y[c][k]).collect();
+                    let z = value(&trial);
+                    tries += 1;
+                    if z > best {
+                        best = z;
                         changed = true;
-                    } else {
-                        choice[d] = old;
+                        choice[d] = c;
+                        total = trial;
                     }
                 }
             }
@@ -408,6 +410,7 @@ impl<'a> Search<'a> {
                 break;
             }
         }
+        self.leaves += tries;
         self.best = best;
         self.best_choice = choice;
     }

@@ -721,8 +721,16 @@ pub fn has_non_finite(text: &str) -> bool {
 }
 
 /// JSON keys whose null is documented in README (a value that does not exist, not a failed computation).
-const DOCUMENTED_NULLS: &[&str] =
-    &["self_resonance_hz", "rise_time_s", "rated_voltage_v", "unit_cost", "area_m2", "one_fewer_ohm"];
+const DOCUMENTED_NULLS: &[&str] = &[
+    "self_resonance_hz",
+    "rise_time_s",
+    "rated_voltage_v",
+    "unit_cost",
+    "area_m2",
+    "one_fewer_ohm",
+    "inductive_side",
+    "capacitive_side",
+];
 
 fn has_bad_null(v: &Value, key: &str) -> bool {
     match v {
