@@ -239,18 +239,32 @@ pub fn vertex_words(a: &RailAnalysis) -> Vec<String> {
 }
 
 /// How the worst vertex was found, in words.
+/// A count of tolerance vertices in words: the number, or its size when it is past any plain figure.
+fn vertex_count_words(n: f64) -> String {
+    if n.is_finite() && n < 1e15 {
+        format!("{n:.0}")
+    } else if n.is_finite() {
+        format!("about 10^{:.0}", n.log10())
+    } else {
+        "more than 10^308".to_string()
+    }
+}
+
 pub fn search_words(a: &RailAnalysis) -> Option<String> {
     let v = a.vertex.as_ref()?;
     Some(match v.method {
         super::worst::SearchMethod::Exhaustive => {
-            format!("every one of {} tolerance vertices tried", v.vertices)
+            format!("every one of {} tolerance vertices tried", vertex_count_words(v.vertices))
         }
         super::worst::SearchMethod::BranchAndBound => {
-            format!("{} tolerance vertices searched by branch and bound: exact on the scan grid", v.vertices)
+            format!(
+                "{} tolerance vertices searched by branch and bound: exact on the scan grid",
+                vertex_count_words(v.vertices)
+            )
         }
         super::worst::SearchMethod::Bounded => format!(
             "{} tolerance vertices, search stopped at its budget: no vertex exceeds {} on the scan grid",
-            v.vertices,
+            vertex_count_words(v.vertices),
             format(v.bound_ohm, Unit::Ohm)
         ),
     })

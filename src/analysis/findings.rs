@@ -130,14 +130,20 @@ fn refine_extrema(
 }
 
 /// Golden-section search for the maximum of `g` on [a, b] (in ln f), to a relative width of `REFINE_TOL`.
-fn golden_section(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> f64 {
+fn golden_section(a: f64, b: f64, g: impl Fn(f64) -> f64) -> f64 {
+    // ln-domain width REFINE_TOL is a relative width of REFINE_TOL in f.
+    golden_section_max(a, b, REFINE_TOL, g).0
+}
+
+/// Golden-section search for the maximum of a unimodal `g` on [a, b] until the bracket is at most `width` wide
+/// (200 steps at most): the middle of the last bracket, and the best value seen at its inner points.
+pub(crate) fn golden_section_max(mut a: f64, mut b: f64, width: f64, g: impl Fn(f64) -> f64) -> (f64, f64) {
     let inv_phi = (5f64.sqrt() - 1.0) / 2.0;
     let mut c = b - inv_phi * (b - a);
     let mut d = a + inv_phi * (b - a);
     let (mut gc, mut gd) = (g(c), g(d));
-    // ln-domain width REFINE_TOL is a relative width of REFINE_TOL in f.
     for _ in 0..200 {
-        if (b - a).abs() <= REFINE_TOL {
+        if (b - a).abs() <= width {
             break;
         }
         if gc > gd {
@@ -154,7 +160,7 @@ fn golden_section(mut a: f64, mut b: f64, g: impl Fn(f64) -> f64) -> f64 {
             gd = g(d);
         }
     }
-    (a + b) / 2.0
+    ((a + b) / 2.0, gc.max(gd))
 }
 
 /// Bisect in ln f for where |Z| crosses the target between a sample below it and one above it.

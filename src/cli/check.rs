@@ -80,6 +80,10 @@ fn summary_json(a: &RailAnalysis) -> Value {
             "method": w.method.name(), "vertices": w.vertices, "evaluated": w.evaluated,
             "grid_worst_ohm": w.grid_worst_ohm, "bound_ohm": w.bound_ohm,
         });
+        // Past f64's range the count is left out (documented in README), never written as null.
+        if !w.vertices.is_finite() {
+            v["search"].as_object_mut().map(|o| o.remove("vertices"));
+        }
         v["groups"] = w
             .groups
             .iter()

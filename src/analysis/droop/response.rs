@@ -340,29 +340,8 @@ fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl) -> (usize, f64, f64)
     }
     let (a, b) = (t[i - 1], t[i + 1]);
     let drop_at = |x: f64| response_at(modal, load, x);
-    let g = 0.5 * (5f64.sqrt() - 1.0);
-    let (mut lo, mut hi) = (a, b);
-    let (mut c, mut d) = (hi - g * (hi - lo), lo + g * (hi - lo));
-    let (mut fc, mut fd) = (drop_at(c), drop_at(d));
-    for _ in 0..60 {
-        if fc > fd {
-            hi = d;
-            d = c;
-            fd = fc;
-            c = hi - g * (hi - lo);
-            fc = drop_at(c);
-        } else {
-            lo = c;
-            c = d;
-            fc = fd;
-            d = lo + g * (hi - lo);
-            fd = drop_at(d);
-        }
-        if hi - lo <= 1e-12 * hi.abs() {
-            break;
-        }
-    }
-    let (tm, vm) = if fc > fd { (c, fc) } else { (d, fd) };
+    let (tm, _) = crate::analysis::findings::golden_section_max(a, b, 1e-12 * b.abs(), drop_at);
+    let vm = drop_at(tm);
     if vm >= best { (i, tm, vm) } else { (i, t[i], best) }
 }
 
