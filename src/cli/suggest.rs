@@ -293,40 +293,9 @@ fn option_json(candidates: &[Candidate], o: &MixOption) -> Value {
     v
 }
 
+/// A blocker's JSON: its serialisation (kind and figures) and its words.
 fn blocker_json(b: &Blocker) -> Value {
-    let mut v = match b {
-        Blocker::Package { at_hz, floor_ohm, required_ohm, package_l_h, needed_l_h, band_top_hz } => {
-            json!({"at_hz": at_hz, "floor_ohm": floor_ohm, "required_ohm": required_ohm, "package_l_h": package_l_h,
-                   "needed_l_h": needed_l_h, "band_top_hz": band_top_hz})
-        }
-        Blocker::Count {
-            at_hz,
-            floor_ohm,
-            required_ohm,
-            best_part,
-            inductive,
-            allowed_parts,
-            needed_parts,
-            mounting_h,
-            needed_mounting_h,
-            band_top_hz,
-        } => json!({"at_hz": at_hz, "floor_ohm": floor_ohm, "required_ohm": required_ohm, "best_part": best_part,
-                    "inductive": inductive, "allowed_parts": allowed_parts, "needed_parts": needed_parts,
-                    "mounting_h": mounting_h, "needed_mounting_h": needed_mounting_h, "band_top_hz": band_top_hz}),
-        Blocker::Kinds { max_kinds, needed_kinds } => json!({"max_kinds": max_kinds, "needed_kinds": needed_kinds}),
-        Blocker::Margin { margin_db, best_margin_db } => {
-            json!({"margin_db": margin_db, "best_margin_db": best_margin_db})
-        }
-        Blocker::Droop { checked, best_droop_v, allowed_v } => {
-            json!({"checked": checked, "best_droop_v": best_droop_v, "allowed_v": allowed_v})
-        }
-        Blocker::NotFound { max_total, max_per_part } => json!({"max_total": max_total, "max_per_part": max_per_part}),
-    };
-    // Figures that do not apply (null) are left out.
-    if let Some(map) = v.as_object_mut() {
-        map.retain(|_, x| !x.is_null());
-    }
-    v["kind"] = json!(b.kind());
+    let mut v = serde_json::to_value(b).unwrap_or_else(|_| json!({"kind": b.kind()}));
     v["text"] = json!(b.words());
     v
 }

@@ -7,7 +7,7 @@ use super::number_field::Fields;
 use super::pins::Pin;
 use super::results::Results;
 use super::theme;
-use crate::io::{BoardError, read_board_keeping_unusable, write_board};
+use crate::io::{BoardError, read_board_keeping_unusable, read_board_keeping_unusable_traced, write_board};
 use crate::model::Board;
 use egui::{Key, KeyboardShortcut, Modifiers, RichText, Ui, ViewportCommand};
 use std::path::{Path, PathBuf};
@@ -30,6 +30,9 @@ pub struct Document {
     pub label: String,
     /// Its edits, for undo/redo and the unsaved-changes mark.
     pub history: History,
+    /// SHA-256 of the bytes the board was read from or last saved as (what a report of the unchanged board
+    /// judged, even if the file on disk changes later); `None` when the board came from elsewhere (a test).
+    pub sha256: Option<String>,
 }
 
 /// Which page the side panel shows.
@@ -125,7 +128,7 @@ impl App {
     /// A window on `board`, keeping nothing on disk (no recent files, no autosave): for tests and benchmarks.
     pub fn new_with_board(board: Board, label: impl Into<String>, path: Option<PathBuf>) -> App {
         App {
-            doc: Document { board, path, label: label.into(), history: History::new() },
+            doc: Document { board, path, label: label.into(), history: History::new(), sha256: None },
             results: Results::default(),
             selected_rail: 0,
             selected_finding: None,
@@ -164,19 +167,27 @@ impl App {
     /// The window as the program opens it: on `path` (or the built-in sample when `None` or when the file is
     /// broken, with its errors shown), with recent files, theme and autosave kept in `store`.
     pub fn open(path: Option<&Path>, store: Store) -> App {
-        let sample = || match crate::samples::default_board() {
-            Ok(b) => b,
-            // The built-in sample is checked by the tests; should it ever fail, start from an empty-looking but
-            // valid board rather than panic.
-            Err(_) => fallback_board(),
-        };
         let sample_label = format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME);
+        let sample = || {
+            let mut app = match crate::samples::default_board() {
+                Ok(b) => App::new_with_board(b, sample_label.clone(), None),
+                // The built-in sample is checked by the tests; should it ever fail, start from an empty-looking
+                // but valid board rather than panic.
+                Err(_) => return App::new_with_board(fallback_board(), sample_label.clone(), None),
+            };
+            app.doc.sha256 = Some(crate::io::sha256_hex(crate::samples::default_board_text().as_bytes()));
+            app
+        };
         let mut app = match path {
-            None => App::new_with_board(sample(), sample_label, None),
-            Some(p) => match read_board_keeping_unusable(p) {
-                Ok(board) => App::new_with_board(board, file_label(p), Some(p.to_path_buf())),
+            None => sample(),
+            Some(p) => match read_board_keeping_unusable_traced(p) {
+                Ok((board, sha256)) => {
+                    let mut app = App::new_with_board(board, file_label(p), Some(p.to_path_buf()));
+                    app.doc.sha256 = Some(sha256);
+                    app
+                }
                 Err(e) => {
-                    let mut app = App::new_with_board(sample(), sample_label, None);
+                    let mut app = sample();
                     app.load_error = Some(e);
                     app
                 }
@@ -288,13 +299,14 @@ impl App {
 
     /// Open a board file now. A broken file is shown with its errors and the current board stays.
     pub fn open_now(&mut self, path: &Path) {
-        match read_board_keeping_unusable(path) {
-            Ok(board) => {
+        match read_board_keeping_unusable_traced(path) {
+            Ok((board, sha256)) => {
                 self.doc = Document {
                     board,
                     path: Some(path.to_path_buf()),
                     label: file_label(path),
                     history: History::new(),
+                    sha256: Some(sha256),
                 };
                 self.results.clear();
                 self.suggest.forget();
@@ -341,6 +353,7 @@ impl App {
     pub fn save_to(&mut self, path: &Path) -> bool {
         match write_board(path, &self.doc.board) {
             Ok(()) => {
+                self.doc.sha256 = Some(crate::io::board_sha256(&self.doc.board));
                 self.doc.path = Some(path.to_path_buf());
                 self.doc.label = file_label(path);
                 self.doc.history.mark_saved();
@@ -571,6 +584,7 @@ impl App {
                 path: None,
                 label: format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME),
                 history: History::new(),
+                sha256: Some(crate::io::sha256_hex(crate::samples::default_board_text().as_bytes())),
             };
             self.results.clear();
             self.suggest.forget();
@@ -698,7 +712,8 @@ impl App {
                     Some(p) => format!("{} (restored)", file_label(p)),
                     None => "restored work".into(),
                 };
-                self.doc = Document { board, path: left.origin.clone(), label, history: History::new_unsaved() };
+                self.doc =
+                    Document { board, path: left.origin.clone(), label, history: History::new_unsaved(), sha256: None };
                 self.results.clear();
                 self.suggest.forget();
                 self.fields.clear();

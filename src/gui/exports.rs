@@ -4,7 +4,7 @@
 use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
 use crate::analysis::{DroopOptions, droop};
-use crate::io::{ReportContext, board_sha256, report_html, sha256_hex, utc_date_today, write_png, write_report};
+use crate::io::{ReportContext, board_sha256, report_html, utc_date_today, write_png, write_report};
 use egui::{ColorImage, Context, Rect};
 use std::path::{Path, PathBuf};
 use std::sync::Arc;
@@ -37,11 +37,10 @@ impl App {
             ),
             None => (self.doc.label.clone(), "hushrail check".to_string()),
         };
-        // The hash of the bytes the board came from when it is unchanged and on disk as opened; else of the
-        // board as shown.
-        let sha256 = match (&self.doc.path, unsaved_edits) {
-            (Some(p), false) => std::fs::read(p).map(|b| sha256_hex(&b)).unwrap_or_else(|_| board_sha256(board)),
-            (None, false) => sha256_hex(crate::samples::default_board_text().as_bytes()),
+        // The hash of the bytes the board was read from (or saved as) when it is unchanged, taken then: the file
+        // on disk may have changed since, and the report names what it judged. Else of the board as shown.
+        let sha256 = match (&self.doc.sha256, unsaved_edits) {
+            (Some(read), false) => read.clone(),
             _ => board_sha256(board),
         };
         let context = ReportContext { source, sha256, command, date: utc_date_today(), unsaved_edits };

@@ -50,26 +50,9 @@ pub struct SuggestState {
     pub other: Option<(PathBuf, Result<Board, String>)>,
     /// Part ids the user took out of the offer.
     pub excluded: BTreeSet<String>,
-    /// What to minimise.
-    pub objective: Objective,
-    /// Most parts in all.
-    pub max_total: u32,
-    /// Most parts of one candidate.
-    pub max_per_part: u32,
-    /// Most distinct parts on the rail.
-    pub max_kinds: u32,
-    /// Cost of each new line item, added to the cost objective.
-    pub line_cost: f64,
-    /// Margin under target, dB.
-    pub margin_db: f64,
-    /// The corner every option must meet target in.
-    pub corner: Corner,
-    /// Every option must also keep the step droop within the allowed band.
-    pub droop: bool,
-    /// How many options to show.
-    pub options: usize,
-    /// Keep the rail's existing groups (else the mix replaces them).
-    pub keep_existing: bool,
+    /// The search's settings as the user set them (the engine's own options type, so every setting the engine
+    /// takes is here once).
+    pub settings: SuggestOptions,
     shelf: Option<Result<Board, String>>,
     running: Option<(SearchRun, Receiver<Result<Suggestion, String>>)>,
     /// The last search's run and answer.
@@ -78,22 +61,12 @@ pub struct SuggestState {
 
 impl Default for SuggestState {
     fn default() -> Self {
-        let d = SuggestOptions::default();
         SuggestState {
             from_shelf: true,
             from_board: false,
             other: None,
             excluded: BTreeSet::new(),
-            objective: d.objective,
-            max_total: d.max_total,
-            max_per_part: d.max_per_part,
-            max_kinds: d.max_kinds,
-            line_cost: d.line_cost,
-            margin_db: d.margin_db,
-            corner: d.corner,
-            droop: d.droop,
-            options: d.options,
-            keep_existing: d.keep_existing,
+            settings: SuggestOptions::default(),
             shelf: None,
             running: None,
             done: None,
@@ -158,27 +131,20 @@ impl App {
             .filter(|p| !s.excluded.contains(&p.id) && p.unusable().is_none())
             .map(|part| Candidate { part, mounting_h })
             .collect();
+        let settings = &s.settings;
         let options = SuggestOptions {
-            objective: s.objective,
-            max_total: s.max_total,
-            max_per_part: s.max_per_part,
-            max_kinds: s.max_kinds,
-            line_cost: if s.objective == Objective::Cost { s.line_cost } else { 0.0 },
-            margin_db: s.margin_db,
-            corner: s.corner,
-            droop: s.droop,
-            options: s.options.max(1),
-            keep_existing: s.keep_existing,
-            ..SuggestOptions::default()
+            line_cost: if settings.objective == Objective::Cost { settings.line_cost } else { 0.0 },
+            options: settings.options.max(1),
+            ..*settings
         };
         let run = SearchRun {
             rail: index,
             rail_name: rail.name.clone(),
             revision: self.doc.history.revision(),
             candidates: candidates.clone(),
-            keep_existing: s.keep_existing,
-            margin_db: s.margin_db,
-            corner: s.corner,
+            keep_existing: options.keep_existing,
+            margin_db: options.margin_db,
+            corner: options.corner,
         };
         let board = self.doc.board.clone();
         let (tx, rx) = channel();
@@ -308,43 +274,49 @@ impl App {
         egui::Grid::new("suggest-limits").num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
             ui.label("Least");
             ui.horizontal(|ui| {
-                ui.radio_value(&mut s.objective, Objective::Cost, "cost");
-                ui.radio_value(&mut s.objective, Objective::Count, "count");
-                ui.radio_value(&mut s.objective, Objective::Area, "area");
+                ui.radio_value(&mut s.settings.objective, Objective::Cost, "cost");
+                ui.radio_value(&mut s.settings.objective, Objective::Count, "count");
+                ui.radio_value(&mut s.settings.objective, Objective::Area, "area");
             });
             ui.end_row();
             let l = ui.label("Most parts in all");
-            ui.add(egui::DragValue::new(&mut s.max_total).range(1..=ranges::MAX_TOTAL)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.settings.max_total).range(1..=ranges::MAX_TOTAL)).labelled_by(l.id);
             ui.end_row();
             let l = ui.label("Most of one part");
-            ui.add(egui::DragValue::new(&mut s.max_per_part).range(1..=ranges::MAX_PER_PART)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.settings.max_per_part).range(1..=ranges::MAX_PER_PART))
+                .labelled_by(l.id);
             ui.end_row();
             let l = ui.label("Most kinds of part");
-            ui.add(egui::DragValue::new(&mut s.max_kinds).range(1..=ranges::MAX_KINDS)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.settings.max_kinds).range(1..=ranges::MAX_KINDS)).labelled_by(l.id);
             ui.end_row();
             let l = ui.label("Cost per new line item");
             ui.add_enabled(
-                s.objective == Objective::Cost,
-                egui::DragValue::new(&mut s.line_cost).range(0.0..=ranges::LINE_COST).speed(0.01),
+                s.settings.objective == Objective::Cost,
+                egui::DragValue::new(&mut s.settings.line_cost).range(0.0..=ranges::LINE_COST).speed(0.01),
             )
             .labelled_by(l.id);
             ui.end_row();
             let l = ui.label("Margin under target, dB");
-            ui.add(egui::DragValue::new(&mut s.margin_db).range(0.0..=ranges::MARGIN_DB).speed(0.1).fixed_decimals(1))
-                .labelled_by(l.id);
+            ui.add(
+                egui::DragValue::new(&mut s.settings.margin_db)
+                    .range(0.0..=ranges::MARGIN_DB)
+                    .speed(0.1)
+                    .fixed_decimals(1),
+            )
+            .labelled_by(l.id);
             ui.end_row();
             ui.label("Meet target in");
             ui.horizontal(|ui| {
-                ui.radio_value(&mut s.corner, VERDICT_CORNER, "the check's corner");
-                ui.radio_value(&mut s.corner, Corner::Worst, "the worst corner");
+                ui.radio_value(&mut s.settings.corner, VERDICT_CORNER, "the check's corner");
+                ui.radio_value(&mut s.settings.corner, Corner::Worst, "the worst corner");
             });
             ui.end_row();
             let l = ui.label("Options to show");
-            ui.add(egui::DragValue::new(&mut s.options).range(1..=ranges::OPTIONS)).labelled_by(l.id);
+            ui.add(egui::DragValue::new(&mut s.settings.options).range(1..=ranges::OPTIONS)).labelled_by(l.id);
             ui.end_row();
         });
-        ui.checkbox(&mut s.droop, "also keep the step droop within the allowed band (slower)");
-        ui.checkbox(&mut s.keep_existing, "keep the rail's existing groups (else the mix replaces them)");
+        ui.checkbox(&mut s.settings.droop, "also keep the step droop within the allowed band (slower)");
+        ui.checkbox(&mut s.settings.keep_existing, "keep the rail's existing groups (else the mix replaces them)");
         ui.label(
             RichText::new(format!(
                 "Each candidate is mounted with {} (the mean of the rail's groups, or 0.5 nH on a rail with none).",

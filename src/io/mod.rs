@@ -28,7 +28,7 @@ pub use touchstone::{
     DataFormat, Fixture, Parameter, Touchstone, TouchstoneError, Version, one_port_s_to_z, parse_touchstone,
     ports_from_extension, read_touchstone, s1p_string, shunt_through_s21_to_z, write_s1p, z_to_one_port_s,
 };
-pub use trace::{Trace, board_sha256, read_board_traced, sha256_hex};
+pub use trace::{Trace, board_sha256, read_board_keeping_unusable_traced, read_board_traced, sha256_hex};
 pub use write::{write_atomically, write_outputs};
 
 use crate::model::Problem;

@@ -63,6 +63,14 @@ pub fn read_board_traced(path: &Path) -> Result<(Board, String), BoardError> {
     super::board_file::refuse_unusable(path, board).map(|b| (b, digest))
 }
 
+/// Read and check a board file as [`super::read_board_keeping_unusable`] does (the window's reader), and the
+/// SHA-256 of exactly the bytes read: what a report of the unchanged board judged, even if the file changes later.
+pub fn read_board_keeping_unusable_traced(path: &Path) -> Result<(Board, String), BoardError> {
+    let bytes = super::board_file::read_board_bytes(path)?;
+    let digest = sha256_hex(&bytes);
+    super::board_file::board_from_bytes(path, bytes).map(|b| (b, digest))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -687,6 +687,14 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     };
     assert_eq!(written, hushrail::io::report_html(&board, &context, Some(&droops)));
     assert!(!written.contains("UNSAVED EDITS"));
+    // The file changing on disk after it was opened does not change what the report says it judged: the hash
+    // is of the bytes read when the board was opened (checked against the sha256 of those bytes above).
+    let read_hash = context.sha256.clone();
+    std::fs::write(&board_path, format!("{}\n\n", std::fs::read_to_string(&board_path).unwrap())).unwrap();
+    assert!(app.save_report_to(&out));
+    let again = std::fs::read_to_string(&out).unwrap();
+    assert!(again.contains(&read_hash), "the hash of the bytes read at opening");
+    assert!(!again.contains(&hushrail::io::sha256_hex(&std::fs::read(&board_path).unwrap())));
     // With an edit not saved, the report says so and carries the hash of the board as shown.
     let count = app.board().rails[0].decaps[0].count + 1;
     app.edit(hushrail::gui::history::Edit::SetCount { rail: 0, group: 0, count }, "one more", false).unwrap();

@@ -12,7 +12,11 @@ use crate::units::{Unit, format};
 use num_complex::Complex64;
 
 /// One thing that stops every mix from meeting the requirement.
-#[derive(Debug, Clone, PartialEq)]
+///
+/// Its machine form (the JSON of `suggest --json`) is its serialisation: `"kind"` (see [`Blocker::kind`]) and
+/// each field under its own name, a figure that does not apply (`None`) left out.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+#[serde(tag = "kind", rename_all = "kebab-case")]
 pub enum Blocker {
     /// The package: even with an ideal board (its rail node held at 0 Ω), |Z| at the die is above what is required.
     /// Reported only when no mix qualifies.
@@ -26,8 +30,10 @@ pub enum Blocker {
         /// The package's inductance, H.
         package_l_h: f64,
         /// The package inductance at or below which the floor meets the requirement over the band, H.
+        #[serde(skip_serializing_if = "Option::is_none")]
         needed_l_h: Option<f64>,
         /// The highest band edge at which the floor meets the requirement, Hz.
+        #[serde(skip_serializing_if = "Option::is_none")]
         band_top_hz: Option<f64>,
     },
     /// The count limits: even the most parts allowed, each the candidate that lowers |Z| most at one frequency,
@@ -46,12 +52,15 @@ pub enum Blocker {
         /// Parts the limits allow at most at that frequency (in all, of each, and kinds together).
         allowed_parts: u32,
         /// Parts of the best candidate that would reach the requirement there.
+        #[serde(skip_serializing_if = "Option::is_none")]
         needed_parts: Option<u64>,
         /// The best candidate's mounting inductance, H.
         mounting_h: f64,
         /// The mounting inductance at or below which the allowed parts would reach the requirement there, H.
+        #[serde(skip_serializing_if = "Option::is_none")]
         needed_mounting_h: Option<f64>,
         /// The highest band edge below which the bound meets the requirement, Hz (when the floor is inductive).
+        #[serde(skip_serializing_if = "Option::is_none")]
         band_top_hz: Option<f64>,
     },
     /// No mix of at most this many kinds was found; one with more was.
@@ -87,7 +96,8 @@ pub enum Blocker {
 }
 
 impl Blocker {
-    /// A short name for machines: "package", "count", "kinds", "margin", "droop", "not-found".
+    /// A short name for machines: "package", "count", "kinds", "margin", "droop", "not-found" (the JSON's
+    /// `"kind"`, the variant's name in kebab case).
     pub fn kind(&self) -> &'static str {
         match self {
             Blocker::Package { .. } => "package",
@@ -325,4 +335,33 @@ pub(super) fn count_floor(
         needed_mounting_h,
         band_top_hz,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_json_kind_is_the_short_name_and_absent_figures_are_left_out() {
+        let all = [
+            Blocker::Package {
+                at_hz: 1e8,
+                floor_ohm: 0.02,
+                required_ohm: 0.01,
+                package_l_h: 1e-10,
+                needed_l_h: None,
+                band_top_hz: Some(5e7),
+            },
+            Blocker::Kinds { max_kinds: 2, needed_kinds: 3 },
+            Blocker::Margin { margin_db: 1.0, best_margin_db: 0.5 },
+            Blocker::Droop { checked: 4, best_droop_v: 0.06, allowed_v: 0.05 },
+            Blocker::NotFound { max_total: 10, max_per_part: 5 },
+        ];
+        for b in &all {
+            let v = serde_json::to_value(b).unwrap();
+            assert_eq!(v["kind"], b.kind());
+        }
+        let v = serde_json::to_value(&all[0]).unwrap();
+        assert!(v.get("needed_l_h").is_none() && v["band_top_hz"] == 5e7);
+    }
 }
