@@ -32,8 +32,8 @@ pub use network::{Branch, BranchKind, Network, Scale, View, group_branch, magnit
 pub use optimize::{
     Blocker, Candidate, CornerFigures, DEFAULT_MARGIN_DB, DISTINCT_TOLERANCE, DroopFigures, EXHAUSTIVE_LIMIT,
     MAX_CANDIDATES, MixEvaluator, MixOption, Objective, SHORTLIST_SIZE, Shortfall, SuggestError, SuggestOptions,
-    Suggestion, VERDICT_CORNER, apply_mix, area_words, corner_words, cost_words, default_mounting_h, offered_parts,
-    other_corner, plural, ranges, suggest,
+    Suggestion, VERDICT_CORNER, apply_mix, area_words, corner_words, cost_words, default_mounting_h, new_parts_spot,
+    offered_parts, other_corner, plural, ranges, spot_words, suggest,
 };
 pub use rail::{
     AnalysisOptions, AntiResonance, BranchRef, Curve, GroupInfo, RailAnalysis, analyze_board, analyze_rail, curve_of,

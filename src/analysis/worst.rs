@@ -228,7 +228,7 @@ pub(super) fn vertex_choices(part: &Part) -> Vec<(Side, Side, Scale)> {
 
 /// The image of the disk |z − c| ≤ r under 1/z, when the disk leaves out 0: the disk centred at
 /// conj(c) / (|c|² − r²) with radius r / (|c|² − r²) (a Möbius map takes circles to circles).
-fn disk_inverse(c: Complex64, r: f64) -> Option<(Complex64, f64)> {
+pub(super) fn disk_inverse(c: Complex64, r: f64) -> Option<(Complex64, f64)> {
     let d = c.norm_sqr() - r * r;
     (d > 0.0 && d.is_finite()).then(|| (c.conj() / d, r / d))
 }

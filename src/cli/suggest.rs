@@ -89,6 +89,14 @@ pub struct SuggestArgs {
     /// Mounting inductance of each added part ("0.6n") [default: the mean of the rail's groups, or 0.5 nH].
     #[arg(long)]
     pub mounting: Option<String>,
+    /// On a placed rail: put the new parts beside this load (just outside its pin field) [default: beside the
+    /// load that fares worst].
+    #[arg(long, conflicts_with = "spot")]
+    pub beside: Option<String>,
+    /// On a placed rail: put the new parts at this point of the plane pair, "X,Y" from its lower-left corner in
+    /// metres ("0.031,0.02").
+    #[arg(long)]
+    pub spot: Option<String>,
     /// Print JSON instead of text.
     #[arg(long)]
     pub json: bool,
@@ -146,7 +154,9 @@ pub fn run(args: &SuggestArgs) -> Result<i32, String> {
         ObjectiveArg::Count => Objective::Count,
         ObjectiveArg::Area => Objective::Area,
     };
+    let spot_m = spot_flag(args, rail, &file)?;
     let options = SuggestOptions {
+        spot_m,
         objective,
         max_total: args.max_total,
         max_per_part: args.max_per_part,
@@ -160,9 +170,35 @@ pub fn run(args: &SuggestArgs) -> Result<i32, String> {
         ..Default::default()
     };
     let s = suggest(&board, index, &candidates, &options).map_err(|e| format!("{file}: rail {}: {e}", rail.name))?;
-    let header = Header { rail: &rail.name, from: &from, candidates: &candidates, options: &options, mounting_h };
+    let spot = crate::analysis::spot_words(rail, &s);
+    let header =
+        Header { rail: &rail.name, from: &from, candidates: &candidates, options: &options, mounting_h, spot: &spot };
     emit(&if args.json { to_json(&header, &s) } else { to_text(&header, &s) });
     Ok(if s.options.is_empty() { EXIT_MISS } else { EXIT_PASS })
+}
+
+/// The spot for new parts the flags give: --spot's point, or beside --beside's load (on a placed rail only).
+fn spot_flag(args: &SuggestArgs, rail: &crate::model::Rail, file: &str) -> Result<Option<[f64; 2]>, String> {
+    if let Some(text) = &args.spot {
+        let xy: Vec<&str> = text.split(',').map(str::trim).collect();
+        let [x, y] = xy[..] else {
+            return Err(format!("--spot: give two coordinates \"X,Y\" in metres, not \"{text}\""));
+        };
+        let coordinate = |t: &str| crate::units::parse(t, Unit::Metre).map_err(|e| format!("--spot: {e}"));
+        return Ok(Some([coordinate(x)?, coordinate(y)?]));
+    }
+    let Some(name) = &args.beside else { return Ok(None) };
+    let Some(placement) = &rail.placement else {
+        return Err(format!(
+            "{file}: --beside needs a placed rail (one with a plane_pair); rail {} is lumped",
+            rail.name
+        ));
+    };
+    let k = rail.loads.iter().position(|l| &l.name == name).ok_or_else(|| {
+        let names: Vec<&str> = rail.loads.iter().map(|l| l.name.as_str()).collect();
+        format!("{file}: rail {} has no load \"{name}\" (its loads: {})", rail.name, names.join(", "))
+    })?;
+    Ok(placement.beside_load(k))
 }
 
 /// What a search was asked, for its printout.
@@ -172,6 +208,8 @@ struct Header<'a> {
     candidates: &'a [Candidate],
     options: &'a SuggestOptions,
     mounting_h: f64,
+    /// Where new parts go on a placed rail, in words (empty on a lumped rail).
+    spot: &'a str,
 }
 
 /// The parts of a mix in words: "3 × a + 5 × b".
@@ -244,6 +282,9 @@ fn to_text(h: &Header, s: &Suggestion) -> String {
         let _ = write!(rules, " The {} candidates were cut to the {n} that could matter.", h.candidates.len());
     }
     let _ = writeln!(t, "{rules}");
+    if !h.spot.is_empty() {
+        let _ = writeln!(t, "{}", h.spot);
+    }
     for (n, m) in s.options.iter().enumerate() {
         let _ = writeln!(t, "option {}: {}", n + 1, mix_words(h.candidates, &m.counts));
         option_text(&mut t, m);
@@ -311,6 +352,9 @@ fn to_json(h: &Header, s: &Suggestion) -> String {
         "options": s.options.iter().map(|m| option_json(h.candidates, m)).collect::<Vec<_>>(),
         "blockers": s.blockers.iter().map(blocker_json).collect::<Vec<_>>(),
     });
+    if let Some(spot) = s.spot_m {
+        v["spot_m"] = json!(spot);
+    }
     if let Some(n) = s.shortlisted {
         v["shortlisted"] = json!(n);
     }

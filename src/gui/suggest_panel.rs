@@ -10,7 +10,7 @@ use super::results::{Look, compute_with};
 use super::theme;
 use crate::analysis::{
     Candidate, CornerFigures, MixOption, Objective, SuggestOptions, Suggestion, VERDICT_CORNER, apply_mix, area_words,
-    corner_words, cost_words, default_mounting_h, offered_parts, plural, ranges, suggest,
+    corner_words, cost_words, default_mounting_h, offered_parts, plural, ranges, spot_words, suggest,
 };
 use crate::io::read_board_keeping_unusable;
 use crate::model::Board;
@@ -53,6 +53,8 @@ pub struct SuggestState {
     /// The search's settings as the user set them (the engine's own options type, so every setting the engine
     /// takes is here once).
     pub settings: SuggestOptions,
+    /// On a placed rail: the load the new parts go beside (`None`: the one that fares worst).
+    pub beside: Option<usize>,
     shelf: Option<Result<Board, String>>,
     running: Option<(SearchRun, Receiver<Result<Suggestion, String>>)>,
     /// The last search's run and answer.
@@ -67,6 +69,7 @@ impl Default for SuggestState {
             other: None,
             excluded: BTreeSet::new(),
             settings: SuggestOptions::default(),
+            beside: None,
             shelf: None,
             running: None,
             done: None,
@@ -132,9 +135,12 @@ impl App {
             .map(|part| Candidate { part, mounting_h })
             .collect();
         let settings = &s.settings;
+        // On a placed rail the new parts go beside the chosen load (or, by default, the one that fares worst).
+        let spot_m = rail.placement.as_ref().zip(s.beside).and_then(|(p, k)| p.beside_load(k));
         let options = SuggestOptions {
             line_cost: if settings.objective == Objective::Cost { settings.line_cost } else { 0.0 },
             options: settings.options.max(1),
+            spot_m,
             ..*settings
         };
         let run = SearchRun {
@@ -166,7 +172,7 @@ impl App {
         if run.rail >= self.doc.board.rails.len() {
             return;
         }
-        let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing);
+        let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing, s.spot_m);
         let Some(result) =
             compute_with(&board, run.rail, Look { both_views: false, worst_corner: false, ..self.results.look() })
         else {
@@ -188,7 +194,7 @@ impl App {
             self.status = Some(("The board changed since this search: find mixes again.".into(), true));
             return;
         }
-        let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing);
+        let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing, s.spot_m);
         let label = format!("apply suggested option {} to {}", n + 1, run.rail_name);
         match self.edit(Edit::SetBoard { value: Box::new(board) }, label.clone(), false) {
             Ok(()) => {
@@ -317,6 +323,25 @@ impl App {
         });
         ui.checkbox(&mut s.settings.droop, "also keep the step droop within the allowed band (slower)");
         ui.checkbox(&mut s.settings.keep_existing, "keep the rail's existing groups (else the mix replaces them)");
+        if rail.placement.is_some() {
+            let name = |k: Option<usize>| match k.and_then(|k| rail.loads.get(k)) {
+                Some(l) => l.name.clone(),
+                None => "the load that fares worst".to_string(),
+            };
+            ui.horizontal(|ui| {
+                let l = ui.label("New parts go beside");
+                egui::ComboBox::from_id_salt("suggest-beside")
+                    .selected_text(name(s.beside))
+                    .show_ui(ui, |ui| {
+                        ui.selectable_value(&mut s.beside, None, name(None));
+                        for k in 0..rail.loads.len() {
+                            ui.selectable_value(&mut s.beside, Some(k), name(Some(k)));
+                        }
+                    })
+                    .response
+                    .labelled_by(l.id);
+            });
+        }
         ui.label(
             RichText::new(format!(
                 "Each candidate is mounted with {} (the mean of the rail's groups, or 0.5 nH on a rail with none).",
@@ -371,6 +396,12 @@ impl App {
             ))
             .small(),
         );
+        if let Some(rail) = self.doc.board.rails.get(run.rail) {
+            let spot = spot_words(rail, s);
+            if !spot.is_empty() {
+                ui.label(RichText::new(spot).small());
+            }
+        }
         if let Some(n) = s.shortlisted {
             ui.label(
                 RichText::new(format!(

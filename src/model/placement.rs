@@ -140,6 +140,28 @@ pub struct Placement {
     pub loads: Vec<LoadPlacement>,
 }
 
+impl Placement {
+    /// A spot for new parts beside load `k`: just outside its pin field (the pin field's half side plus one
+    /// part's port from its centre), on the side nearest the plane's middle where a part's port fits inside the
+    /// outline; the pin field's centre when no side has room. `None` when there is no such load.
+    pub fn beside_load(&self, k: usize) -> Option<[f64; 2]> {
+        let pins = self.loads.get(k)?.port();
+        let size = self.plane_pair.size_m;
+        let (dx, dy) = (pins.w / 2.0 + DEFAULT_PART_PORT_M, pins.h / 2.0 + DEFAULT_PART_PORT_M);
+        let mut sides = [[pins.x + dx, pins.y], [pins.x - dx, pins.y], [pins.x, pins.y + dy], [pins.x, pins.y - dy]];
+        let middle = [size[0] / 2.0, size[1] / 2.0];
+        let distance = |p: &[f64; 2]| (p[0] - middle[0]).hypot(p[1] - middle[1]);
+        sides.sort_by(|a, b| distance(a).total_cmp(&distance(b)));
+        let fits = |p: &[f64; 2]| spot_problem(*p, size).is_none();
+        Some(sides.into_iter().find(fits).unwrap_or([pins.x, pins.y]))
+    }
+}
+
+/// Why a new part's port (of the default side) cannot sit at `spot_m` on a plane pair of `size`, if it cannot.
+pub fn spot_problem(spot_m: [f64; 2], size: [f64; 2]) -> Option<String> {
+    port_problem(PortRect::square(spot_m[0], spot_m[1], DEFAULT_PART_PORT_M), size, "the spot for new parts")
+}
+
 /// The rules of a placed rail, each problem with its JSON path. `path` is the rail's path.
 pub fn placement_problems(rail: &Rail, path: &str) -> Vec<Problem> {
     let mut out = Vec::new();

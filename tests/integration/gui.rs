@@ -614,6 +614,32 @@ fn a_search_that_finds_no_mix_says_why_and_offers_nothing_to_apply() {
     assert!(harness.query_by_label_contains("The package is the limit").is_some());
 }
 
+/// On a placed rail the panel says where new parts go, and an applied option puts its groups there: the rail's
+/// placement keeps one entry per group and the engine's verdict at the load is the one shown.
+#[test]
+fn a_mix_suggested_on_a_placed_rail_goes_beside_its_load() {
+    let mut board =
+        hushrail::io::read_board(&crate::common::root().join("tests/networks/placed/far_part.json")).unwrap();
+    board.rails[0].band_hz = Some([1e4, 2e8]);
+    let mut harness = window(board.clone());
+    click(&mut harness, "Suggest");
+    assert!(harness.query_by_label("New parts go beside").is_some(), "a placed rail asks where new parts go");
+    harness.get_by_label("Find mixes").click();
+    harness.step();
+    step_until(&mut harness, "Apply option 1", 3000);
+    harness.run();
+    let spot = board.rails[0].placement.as_ref().unwrap().beside_load(0).unwrap();
+    let words = format!("New parts go at ({:.1} mm, {:.1} mm), beside U5", spot[0] * 1e3, spot[1] * 1e3);
+    assert!(harness.query_by_label_contains(&words).is_some(), "shown: {words}");
+    click(&mut harness, "Apply option 1");
+    let applied = harness.state().board().clone();
+    let placement = applied.rails[0].placement.as_ref().unwrap();
+    assert_eq!(placement.groups.len(), applied.rails[0].decaps.len());
+    assert!(placement.groups.iter().all(|g| g.spots == hushrail::model::GroupSpots::At(spot)));
+    assert!(engine(&applied, 0).meets_target, "the engine finds the rail meeting target at its load");
+    assert_shows(&harness, &engine(&applied, 0));
+}
+
 /// A copy of the sample board in a fresh folder with two measured parts on its first rail: one whose Touchstone
 /// file is good, one whose file has a line with a value missing.
 fn board_with_measured_parts(dir: &Path) -> PathBuf {

@@ -14,6 +14,7 @@ mod ngspice;
 mod physics;
 mod placed;
 mod placed_ngspice;
+mod placed_suggest;
 mod plane_pair;
 mod properties;
 mod report;

@@ -52,8 +52,12 @@ fn cost(board: &Board, c: &[Candidate], counts: &[u32], line: f64) -> f64 {
 
 /// The engine's verdict on a fitted mix: worst |Z| at or under target less `margin_db` in `corner`.
 fn engine_accepts(board: &Board, rail: usize, c: &[Candidate], m: &[u32], corner: Corner, margin_db: f64) -> bool {
-    let a = analyze_rail(&apply_mix(board, rail, c, m, false), rail, &AnalysisOptions { corner, ..Default::default() })
-        .unwrap();
+    let a = analyze_rail(
+        &apply_mix(board, rail, c, m, false, None),
+        rail,
+        &AnalysisOptions { corner, ..Default::default() },
+    )
+    .unwrap();
     a.worst_ohm <= a.target_ohm * 10f64.powf(-margin_db / 20.0) * (1.0 + 1e-12)
 }
 
@@ -109,10 +113,10 @@ fn the_grid_judges_a_mix_as_the_engine_does_in_every_corner() {
     let rail = board.rail_index("VDDR").unwrap();
     let c = shelf_candidates(&["shelf-c100n-0402", "shelf-c1u-0402", "shelf-c10u-0603", "shelf-poly-220u-7343"], 6e-10);
     for corner in Corner::ALL {
-        let eval = MixEvaluator::in_corner(&board, rail, &c, false, 2000, corner);
+        let eval = MixEvaluator::in_corner(&board, rail, &c, false, 2000, corner, None);
         for m in [[0, 6, 0, 2], [0, 0, 6, 1], [3, 2, 1, 1], [6, 0, 0, 0], [1, 1, 1, 1]] {
             let grid = eval.judge(&m).0;
-            let fitted = apply_mix(&board, rail, &c, &m, false);
+            let fitted = apply_mix(&board, rail, &c, &m, false, None);
             let a = analyze_rail(&fitted, rail, &AnalysisOptions { corner, ..Default::default() }).unwrap();
             let sampled = sweep_in(&fitted, &fitted.rails[rail], &eval.freq_hz, a.view, corner)
                 .iter()
@@ -157,7 +161,7 @@ fn heuristic_is_within_two_percent_of_the_best_known_cost() {
     assert!(!s.exhaustive, "past the exhaustive limit");
     // Best known: every mix with at most four kinds, screened on the grid (the engine's refined worst |Z| over the
     // tolerance vertices is never below a grid sample of the same curves), then the cheapest the engine accepts.
-    let eval = MixEvaluator::in_corner(&board, rail, &c, false, 300, corner);
+    let eval = MixEvaluator::in_corner(&board, rail, &c, false, 300, corner, None);
     let required = eval.target() * 10f64.powf(-margin_db / 20.0);
     let mut feasible: Vec<(f64, Vec<u32>)> = mixes(c.len(), max, kinds as usize)
         .into_iter()
@@ -196,7 +200,7 @@ fn every_option_keeps_its_margin_in_its_corner_its_kinds_and_is_distinct() {
         assert!(!s.options.is_empty(), "{rail_name}: {:?}", s.blockers);
         for o in &s.options {
             assert!(o.accepted);
-            let fitted = apply_mix(&board, rail, &c, &o.counts, false);
+            let fitted = apply_mix(&board, rail, &c, &o.counts, false, None);
             let a = analyze_rail(&fitted, rail, &AnalysisOptions { corner, ..Default::default() }).unwrap();
             assert!(a.margin_db >= margin_db - 1e-9, "{rail_name}: {} dB in {corner:?}", a.margin_db);
             assert_eq!(a.worst_ohm, o.judged.worst_ohm, "the figures are the engine's");
@@ -233,7 +237,7 @@ fn with_droop_every_option_keeps_the_step_droop_within_the_band() {
     let s = suggest(&board, rail, &c, &options).unwrap();
     assert!(!s.options.is_empty(), "{:?}", s.blockers);
     for o in &s.options {
-        let d = droop(&apply_mix(&board, rail, &c, &o.counts, false), rail, &Default::default()).unwrap();
+        let d = droop(&apply_mix(&board, rail, &c, &o.counts, false, None), rail, &Default::default()).unwrap();
         assert!(d.meets && o.droop.unwrap().meets, "{} V against {} V", d.droop_v, d.allowed_v);
     }
 }
@@ -248,7 +252,7 @@ fn best_option_agrees_with_ngspice() {
     let rail = board.rail_index("VDDR").unwrap();
     let c = shelf_candidates(&["shelf-c100n-0402", "shelf-c1u-0402", "shelf-c10u-0603", "shelf-poly-220u-7343"], 6e-10);
     let s = suggest(&board, rail, &c, &SuggestOptions { max_per_part: 8, options: 1, ..Default::default() }).unwrap();
-    let fitted = apply_mix(&board, rail, &c, &s.options[0].counts, false);
+    let fitted = apply_mix(&board, rail, &c, &s.options[0].counts, false, None);
     let r = &fitted.rails[rail];
     let sweep = AcSweep { from_hz: 1e3, to_hz: 1e9, points_per_decade: 10 };
     let rows = parse_wrdata(&run_ngspice(&rail_netlist(&fitted, r, &sweep, Default::default(), "out.txt"), "out.txt"))
@@ -313,7 +317,7 @@ fn a_count_floor_is_a_true_bound() {
         panic!("a count floor: {:?}", s.blockers)
     };
     for m in mixes(2, 6, 2).into_iter().filter(|m| m.iter().sum::<u32>() <= 6) {
-        let fitted = apply_mix(&board, rail, &c, &m, false);
+        let fitted = apply_mix(&board, rail, &c, &m, false, None);
         let z = Network::of_rail(&fitted, &fitted.rails[rail]).impedance(*at_hz).norm();
         assert!(z >= floor_ohm * (1.0 - 1e-9), "{m:?}: {z} below the floor {floor_ohm}");
         assert!(!engine_accepts(&board, rail, &c, &m, Corner::Typical, 0.0), "{m:?} meets target");

@@ -13,6 +13,7 @@
 //! worst found so far: usually a few around the peaks.
 
 use super::Candidate;
+use super::placed_form::PlacedForm;
 use crate::analysis::network::{Branch, BranchKind, Network, Scale, View, group_branch};
 use crate::analysis::rail::target_impedance;
 use crate::analysis::worst::{vertex_choices, z_bound};
@@ -73,6 +74,9 @@ pub struct MixEvaluator {
     spreads: bool,
     /// Package and die impedances per grid point when the verdict is at the die.
     die: Option<(Vec<Complex64>, Vec<Option<Complex64>>)>,
+    /// On a placed rail: the loads' view with the new parts at one spot (the fixed admittance is then zero: the
+    /// source, the plane pair and the kept groups are inside the form).
+    placed: Option<PlacedForm>,
     target: f64,
 }
 
@@ -112,11 +116,12 @@ impl BranchMaker {
 impl MixEvaluator {
     /// Prepare the grid for a rail and candidates, with the part values as the check takes them.
     pub fn new(board: &Board, rail_index: usize, candidates: &[Candidate], keep_existing: bool, points: usize) -> Self {
-        Self::in_corner(board, rail_index, candidates, keep_existing, points, super::VERDICT_CORNER)
+        Self::in_corner(board, rail_index, candidates, keep_existing, points, super::VERDICT_CORNER, None)
     }
 
     /// Prepare the grid for a rail and candidates in `corner`: every part derated for it, and in the worst corner
-    /// every group over its tolerance vertices.
+    /// every group over its tolerance vertices. On a placed rail the new parts sit at `spot_m` (required there:
+    /// without it the rail is judged as one node) and the mix is judged at the loads.
     pub fn in_corner(
         board: &Board,
         rail_index: usize,
@@ -124,11 +129,19 @@ impl MixEvaluator {
         keep_existing: bool,
         points: usize,
         corner: Corner,
+        spot_m: Option<[f64; 2]>,
     ) -> Self {
         let rail = &board.rails[rail_index];
         let mut fixed_rail = rail.clone();
         if !keep_existing {
             fixed_rail.decaps.clear();
+            if let Some(p) = fixed_rail.placement.as_mut() {
+                p.groups.clear();
+            }
+        }
+        let placed_spot = spot_m.filter(|_| rail.placement.is_some());
+        if placed_spot.is_none() {
+            fixed_rail.placement = None;
         }
         let network = Network::of_rail_in(board, &fixed_rail, corner);
         let band = rail.band_hz_or_default();
@@ -142,10 +155,12 @@ impl MixEvaluator {
         freq_hz.sort_by(f64::total_cmp);
         freq_hz.dedup();
         let worst = corner == Corner::Worst;
-        // In the worst corner, the kept groups that vary leave the fixed sum for their own spread.
+        let placed = placed_spot.and_then(|spot| PlacedForm::new(board, &fixed_rail, spot, corner, &freq_hz));
+        // In the worst corner, the kept groups that vary leave the fixed sum for their own spread (on a placed
+        // rail they stay inside the circuit, at their middle values: the engine's re-check judges the mix).
         let mut kept_spread = Vec::new();
         let mut varies = vec![false; fixed_rail.decaps.len()];
-        if worst {
+        if worst && placed.is_none() {
             for (j, g) in fixed_rail.decaps.iter().enumerate() {
                 let Some(part) = board.part(&g.part) else { continue };
                 let choices = vertex_choices(part);
@@ -162,6 +177,9 @@ impl MixEvaluator {
             .iter()
             .enumerate()
             .map(|(p, &f)| {
+                if placed.is_some() {
+                    return Complex64::default();
+                }
                 let own: Complex64 = network
                     .branches
                     .iter()
@@ -191,7 +209,7 @@ impl MixEvaluator {
                 (None, None) => vec![Complex64::default(); freq_hz.len()],
             })
             .collect();
-        let die = (network.verdict_view() == View::Die).then(|| {
+        let die = (placed.is_none() && network.verdict_view() == View::Die).then(|| {
             let pkg = freq_hz
                 .iter()
                 .map(|&f| network.package.as_ref().map_or(Complex64::default(), |p| p.impedance(f)))
@@ -208,6 +226,7 @@ impl MixEvaluator {
             kept_spread,
             spreads,
             die,
+            placed,
             target: target_impedance(rail),
         }
     }
@@ -270,6 +289,17 @@ impl MixEvaluator {
         self.die.is_some()
     }
 
+    /// True when the mix is judged at the loads of a placed rail.
+    pub(super) fn is_placed(&self) -> bool {
+        self.placed.is_some()
+    }
+
+    /// On a placed rail, with a perfect short where the new parts go: the worst load's effective impedance at
+    /// grid point `p` and that load's index.
+    pub(super) fn shorted_at_spot(&self, p: usize) -> Option<(f64, usize)> {
+        self.placed.as_ref().map(|f| f.shorted(p))
+    }
+
     /// The package and die impedance at grid point `p`, when the verdict is at the die.
     pub(super) fn package_and_die(&self, p: usize) -> Option<(Complex64, Option<Complex64>)> {
         self.die.as_ref().map(|(pkg, die)| (pkg[p], die[p]))
@@ -278,6 +308,9 @@ impl MixEvaluator {
     /// |Z| in the verdict's view at grid point `p` for a board-node admittance `y`.
     #[inline]
     pub(super) fn magnitude(&self, p: usize, y: Complex64) -> f64 {
+        if let Some(form) = &self.placed {
+            return form.magnitude(p, y);
+        }
         let z = inverse(y);
         match &self.die {
             None => z.norm(),
@@ -290,6 +323,9 @@ impl MixEvaluator {
 
     /// A proven upper bound of |Z| at grid point `p` when the board-node admittance lies in the disk (c, r).
     fn bound(&self, p: usize, c: Complex64, r: f64) -> f64 {
+        if let Some(form) = &self.placed {
+            return form.bound(p, c, r);
+        }
         z_bound(c, r, self.die.as_ref().map(|(pkg, die)| (pkg[p], die[p].map_or(Complex64::default(), inverse))))
     }
 

@@ -36,6 +36,24 @@ pub enum Blocker {
         #[serde(skip_serializing_if = "Option::is_none")]
         band_top_hz: Option<f64>,
     },
+    /// The plane pair on a placed rail: even a perfect short where the new parts go leaves a load's effective
+    /// impedance above what is required (the planes between that spot and the load, and the load's package, are
+    /// in the way). Reported only when no mix qualifies.
+    Planes {
+        /// Where it is highest above the requirement, Hz.
+        at_hz: f64,
+        /// The worst load's effective impedance there with the spot shorted, Ω.
+        floor_ohm: f64,
+        /// The worst |Z| allowed (target less the margin), Ω.
+        required_ohm: f64,
+        /// The load it is at.
+        load: String,
+        /// Where the new parts go, m.
+        spot_m: [f64; 2],
+        /// The highest band edge at which the shorted spot meets the requirement, Hz.
+        #[serde(skip_serializing_if = "Option::is_none")]
+        band_top_hz: Option<f64>,
+    },
     /// The count limits: even the most parts allowed, each the candidate that lowers |Z| most at one frequency,
     /// leave |Z| above what is required there (a bound by the triangle inequality on admittances).
     Count {
@@ -96,11 +114,12 @@ pub enum Blocker {
 }
 
 impl Blocker {
-    /// A short name for machines: "package", "count", "kinds", "margin", "droop", "not-found" (the JSON's
+    /// A short name for machines: "package", "planes", "count", "kinds", "margin", "droop", "not-found" (the JSON's
     /// `"kind"`, the variant's name in kebab case).
     pub fn kind(&self) -> &'static str {
         match self {
             Blocker::Package { .. } => "package",
+            Blocker::Planes { .. } => "planes",
             Blocker::Count { .. } => "count",
             Blocker::Kinds { .. } => "kinds",
             Blocker::Margin { .. } => "margin",
@@ -130,6 +149,24 @@ impl Blocker {
                     hz(*at_hz),
                     ohm(*required_ohm),
                     if fixes.is_empty() { "a lower package resistance".to_string() } else { either(&fixes) }
+                )
+            }
+            Blocker::Planes { at_hz, floor_ohm, required_ohm, load, spot_m, band_top_hz } => {
+                let mut fixes = vec!["new parts placed closer to the load".to_string(), "a thinner dielectric".into()];
+                if let Some(f) = band_top_hz {
+                    fixes.push(format!("a band ending at {} or lower", hz(*f)));
+                }
+                format!(
+                    "The planes are the limit: even a perfect short where the new parts go ({:.1} mm, {:.1} mm) \
+                     leaves the effective impedance at {load} at {} at {}, above the {} required; the plane pair \
+                     between that spot and the load (and its package, if it has one) is in the way. With {}, it may \
+                     become feasible.",
+                    spot_m[0] * 1e3,
+                    spot_m[1] * 1e3,
+                    ohm(*floor_ohm),
+                    hz(*at_hz),
+                    ohm(*required_ohm),
+                    either(&fixes)
                 )
             }
             Blocker::Count {
@@ -262,6 +299,33 @@ pub(super) fn package_floor(rail: &Rail, eval: &MixEvaluator, required: f64) -> 
     })
 }
 
+/// The plane pair on a placed rail: each load's effective impedance with a perfect short where the new parts go,
+/// against `required`. Like the package's figure this is the ideal case (a diagnosis, not a proof: a finite
+/// admittance at the spot could in principle tune a resonance lower than a short does).
+pub(super) fn planes_floor(
+    rail: &Rail,
+    eval: &MixEvaluator,
+    required: f64,
+    spot_m: Option<[f64; 2]>,
+) -> Option<Blocker> {
+    let spot_m = spot_m?;
+    let n = eval.freq_hz.len();
+    let floors: Vec<(f64, usize)> = (0..n).map(|p| eval.shorted_at_spot(p)).collect::<Option<_>>()?;
+    let (at, &(worst, load)) = floors.iter().enumerate().max_by(|a, b| a.1.0.total_cmp(&b.1.0))?;
+    if worst <= required {
+        return None;
+    }
+    let first_bad = floors.iter().position(|(z, _)| *z > required);
+    Some(Blocker::Planes {
+        at_hz: eval.freq_hz[at],
+        floor_ohm: worst,
+        required_ohm: required,
+        load: rail.loads.get(load).map_or_else(String::new, |l| l.name.clone()),
+        spot_m,
+        band_top_hz: first_bad.filter(|&p| p > 0).map(|p| eval.freq_hz[p - 1]),
+    })
+}
+
 /// The count bound at the board node: at each grid point, the most admittance any mix within the limits can add
 /// is the largest |yᵢ| filled first (at most `max_per_part` of each, `max_total` in all, within the kinds slots),
 /// so |Z| ≥ 1 / (|Y_fixed| + that). In the worst corner each |yᵢ| is its least over the part's tolerance vertices
@@ -277,7 +341,9 @@ pub(super) fn count_floor(
     kinds_free: u32,
     required: f64,
 ) -> Option<Blocker> {
-    if eval.at_die() || candidates.is_empty() {
+    // At the die or at a placed rail's loads |Z| is not a decreasing function of the node's |admittance|, so
+    // the bound would not be a proof there.
+    if eval.at_die() || eval.is_placed() || candidates.is_empty() {
         return None;
     }
     let k = candidates.len();

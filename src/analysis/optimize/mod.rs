@@ -19,6 +19,7 @@
 
 mod evaluator;
 mod limits;
+mod placed_form;
 mod search;
 mod shortlist;
 
@@ -133,12 +134,16 @@ pub fn offered_parts<'a>(sources: impl IntoIterator<Item = &'a Board>, rail_v: f
 
 /// The board with a mix fitted on rail `rail_index`: candidates not yet on the board are added to its parts,
 /// and the rail's groups are replaced by the mix (or the mix added to them when `keep_existing`).
+///
+/// On a placed rail every new group sits at `spot_m` (the suggestion's [`Suggestion::spot_m`]); without a spot
+/// a placed rail's new groups go beside its first load.
 pub fn apply_mix(
     board: &Board,
     rail_index: usize,
     candidates: &[Candidate],
     counts: &[u32],
     keep_existing: bool,
+    spot_m: Option<[f64; 2]>,
 ) -> Board {
     let mut out = board.clone();
     for c in candidates {
@@ -149,13 +154,49 @@ pub fn apply_mix(
     let rail = &mut out.rails[rail_index];
     if !keep_existing {
         rail.decaps.clear();
+        if let Some(p) = rail.placement.as_mut() {
+            p.groups.clear();
+        }
     }
+    let spot = rail.placement.as_ref().and_then(|p| spot_m.or_else(|| p.beside_load(0)));
     for (c, &n) in candidates.iter().zip(counts) {
         if n > 0 {
             rail.decaps.push(DecapGroup::new(c.part.id.clone(), n, c.mounting_h));
+            if let (Some(p), Some(spot)) = (rail.placement.as_mut(), spot) {
+                p.groups.push(placed_form::new_group_placement(spot));
+            }
         }
     }
     out
+}
+
+/// Where a search puts new parts on rail `rail_index`: `None` on a lumped rail (one node); on a placed rail the
+/// spot the options give, else beside the load that fares worst as the rail stands (the one the verdict hangs
+/// on). A spot given for a lumped rail, or one whose port would cross the plane's edge, is refused.
+pub fn new_parts_spot(
+    board: &Board,
+    rail_index: usize,
+    options: &SuggestOptions,
+) -> Result<Option<[f64; 2]>, SuggestError> {
+    let rail = board.rails.get(rail_index).ok_or_else(|| SuggestError("no such rail".into()))?;
+    let Some(placement) = &rail.placement else {
+        return match options.spot_m {
+            Some(_) => Err(SuggestError(format!(
+                "rail {} is not placed (it has no plane_pair), so new parts have no spot: leave out the spot",
+                rail.name
+            ))),
+            None => Ok(None),
+        };
+    };
+    if let Some(spot) = options.spot_m {
+        return match crate::model::spot_problem(spot, placement.plane_pair.size_m) {
+            Some(why) => Err(SuggestError(why)),
+            None => Ok(Some(spot)),
+        };
+    }
+    let worst = crate::analysis::placed::analyze_placed(board, rail_index, &AnalysisOptions::default())
+        .map_or(0, |a| a.worst_load);
+    Ok(placement.beside_load(worst))
 }
 
 /// Limits and choices of a search.
@@ -184,6 +225,9 @@ pub struct SuggestOptions {
     pub keep_existing: bool,
     /// Grid points over the band used while searching.
     pub grid_points: usize,
+    /// On a placed rail, where the new parts go, m (`None`: beside the load that fares worst). Refused on a
+    /// lumped rail.
+    pub spot_m: Option<[f64; 2]>,
 }
 
 impl Default for SuggestOptions {
@@ -200,6 +244,7 @@ impl Default for SuggestOptions {
             options: 5,
             keep_existing: false,
             grid_points: 300,
+            spot_m: None,
         }
     }
 }
@@ -362,6 +407,8 @@ pub struct Suggestion {
     pub shortlisted: Option<usize>,
     /// Mixes judged.
     pub evaluations: usize,
+    /// On a placed rail, where the new parts go, m (every option is judged, and applied, with them there).
+    pub spot_m: Option<[f64; 2]>,
 }
 
 /// Why a search cannot start.
@@ -401,6 +448,22 @@ pub fn corner_words(c: &CornerFigures) -> String {
         format(c.worst_ohm, Unit::Ohm),
         format(c.worst_hz, Unit::Hertz),
         c.margin_db
+    )
+}
+
+/// Where the new parts go, in words: "New parts go at (31.0 mm, 20.0 mm)." (empty on a lumped rail).
+pub fn spot_words(rail: &Rail, s: &Suggestion) -> String {
+    let Some([x, y]) = s.spot_m else { return String::new() };
+    let beside = rail.placement.as_ref().and_then(|p| {
+        (0..rail.loads.len())
+            .find(|&k| p.beside_load(k) == Some([x, y]))
+            .map(|k| format!(", beside {}", rail.loads[k].name))
+    });
+    format!(
+        "New parts go at ({:.1} mm, {:.1} mm){}; every option is judged at the loads through the plane pair.",
+        x * 1e3,
+        y * 1e3,
+        beside.unwrap_or_default()
     )
 }
 
@@ -454,8 +517,16 @@ pub fn suggest(
     let setting = Setting::of(board, rail, options);
     let kept = shortlist::shortlist(board, rail, candidates, &unit, options.corner);
     let sub: Vec<Candidate> = kept.iter().map(|&i| candidates[i].clone()).collect();
-    let eval =
-        MixEvaluator::in_corner(board, rail_index, &sub, options.keep_existing, options.grid_points, options.corner);
+    let spot_m = new_parts_spot(board, rail_index, options)?;
+    let eval = MixEvaluator::in_corner(
+        board,
+        rail_index,
+        &sub,
+        options.keep_existing,
+        options.grid_points,
+        options.corner,
+        spot_m,
+    );
     let problem = Problem {
         eval: &eval,
         unit: kept.iter().map(|&i| unit[i]).collect(),
@@ -468,7 +539,7 @@ pub fn suggest(
     };
     let exhaustive = combinations(&problem.slot, options.max_per_part, setting.kinds_free) <= EXHAUSTIVE_LIMIT;
     let required = eval.target() * 10f64.powf(-options.margin_db / 20.0);
-    let check = Checker { board, rail_index, sub: &sub, options, setting: &setting, required };
+    let check = Checker { board, rail_index, sub: &sub, options, setting: &setting, required, spot_m };
 
     let mut tighten = 1.0;
     let mut evaluations = 0;
@@ -518,6 +589,7 @@ pub fn suggest(
             None => closest.as_ref().map(|j| check.option(&j.counts)).transpose()?.map(|(o, _)| o),
         };
         blockers.extend(limits::package_floor(rail, &eval, required));
+        blockers.extend(limits::planes_floor(rail, &eval, required, spot_m));
         let refs: Vec<&Candidate> = sub.iter().collect();
         blockers.extend(limits::count_floor(
             &eval,
@@ -571,6 +643,7 @@ pub fn suggest(
         exhaustive: exhaustive && kept.len() == candidates.len(),
         shortlisted: (kept.len() < candidates.len()).then_some(kept.len()),
         evaluations,
+        spot_m,
     })
 }
 
@@ -632,12 +705,14 @@ struct Checker<'a> {
     options: &'a SuggestOptions,
     setting: &'a Setting,
     required: f64,
+    /// Where new parts go on a placed rail.
+    spot_m: Option<[f64; 2]>,
 }
 
 impl Checker<'_> {
     /// A mix's figures by the engine in both corners (no droop yet), and the board with the mix fitted.
     fn option(&self, counts: &[u32]) -> Result<(MixOption, Board), SuggestError> {
-        let fitted = apply_mix(self.board, self.rail_index, self.sub, counts, self.options.keep_existing);
+        let fitted = apply_mix(self.board, self.rail_index, self.sub, counts, self.options.keep_existing, self.spot_m);
         let figures = |corner: Corner| -> Result<CornerFigures, SuggestError> {
             let a = analyze_rail(&fitted, self.rail_index, &AnalysisOptions { corner, ..Default::default() })
                 .ok_or_else(|| SuggestError("the rail could not be analysed with the mix".into()))?;

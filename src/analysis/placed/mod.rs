@@ -77,13 +77,18 @@ pub fn effective(circuit: &PlacedCircuit, m: &LoadMatrix, combine: Combine, step
     (0..m.n)
         .map(|k| {
             let terms = circuit.loads.iter().enumerate().map(|(l, load)| m.die(k, l).norm() * load.step_a);
-            let noise = match combine {
-                Combine::Sum => terms.sum::<f64>(),
-                Combine::Rss => terms.map(|x| x * x).sum::<f64>().sqrt(),
-            };
-            C::from_polar(noise / step_a, m.die(k, k).arg())
+            C::from_polar(combine_terms(combine, terms) / step_a, m.die(k, k).arg())
         })
         .collect()
+}
+
+/// The noise at a load from each load's share |Z_kl|·ΔI_l: their sum, or their root-sum-square under
+/// [`Combine::Rss`]. The one rule the verdict and the optimizer apply.
+pub fn combine_terms(combine: Combine, terms: impl Iterator<Item = f64>) -> f64 {
+    match combine {
+        Combine::Sum => terms.sum::<f64>(),
+        Combine::Rss => terms.map(|x| x * x).sum::<f64>().sqrt(),
+    }
 }
 
 /// Analyse a placed rail: every load's verdict, and the rail's (its worst load's). `None` for a lumped rail or a
