@@ -8,6 +8,7 @@ mod droop;
 mod export;
 mod mounting;
 mod netlist;
+mod place;
 mod report;
 mod suggest;
 mod sweep;
@@ -67,6 +68,9 @@ pub enum Command {
     Bom(bom::BomArgs),
     /// Write the review report: one self-contained HTML file with every rail's plot, verdict and findings.
     Report(report::ReportArgs),
+    /// Place a rail from the layout's exports: a placement (centroid) CSV and an optional BOM CSV, matched by
+    /// designator; writes the placed board to a new file.
+    Place(place::PlaceArgs),
 }
 
 /// Run a subcommand and return the process exit code.
@@ -82,6 +86,7 @@ pub fn run(command: Command) -> i32 {
         Command::Export(args) => export::run(&args),
         Command::Bom(args) => bom::run(&args),
         Command::Report(args) => report::run(&args),
+        Command::Place(args) => place::run(&args),
     };
     match result {
         Ok(code) => code,

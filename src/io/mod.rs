@@ -3,6 +3,10 @@
 
 mod board_file;
 mod bom;
+mod bom_csv;
+mod centroid;
+mod csv_table;
+mod layout_import;
 mod mesh_netlist;
 mod netlist;
 mod png_image;
@@ -18,6 +22,9 @@ pub use board_file::{
     read_board_keeping_unusable, write_board,
 };
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
+pub use bom_csv::{BomEntry, parse_bom};
+pub use centroid::{Centroid, Columns, LengthUnit, PlacedPart, Side, parse_centroid};
+pub use layout_import::{GroupMatch, ImportOptions, ImportReport, place_rail};
 pub use mesh_netlist::{MAX_MESH_CELLS, mesh_drive_node, mesh_netlist};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
 pub use png_image::{png_bytes, write_png};

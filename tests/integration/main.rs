@@ -12,6 +12,7 @@ mod hostile;
 mod measured;
 mod ngspice;
 mod physics;
+mod place;
 mod placed;
 mod placed_ngspice;
 mod placed_suggest;
