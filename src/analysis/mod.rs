@@ -22,9 +22,8 @@ pub use check::{
 };
 pub use droop::{
     BandFilter, Droop, DroopError, DroopOptions, IntegratedStep, LINEAR_LIMIT, MAX_STEPS, Modal, NodeDroop,
-    PatternResponse, Pulse, RISE_RANGE_S, RailModes, STEP_RANGE_A, Sustained, WINDOW_RANGE_S, WorstCase, droop,
-    droop_figure, droop_lines, droop_stimulus_line, droop_verdict_line, pattern_response, rail_modes, step_integrated,
-    worst_pattern_over,
+    PatternResponse, Pulse, RailModes, Sustained, WorstCase, droop, droop_figure, droop_lines, droop_stimulus_line,
+    droop_verdict_line, pattern_response, rail_modes, step_integrated, worst_pattern_over,
 };
 pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;

@@ -14,7 +14,7 @@ use std::cell::RefCell;
 
 /// The regulator model a rail gets when the user turns its source on (an invented, typical-looking start value
 /// for the user to replace with the regulator's own data).
-const NEW_SOURCE: Source = Source { r_ohm: 1e-3, l_h: 10e-9 };
+const NEW_SOURCE: Source = Source::rl(1e-3, 10e-9);
 /// The plane a rail gets when the user turns its plane on (invented start value).
 const NEW_PLANE: Plane = Plane { capacitance_f: 1e-9, esr_ohm: 2e-3, esl_h: 10e-12 };
 /// Mounting inductance of a newly added group (invented start value, of the order of a small part on two vias).

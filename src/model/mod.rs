@@ -324,13 +324,40 @@ pub struct Rail {
     pub placement: Option<Placement>,
 }
 
-/// The regulator's output: a series R-L from the rail to AC ground.
+/// The regulator's output: a series R-L from the rail to AC ground, and optionally its control loop (then the
+/// crossover tank of `physics::regulator` sits in series: flat at `r_ohm` inside the loop's bandwidth, a peak near
+/// crossover set by the phase margin, the R-L beyond).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Source {
-    /// Output resistance, Ω.
+    /// Output resistance, Ω: the flat level inside the loop's bandwidth when a loop is given.
     pub r_ohm: f64,
-    /// Output inductance (including the path to the rail), H.
+    /// Output inductance (including the path to the rail), H: with a loop, the inductance past it.
     pub l_h: f64,
+    /// The control loop, when given.
+    pub control: Option<SourceLoop>,
+}
+
+impl Source {
+    /// A plain series R-L source (no loop given).
+    pub const fn rl(r_ohm: f64, l_h: f64) -> Source {
+        Source { r_ohm, l_h, control: None }
+    }
+
+    /// The crossover tank the loop adds in series, when the source gives a loop and a resistance to hold.
+    pub fn tank(&self) -> Option<crate::physics::regulator::ParallelRlc> {
+        let c = self.control?;
+        (self.r_ohm > 0.0)
+            .then(|| crate::physics::regulator::crossover_tank(self.r_ohm, c.crossover_hz, c.phase_margin_deg))
+    }
+}
+
+/// A regulator's control loop, as its loop gain's crossover and phase margin.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SourceLoop {
+    /// Where the loop gain falls through 1, Hz (`loop_crossover_hz` in a board file).
+    pub crossover_hz: f64,
+    /// 180° plus the loop gain's phase there, degrees (`loop_phase_margin_deg`).
+    pub phase_margin_deg: f64,
 }
 
 /// The power/ground plane pair as a series R-L-C.
