@@ -17,8 +17,9 @@ mod worst;
 pub use advice::{Finding, Severity, explain, explain_band};
 pub use cautions::{Caution, CautionKind, cautions, derating_limit};
 pub use check::{
-    CheckOptions, Kept, RailCheck, bias_words, check_board, check_rail, kept_words, load_line, search_words,
-    sensitivity_words, summary, verdict_word, vertex_words, view_words, yield_words,
+    CheckOptions, EdgeReach, Kept, RailCheck, bias_words, check_board, check_rail, edge_finding, edge_reach,
+    kept_words, load_line, search_words, sensitivity_words, summary, verdict_word, vertex_words, view_words,
+    yield_words,
 };
 pub use droop::{
     BandFilter, Droop, DroopError, DroopOptions, IntegratedStep, LINEAR_LIMIT, MAX_STEPS, Modal, NodeDroop,

@@ -563,6 +563,21 @@ pub enum BandEdge {
     Default,
 }
 
+/// How far a load's edge has content: up to EDGE_CONTENT / t_r (the bandwidth of a single-pole 10-90 % edge,
+/// common practice). The band follows it when a rail gives none; the check warns, and the droop filters the load's
+/// current, when a given band stops short of it.
+pub const EDGE_CONTENT: f64 = 0.35;
+
+/// Where an edge of 10-90 % rise time `rise_s` has content up to, Hz: [`EDGE_CONTENT`] / t_r.
+pub fn edge_content_hz(rise_s: f64) -> f64 {
+    EDGE_CONTENT / rise_s
+}
+
+/// True when content up to `edge_hz` reaches past a band whose upper edge is `band_top_hz` (beyond rounding).
+pub fn reaches_past(edge_hz: f64, band_top_hz: f64) -> bool {
+    edge_hz > band_top_hz * (1.0 + 1e-9)
+}
+
 /// The lower band edge used when a rail gives no band: below about 1 kHz the regulator's control loop holds the
 /// rail (common practice for switching regulators; set `band_hz` when yours is slower).
 pub const DEFAULT_BAND_LOW_HZ: f64 = 1e3;
@@ -595,7 +610,7 @@ impl Rail {
         }
         let fastest =
             self.loads.iter().filter_map(|l| l.rise_time_s.map(|t| (l, t))).min_by(|a, b| a.1.total_cmp(&b.1))?;
-        let high = 0.35 / fastest.1;
+        let high = edge_content_hz(fastest.1);
         Some(Band {
             hz: [DEFAULT_BAND_LOW_HZ, high],
             low: BandEdge::Default,

@@ -296,13 +296,14 @@ fn plan(board: &Board, rail: &Rail, options: &DroopOptions) -> Result<Plan, Droo
         None => integrator::default_window(&network, rail, rise_s),
     };
     let band_hz = rail.band_hz_or_default();
-    let load_edge_hz = 0.35 / rise_s;
-    let filter = (options.band_limit.unwrap_or(true) && load_edge_hz > band_hz[1] * (1.0 + 1e-9)).then(|| {
-        // Two real poles a and 2a with |H| = 1/√2 at the edge: (1 + x²)(1 + x²/4) = 2 at x = f_edge/a.
-        let x = ((41f64.sqrt() - 5.0) / 2.0).sqrt();
-        let a = band_hz[1] / x;
-        BandFilter { edge_hz: band_hz[1], load_edge_hz, poles_hz: [a, 2.0 * a] }
-    });
+    let load_edge_hz = crate::model::edge_content_hz(rise_s);
+    let filter =
+        (options.band_limit.unwrap_or(true) && crate::model::reaches_past(load_edge_hz, band_hz[1])).then(|| {
+            // Two real poles a and 2a with |H| = 1/√2 at the edge: (1 + x²)(1 + x²/4) = 2 at x = f_edge/a.
+            let x = ((41f64.sqrt() - 5.0) / 2.0).sqrt();
+            let a = band_hz[1] / x;
+            BandFilter { edge_hz: band_hz[1], load_edge_hz, poles_hz: [a, 2.0 * a] }
+        });
     Ok(Plan {
         network,
         nominal_v: rail.voltage_v,
