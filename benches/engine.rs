@@ -66,5 +66,39 @@ fn spread(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, engine, spread);
+/// The time domain: step droop plus the worst on/off pattern (one `droop` call) for every rail of the sample boards
+/// and the regulator-loop test network, as the window and `hushrail droop` run it (default window, 2000 points).
+/// Goal: under 10 ms a rail. The same rail with a window a million times longer shows the cost (and the memory:
+/// the walk keeps at most a fixed number of samples) does not grow with the window.
+fn droop(c: &mut Criterion) {
+    use hushrail::analysis::{DroopOptions, droop};
+    let mut group = c.benchmark_group("droop");
+    group.sample_size(20);
+    for file in [
+        "sample_boards/edge_camera.json",
+        "sample_boards/motor_drive.json",
+        "sample_boards/sensor_hub.json",
+        "tests/networks/regulator_loop.json",
+    ] {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join(file);
+        let board = hushrail::io::read_board(&path).expect("bench board");
+        for (i, rail) in board.rails.iter().enumerate().filter(|(_, r)| r.source.is_some()) {
+            let stem = path.file_stem().map(|s| s.to_string_lossy().into_owned()).unwrap_or_default();
+            group.bench_function(format!("step and worst pattern, {stem}/{}", rail.name), |b| {
+                b.iter(|| droop(black_box(&board), i, &DroopOptions::default()))
+            });
+        }
+    }
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("sample_boards/edge_camera.json");
+    let board = hushrail::io::read_board(&path).expect("bench board");
+    for window in [1e-6, 1.0] {
+        group.bench_function(format!("step and worst pattern, edge_camera/VCORE, window {window:e} s"), |b| {
+            let options = DroopOptions { window_s: Some(window), ..Default::default() };
+            b.iter(|| droop(black_box(&board), 0, &options))
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, engine, spread, droop);
 criterion_main!(benches);

@@ -59,7 +59,7 @@ fn sixty_ports() -> Board {
         ripple_pct: 3.0,
         band_hz: Some([1e4, 1e9]),
         combine: Default::default(),
-        source: Some(Source { r_ohm: 1e-3, l_h: 1e-8 }),
+        source: Some(Source::rl(1e-3, 1e-8)),
         plane: None,
         package: None,
         die: None,

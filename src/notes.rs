@@ -5,7 +5,8 @@
 /// What the model really leaves out (and what it does include, so nobody thinks it is missing).
 pub const LEAVES_OUT: &[&str] = &[
     "On a lumped rail the model is one node: each capacitor group is one series R-L-C (or its measured data), \
-     the planes one capacitance, the regulator one R-L, the package one R-L and the die one R-C. It includes \
+     the planes one capacitance, the regulator one R-L (in series with its control loop's crossover tank when the source gives \
+     its crossover and phase margin), the package one R-L and the die one R-C. It includes \
      the mounting inductance, the view at the die through the package, each part's loss of capacitance under \
      DC bias, the temperature class limits and the tolerances of capacitance and ESR.",
     "A placed rail (one with a plane_pair) adds where each part sits: the plane pair as an ideal-edged \
@@ -13,7 +14,8 @@ pub const LEAVES_OUT: &[&str] = &[
      resonances are in it. It leaves out fringing and radiation at the plane's edges, antipads and cut-outs, \
      non-rectangular outlines and several plane pairs joined by vias; the droop and the window's plot still \
      treat a placed rail's parts as one node (suggest judges its mixes at the loads).",
-    "Both leave out the regulator's control loop beyond its output R-L, ageing of class II ceramics, ESR and \
+    "Both leave out a regulator's control loop beyond a second-order loop of a given crossover and phase \
+     margin (without them, beyond its output R-L), ageing of class II ceramics, ESR and \
      ESL changing with frequency and bias, and any coupling between rails.",
     "The sample boards and the shelf's parts are invented, and the generic DC-bias model and the temperature \
      class limits are typical values from memory: none is data of any product. Replace them with your parts' \

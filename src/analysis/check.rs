@@ -101,6 +101,62 @@ pub struct RailCheck {
     pub yield_estimate: Option<YieldEstimate>,
     /// Each load's verdict on a placed rail (empty on a lumped rail, whose loads share one node).
     pub loads: Vec<super::placed::LoadVerdict>,
+    /// Where the loads' edges have content up to, when a load gives a rise time.
+    pub edges: Option<EdgeReach>,
+}
+
+/// How far the fastest load's edge has content (0.35/t_r, common practice) against the rail's band.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EdgeReach {
+    /// The fastest load.
+    pub load: String,
+    /// Its 10-90 % rise time, s.
+    pub rise_s: f64,
+    /// Where its edge has content up to, Hz.
+    pub edge_hz: f64,
+    /// The band's upper edge, Hz.
+    pub band_top_hz: f64,
+}
+
+impl EdgeReach {
+    /// True when the band reaches the loads' edge content (the verdict judges all of it).
+    pub fn covered(&self) -> bool {
+        !crate::model::reaches_past(self.edge_hz, self.band_top_hz)
+    }
+}
+
+/// The fastest load's edge content against the rail's band; `None` when no load gives a rise time.
+pub fn edge_reach(rail: &crate::model::Rail) -> Option<EdgeReach> {
+    let (load, rise_s) =
+        rail.loads.iter().filter_map(|l| l.rise_time_s.map(|t| (l, t))).min_by(|a, b| a.1.total_cmp(&b.1))?;
+    Some(EdgeReach {
+        load: load.name.clone(),
+        rise_s,
+        edge_hz: crate::model::edge_content_hz(rise_s),
+        band_top_hz: rail.band_hz_or_default()[1],
+    })
+}
+
+/// The finding that a band stops short of the loads' edges, in the words every face shows; `None` when it reaches.
+pub fn edge_finding(e: &EdgeReach) -> Option<Finding> {
+    (!e.covered()).then(|| Finding {
+        severity: Severity::Note,
+        range_hz: [e.band_top_hz, e.edge_hz],
+        text: format!(
+            "The band stops at {}, short of the loads' edges: load {}'s {} rise has content up to {} (0.35/rise, \
+             common practice), which this verdict does not judge; the droop filters the load's current to the band \
+             and says so.",
+            format(e.band_top_hz, Unit::Hertz),
+            e.load,
+            format(e.rise_s, Unit::Second),
+            format(e.edge_hz, Unit::Hertz),
+        ),
+        hint: format!(
+            "Widen band_hz to {} to judge everything the edges carry, or leave band_hz out so it follows the rise \
+             time; keep it if the package and die filter the rest (check them at the die).",
+            format(e.edge_hz, Unit::Hertz)
+        ),
+    })
 }
 
 /// One load's verdict on a placed rail in words, the same on every face.
@@ -353,6 +409,8 @@ pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option
         })
         .collect();
     findings.extend(explain(board, rail, &verdict));
+    let edges = edge_reach(rail);
+    findings.extend(edges.as_ref().and_then(edge_finding));
     let passes = verdict.meets_target && !cautions.iter().any(|c| c.fails);
     let of = |corner: Corner, i: usize| {
         std::iter::once(&verdict)
@@ -399,6 +457,7 @@ pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option
         sensitivity,
         yield_estimate,
         loads,
+        edges,
     })
 }
 

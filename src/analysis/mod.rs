@@ -17,14 +17,14 @@ mod worst;
 pub use advice::{Finding, Severity, explain, explain_band};
 pub use cautions::{Caution, CautionKind, cautions, derating_limit};
 pub use check::{
-    CheckOptions, Kept, RailCheck, bias_words, check_board, check_rail, kept_words, load_line, search_words,
-    sensitivity_words, summary, verdict_word, vertex_words, view_words, yield_words,
+    CheckOptions, EdgeReach, Kept, RailCheck, bias_words, check_board, check_rail, edge_finding, edge_reach,
+    kept_words, load_line, search_words, sensitivity_words, summary, verdict_word, vertex_words, view_words,
+    yield_words,
 };
 pub use droop::{
     BandFilter, Droop, DroopError, DroopOptions, IntegratedStep, LINEAR_LIMIT, MAX_STEPS, Modal, NodeDroop,
-    PatternResponse, Pulse, RISE_RANGE_S, RailModes, STEP_RANGE_A, Sustained, WINDOW_RANGE_S, WorstCase, droop,
-    droop_figure, droop_lines, droop_stimulus_line, droop_verdict_line, pattern_response, rail_modes, step_integrated,
-    worst_pattern_over,
+    PatternResponse, Pulse, RailModes, Sustained, WorstCase, droop, droop_figure, droop_lines, droop_stimulus_line,
+    droop_verdict_line, pattern_response, rail_modes, step_integrated, worst_pattern_over,
 };
 pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;

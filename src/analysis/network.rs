@@ -2,7 +2,7 @@
 //! the rail gives a package, the die node behind it.
 //!
 //! ```text
-//!   board node --+-- source (R-L to the supply) --+-- package (R-L) -- die node --+
+//!   board node --+-- source (R-L [+ crossover tank]) --+-- package (R-L) -- die node --+
 //!                +-- plane (R-L-C)                                              die (R-C)
 //!                +-- each group (R-L-C)/n                                          |
 //!   ground ------+--------------------------------------------------------------+
@@ -10,6 +10,7 @@
 
 use crate::model::{Board, Rail};
 use crate::physics::measured::ImpedanceTable;
+use crate::physics::regulator::ParallelRlc;
 use crate::physics::{Corner, SeriesRlc, TWO_PI, derate, mounting::group_mounting_h};
 use num_complex::Complex64;
 use std::sync::Arc;
@@ -17,7 +18,7 @@ use std::sync::Arc;
 /// Which input a branch comes from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum BranchKind {
-    /// The regulator's output (series R-L).
+    /// The regulator's output (series R-L, and its crossover tank when the source gives its loop).
     Source,
     /// The power/ground plane pair.
     Plane,
@@ -61,6 +62,9 @@ pub struct Branch {
     pub rlc: SeriesRlc,
     /// A measured part's data: the table, the count and the mounting inductance of one part.
     pub measured: Option<(Arc<ImpedanceTable>, u32, f64)>,
+    /// The regulator's crossover tank in series with `rlc`, when the source gives its control loop
+    /// (`physics::regulator`); `None` on every other branch.
+    pub tank: Option<ParallelRlc>,
     /// The part's own self-resonance (independent of count), used to say which branches bracket a peak. The
     /// source and the package count as resonating at 0 Hz (inductive at every frequency), a branch with no
     /// inductance at infinity (capacitive at every frequency).
@@ -76,7 +80,10 @@ impl Branch {
                 let n = (*count).max(1) as f64;
                 (table.impedance(f_hz) + Complex64::new(0.0, TWO_PI * f_hz * mounting_h)) / n
             }
-            None => self.rlc.impedance(f_hz),
+            None => match &self.tank {
+                Some(t) => self.rlc.impedance(f_hz) + t.impedance(f_hz),
+                None => self.rlc.impedance(f_hz),
+            },
         }
     }
 }
@@ -117,6 +124,7 @@ impl Network {
                 rlc: SeriesRlc { r_ohm: s.r_ohm, l_h: s.l_h, c_f: None },
                 resonance_hz: 0.0,
                 measured: None,
+                tank: s.tank(),
             });
         }
         if let Some(p) = rail.plane {
@@ -126,6 +134,7 @@ impl Network {
                 label: "plane".into(),
                 rlc,
                 measured: None,
+                tank: None,
                 resonance_hz: rlc.self_resonance_hz().unwrap_or(f64::INFINITY),
             });
         }
@@ -138,6 +147,7 @@ impl Network {
             label: "package".into(),
             rlc: SeriesRlc { r_ohm: p.r_ohm, l_h: p.l_h, c_f: None },
             measured: None,
+            tank: None,
             resonance_hz: 0.0,
         });
         let die = rail.die.filter(|_| package.is_some()).map(|d| Branch {
@@ -145,6 +155,7 @@ impl Network {
             label: "die".into(),
             rlc: SeriesRlc { r_ohm: d.esr_ohm, l_h: 0.0, c_f: Some(d.capacitance_f) },
             measured: None,
+            tank: None,
             resonance_hz: f64::INFINITY,
         });
         Network { branches, package, die }
@@ -291,6 +302,7 @@ pub fn group_branch(
         label: format!("{} ×{}", part.id, count),
         rlc: one.parallel(count),
         measured: part.table().map(|t| (Arc::new(t.clone()), count, mounting_h)),
+        tank: None,
         resonance_hz: one.self_resonance_hz().unwrap_or(f64::INFINITY),
     })
 }

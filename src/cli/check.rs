@@ -149,11 +149,15 @@ fn to_json(board: &Board, trace: &Trace, checks: &[RailCheck], all_pass: bool) -
                 "cautions": c.cautions.iter().map(|k| json!({
                     "part": k.part, "kind": k.kind.name(), "fails": k.fails, "text": k.text,
                 })).collect::<Vec<_>>(),
+                "band_covers_load_edges": c.edges.as_ref().is_none_or(|e| e.covered()),
                 "findings": c.findings.iter().map(|f| json!({
                     "severity": match f.severity { Severity::Fail => "fail", Severity::Note => "note" },
                     "from_hz": f.range_hz[0], "to_hz": f.range_hz[1], "text": f.text, "hint": f.hint,
                 })).collect::<Vec<_>>(),
             });
+            if let Some(e) = &c.edges {
+                rail["load_edge_hz"] = json!(e.edge_hz);
+            }
             if !c.loads.is_empty() {
                 rail["loads"] = c
                     .loads

@@ -254,21 +254,13 @@ fn droop_options(
     window: &Option<String>,
     points: usize,
 ) -> Result<crate::analysis::DroopOptions, String> {
-    use crate::analysis::WINDOW_RANGE_S;
-    use crate::model::ranges::{LOAD_STEP, RISE_TIME};
-    use crate::units::{Unit, parse};
+    use crate::model::ranges::{DROOP_WINDOW, LOAD_STEP, RISE_TIME, WAVEFORM_POINTS};
+    use crate::units::Unit;
     let value = |opt: &Option<String>, unit: Unit, range: &crate::model::ranges::Range, flag: &str| {
         opt.as_ref().map(|t| flag_value(t, unit, range, flag)).transpose()
     };
-    let [lo, hi] = WINDOW_RANGE_S;
-    let window_s = window
-        .as_ref()
-        .map(|t| match parse(t, Unit::Second) {
-            Ok(w) if (lo..=hi).contains(&w) => Ok(w),
-            Ok(w) => Err(format!("--window: must be from {lo:e} s to {hi:e} s, not {w}")),
-            Err(e) => Err(format!("--window: {e}")),
-        })
-        .transpose()?;
+    let window_s = value(window, Unit::Second, &DROOP_WINDOW, "window")?;
+    let points = flag_count(points, &WAVEFORM_POINTS, "points")?;
     Ok(crate::analysis::DroopOptions {
         step_a: value(step, Unit::Ampere, &LOAD_STEP, "step")?,
         rise_s: value(rise, Unit::Second, &RISE_TIME, "rise")?,

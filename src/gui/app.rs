@@ -785,7 +785,7 @@ fn fallback_board() -> Board {
         ripple_pct: 5.0,
         band_hz: Some([1e3, 1e8]),
         combine: Combine::Sum,
-        source: Some(Source { r_ohm: 1e-3, l_h: 1e-8 }),
+        source: Some(Source::rl(1e-3, 1e-8)),
         plane: None,
         package: None,
         die: None,

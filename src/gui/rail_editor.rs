@@ -6,7 +6,7 @@ use super::history::Edit;
 use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
 use super::theme;
 use crate::analysis::sensitivity_words;
-use crate::model::{Combine, DecapGroup, Die, Load, MountingGeometry, Package, Plane, Rail, Source};
+use crate::model::{Combine, DecapGroup, Die, Load, MountingGeometry, Package, Plane, Rail, Source, SourceLoop};
 use crate::physics::mounting::mounting_breakdown;
 use crate::units::{Unit, format};
 use egui::{RichText, Ui};
@@ -14,7 +14,9 @@ use std::cell::RefCell;
 
 /// The regulator model a rail gets when the user turns its source on (an invented, typical-looking start value
 /// for the user to replace with the regulator's own data).
-const NEW_SOURCE: Source = Source { r_ohm: 1e-3, l_h: 10e-9 };
+const NEW_SOURCE: Source = Source::rl(1e-3, 10e-9);
+/// The control loop a source gets when the user turns it on (invented, typical-looking: 100 kHz, 50°).
+const NEW_LOOP: SourceLoop = SourceLoop { crossover_hz: 1e5, phase_margin_deg: 50.0 };
 /// The plane a rail gets when the user turns its plane on (invented start value).
 const NEW_PLANE: Plane = Plane { capacitance_f: 1e-9, esr_ohm: 2e-3, esl_h: 10e-12 };
 /// Mounting inductance of a newly added group (invented start value, of the order of a small part on two vias).
@@ -182,6 +184,38 @@ impl App {
                             }
                         });
                     });
+                    let text = "with its control loop (flat inside the loop's bandwidth, a peak near crossover)";
+                    toggle(ui, fields, doc, i, "source.loop", text, s.control.is_some(), pal.fail, |r, on| {
+                        if let Some(s) = &mut r.source {
+                            s.control = on.then_some(NEW_LOOP)
+                        }
+                    });
+                    if let Some(c) = s.control {
+                        egui::Grid::new(("loop-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
+                            let (f, pm) = (c.crossover_hz, c.phase_margin_deg);
+                            rail_number(
+                                ui,
+                                fields,
+                                doc,
+                                i,
+                                "crossover",
+                                "source.loop_crossover_hz",
+                                f,
+                                Unit::Hertz,
+                                |r, v| {
+                                    if let Some(c) = r.source.as_mut().and_then(|s| s.control.as_mut()) {
+                                        c.crossover_hz = v
+                                    }
+                                },
+                            );
+                            let key = "source.loop_phase_margin_deg";
+                            rail_number(ui, fields, doc, i, "phase margin (°)", key, pm, Unit::None, |r, v| {
+                                if let Some(c) = r.source.as_mut().and_then(|s| s.control.as_mut()) {
+                                    c.phase_margin_deg = v
+                                }
+                            });
+                        });
+                    }
                 }
             });
 

@@ -6,7 +6,7 @@
 
 use crate::analysis::{
     AnalysisOptions, CheckOptions, Droop, DroopOptions, Finding, RailAnalysis, RailCheck, View, analyze_rail,
-    check_rail, curve_of, droop, explain,
+    check_rail, curve_of, droop, edge_finding, explain,
 };
 use crate::model::{Board, Part, Rail};
 use std::sync::Arc;
@@ -22,10 +22,6 @@ pub const CURVE_POINTS: usize = 600;
 /// Points of the time view's waveform. The integration runs on its own finer step whatever this is; 600 points
 /// are more than a plot a few hundred pixels wide can show.
 pub const DROOP_POINTS: usize = 600;
-
-/// How long a rail's inputs must stand still before its droop is computed again, s: long enough that a drag
-/// does not start one at every step, short enough to feel immediate when the drag pauses.
-pub const DROOP_SETTLE_S: f64 = 0.12;
 
 /// How far the drawn curve reaches beyond the band on each side, as a factor in frequency.
 pub const VIEW_MARGIN: f64 = 10.0;
@@ -146,8 +142,6 @@ pub struct Results {
     droops: Vec<Option<(Inputs, Arc<DroopResult>)>>,
     /// At most one droop in flight (the machine has few cores and the latest inputs are all that matter).
     job: Option<DroopJob>,
-    /// The inputs last asked about and when they were first seen, s: a droop waits for a drag to pause.
-    seen: Option<(usize, Inputs, f64)>,
     look: Look,
 }
 
@@ -178,14 +172,15 @@ impl Results {
         self.look = look;
     }
 
-    /// The droop of rail `index` after a step of its ΔI, asked at time `now_s` (the window's clock, s).
+    /// The droop of rail `index` after a step of its ΔI.
     ///
-    /// A droop takes from milliseconds to a few hundred milliseconds (a long window on a rail with a low
-    /// anti-resonance), too long for a frame during a drag. So it is computed on its own thread, once the rail's
-    /// inputs have stood still for [`DROOP_SETTLE_S`] (a drag that pauses) or at once when the rail has no droop
-    /// yet; meanwhile the last one stays on show, marked not current, and the caller asks for another frame. Only
-    /// the latest inputs are computed, one at a time, so a drag never competes with a droop for the processor.
-    pub fn droop(&mut self, board: &Board, index: usize, now_s: f64) -> DroopNow {
+    /// A droop of a sample rail takes a few milliseconds (the exact modal method: its cost follows the rail's
+    /// poles, not the window), so the time view follows a drag step by step, as the impedance plot does. It still
+    /// runs on its own thread, since a rail of a thousand groups takes longer than a frame: the last droop stays on
+    /// show, marked not current, until the new one lands, and the caller asks for another frame. One droop is in
+    /// flight at a time, always for the latest inputs once the previous lands, so a fast drag is followed with a
+    /// lag of at most one droop and never queues work.
+    pub fn droop(&mut self, board: &Board, index: usize) -> DroopNow {
         let Some(rail) = board.rails.get(index) else { return DroopNow::default() };
         self.droops.resize(board.rails.len(), None);
         // Take a finished job's answer.
@@ -206,11 +201,7 @@ impl Results {
         let kept = self.droops[index].as_ref();
         let current = kept.is_some_and(|(known, _)| *known == inputs);
         let result = kept.map(|(_, d)| d.clone());
-        if !matches!(&self.seen, Some((i, known, _)) if *i == index && *known == inputs) {
-            self.seen = Some((index, inputs.clone(), now_s));
-        }
-        let still_for = self.seen.as_ref().map_or(0.0, |(_, _, since)| now_s - since);
-        if !current && self.job.is_none() && (result.is_none() || still_for >= DROOP_SETTLE_S) {
+        if !current && self.job.is_none() {
             let (tx, rx) = channel();
             let board = board.clone();
             std::thread::spawn(move || {
@@ -232,7 +223,6 @@ impl Results {
         self.entries.clear();
         self.droops.clear();
         self.job = None;
-        self.seen = None;
     }
 }
 
@@ -286,6 +276,7 @@ pub fn compute_with(board: &Board, index: usize, look: Look) -> Option<RailResul
         let mut findings: Vec<Finding> =
             check.findings.iter().filter(|f| check.failing_cautions().any(|c| c.text == f.text)).cloned().collect();
         findings.extend(explain(board, rail, &analysis));
+        findings.extend(check.edges.as_ref().and_then(edge_finding));
         (analysis, findings)
     };
     let plot = plot_data(&analysis, view_hz);

@@ -68,10 +68,10 @@ impl App {
     pub(super) fn time_view(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
         let index = self.selected_rail;
-        let now = self.results.droop(&self.doc.board, index, ui.input(|i| i.time));
+        let now = self.results.droop(&self.doc.board, index);
         if !now.current {
-            // Look for the new droop again shortly, even if the user does nothing.
-            ui.ctx().request_repaint_after(std::time::Duration::from_millis(30));
+            // Look for the new droop at the next frame, even if the user does nothing: it lands within milliseconds.
+            ui.ctx().request_repaint_after(std::time::Duration::from_millis(5));
         }
         let Some(result) = now.result else {
             ui.horizontal(|ui| {

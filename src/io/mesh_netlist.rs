@@ -161,7 +161,7 @@ pub fn mesh_netlist(
             let bp = &circuit.branches[k];
             let end = if matches!(bp.owner, crate::analysis::placed::PortOwner::Source) { "supply" } else { "0" };
             let _ = writeln!(t, "* branch: {}", bp.branch.label);
-            series(&mut t, &format!("b{k}"), &node, end, bp.branch.rlc.r_ohm, bp.branch.rlc.l_h, bp.branch.rlc.c_f);
+            super::netlist::write_branch(&mut t, &format!("b{k}"), &node, end, &bp.branch, 1e-12);
         } else {
             let l = k - np;
             let load = &circuit.loads[l];

@@ -1,12 +1,13 @@
 //! A SPICE netlist of one rail's network, for ngspice (or any SPICE) to check our numbers against.
 //!
-//! The network is the same for both analyses: the source's R-L ends at an ideal supply at the rail voltage (an AC
-//! short), the plane and each group are series R-L-C to ground. An AC sweep drives the rail node with 1 A, so the
+//! The network is the same for both analyses: the source's R-L (and its crossover tank when it gives its control
+//! loop) ends at an ideal supply at the rail voltage (an AC short), the plane and each group are series R-L-C to
+//! ground. An AC sweep drives the rail node with 1 A, so the
 //! node voltage equals the rail impedance; a transient draws a piecewise-linear load current from the node.
 //! Zero-valued resistors and inductors are left out (the nodes are joined instead), since SPICE refuses or warns
 //! on them.
 
-use crate::analysis::{BranchKind, Network, View};
+use crate::analysis::{Branch, BranchKind, Network, View};
 use crate::model::{Board, Rail};
 use crate::units::full_precision;
 use std::fmt::Write;
@@ -118,29 +119,41 @@ fn network_text(board: &Board, rail: &Rail, drive: &str) -> String {
         if b.measured.is_some() {
             let _ = writeln!(t, "* (a measured part: written as the R-L-C fitted to its data)");
         }
-        let mut elements: Vec<(char, f64)> = Vec::new();
-        if b.rlc.r_ohm > 0.0 {
-            elements.push(('R', b.rlc.r_ohm));
-        }
-        if b.rlc.l_h > 0.0 {
-            elements.push(('L', b.rlc.l_h));
-        }
-        if let Some(c) = b.rlc.c_f {
-            elements.push(('C', c));
-        }
-        if elements.is_empty() {
-            // A branch of zero impedance: a short, written as a tiny resistor SPICE accepts.
-            elements.push(('R', 1e-15));
-        }
-        let last = elements.len() - 1;
-        let mut node = start.to_string();
-        for (k, (letter, value)) in elements.into_iter().enumerate() {
-            let next = if k == last { end.to_string() } else { format!("{tag}_{k}") };
-            let _ = writeln!(t, "{letter}{tag}_{k} {node} {next} {}", full_precision(value));
-            node = next;
-        }
+        write_branch(&mut t, &tag, start, end, b, 1e-15);
     }
     t
+}
+
+/// One branch as SPICE elements from `start` to `end`, named after `tag`: its series R, L and C (those not zero),
+/// then the crossover tank as a parallel R, L and C when the source gives its loop. A branch of zero impedance is
+/// a short, written as a resistor of `short_ohm` (SPICE refuses a zero one).
+pub(crate) fn write_branch(t: &mut String, tag: &str, start: &str, end: &str, b: &Branch, short_ohm: f64) {
+    let mut elements: Vec<(char, f64)> = Vec::new();
+    if b.rlc.r_ohm > 0.0 {
+        elements.push(('R', b.rlc.r_ohm));
+    }
+    if b.rlc.l_h > 0.0 {
+        elements.push(('L', b.rlc.l_h));
+    }
+    if let Some(c) = b.rlc.c_f {
+        elements.push(('C', c));
+    }
+    if elements.is_empty() && b.tank.is_none() {
+        elements.push(('R', short_ohm));
+    }
+    let mut node = start.to_string();
+    let count = elements.len() + usize::from(b.tank.is_some());
+    for (k, (letter, value)) in elements.into_iter().enumerate() {
+        let next = if k + 1 == count { end.to_string() } else { format!("{tag}_{k}") };
+        let _ = writeln!(t, "{letter}{tag}_{k} {node} {next} {}", full_precision(value));
+        node = next;
+    }
+    if let Some(q) = &b.tank {
+        let _ = writeln!(t, "* the regulator's loop as its crossover tank (parallel R, L, C)");
+        for (letter, value) in [('R', q.r_ohm), ('L', q.l_h), ('C', q.c_f)] {
+            let _ = writeln!(t, "{letter}{tag}_q {node} {end} {}", full_precision(value));
+        }
+    }
 }
 
 fn control_block(data_file: &str, node: &str) -> String {

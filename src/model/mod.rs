@@ -324,13 +324,40 @@ pub struct Rail {
     pub placement: Option<Placement>,
 }
 
-/// The regulator's output: a series R-L from the rail to AC ground.
+/// The regulator's output: a series R-L from the rail to AC ground, and optionally its control loop (then the
+/// crossover tank of `physics::regulator` sits in series: flat at `r_ohm` inside the loop's bandwidth, a peak near
+/// crossover set by the phase margin, the R-L beyond).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Source {
-    /// Output resistance, Ω.
+    /// Output resistance, Ω: the flat level inside the loop's bandwidth when a loop is given.
     pub r_ohm: f64,
-    /// Output inductance (including the path to the rail), H.
+    /// Output inductance (including the path to the rail), H: with a loop, the inductance past it.
     pub l_h: f64,
+    /// The control loop, when given.
+    pub control: Option<SourceLoop>,
+}
+
+impl Source {
+    /// A plain series R-L source (no loop given).
+    pub const fn rl(r_ohm: f64, l_h: f64) -> Source {
+        Source { r_ohm, l_h, control: None }
+    }
+
+    /// The crossover tank the loop adds in series, when the source gives a loop and a resistance to hold.
+    pub fn tank(&self) -> Option<crate::physics::regulator::ParallelRlc> {
+        let c = self.control?;
+        (self.r_ohm > 0.0)
+            .then(|| crate::physics::regulator::crossover_tank(self.r_ohm, c.crossover_hz, c.phase_margin_deg))
+    }
+}
+
+/// A regulator's control loop, as its loop gain's crossover and phase margin.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SourceLoop {
+    /// Where the loop gain falls through 1, Hz (`loop_crossover_hz` in a board file).
+    pub crossover_hz: f64,
+    /// 180° plus the loop gain's phase there, degrees (`loop_phase_margin_deg`).
+    pub phase_margin_deg: f64,
 }
 
 /// The power/ground plane pair as a series R-L-C.
@@ -536,6 +563,21 @@ pub enum BandEdge {
     Default,
 }
 
+/// How far a load's edge has content: up to EDGE_CONTENT / t_r (the bandwidth of a single-pole 10-90 % edge,
+/// common practice). The band follows it when a rail gives none; the check warns, and the droop filters the load's
+/// current, when a given band stops short of it.
+pub const EDGE_CONTENT: f64 = 0.35;
+
+/// Where an edge of 10-90 % rise time `rise_s` has content up to, Hz: [`EDGE_CONTENT`] / t_r.
+pub fn edge_content_hz(rise_s: f64) -> f64 {
+    EDGE_CONTENT / rise_s
+}
+
+/// True when content up to `edge_hz` reaches past a band whose upper edge is `band_top_hz` (beyond rounding).
+pub fn reaches_past(edge_hz: f64, band_top_hz: f64) -> bool {
+    edge_hz > band_top_hz * (1.0 + 1e-9)
+}
+
 /// The lower band edge used when a rail gives no band: below about 1 kHz the regulator's control loop holds the
 /// rail (common practice for switching regulators; set `band_hz` when yours is slower).
 pub const DEFAULT_BAND_LOW_HZ: f64 = 1e3;
@@ -568,7 +610,7 @@ impl Rail {
         }
         let fastest =
             self.loads.iter().filter_map(|l| l.rise_time_s.map(|t| (l, t))).min_by(|a, b| a.1.total_cmp(&b.1))?;
-        let high = 0.35 / fastest.1;
+        let high = edge_content_hz(fastest.1);
         Some(Band {
             hz: [DEFAULT_BAND_LOW_HZ, high],
             low: BandEdge::Default,

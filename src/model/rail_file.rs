@@ -61,6 +61,10 @@ impl Serialize for SourceFile<'_> {
         let mut m = serializer.serialize_map(None)?;
         m.serialize_entry("r_ohm", &self.source.r_ohm)?;
         m.serialize_entry("l_h", &self.source.l_h)?;
+        if let Some(c) = self.source.control {
+            m.serialize_entry("loop_crossover_hz", &c.crossover_hz)?;
+            m.serialize_entry("loop_phase_margin_deg", &c.phase_margin_deg)?;
+        }
         if let Some(at) = self.at {
             m.serialize_entry("at_m", &at.at_m)?;
             if let Some(p) = at.port_m {

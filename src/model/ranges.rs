@@ -115,6 +115,14 @@ pub const VIA_PITCH: Range = Range::new("a via pitch", Unit::Metre, 1e-6, 0.05, 
 pub const VIAS_PER_PAD: Range = Range::new("vias per pad", Unit::None, 1.0, 64.0, false);
 /// The most on/off pulses a load's burst may hold.
 pub const MAX_PULSES: Range = Range::new("a number of pulses", Unit::None, 1.0, 1e6, false);
+/// The time a droop shows (its figures are over the whole response whatever the window).
+pub const DROOP_WINDOW: Range = Range::new("a droop window", Unit::Second, 1e-15, 1e6, false);
+/// Points of a droop's waveform grid.
+pub const WAVEFORM_POINTS: Range = Range::new("the points of a waveform", Unit::None, 2.0, 1e6, false);
+/// A regulator control loop's crossover frequency (a slow bench supply to a fast on-package regulator).
+pub const LOOP_CROSSOVER: Range = Range::new("a control loop's crossover frequency", Unit::Hertz, 1.0, 1e8, false);
+/// A regulator control loop's phase margin, degrees (0 is the edge of oscillation, 90 a loop with no peak).
+pub const LOOP_PHASE_MARGIN: Range = Range::new("a phase margin in degrees", Unit::None, 1.0, 89.0, false);
 /// Points of a sweep or an export.
 pub const SWEEP_POINTS: Range = Range::new("the points of a sweep", Unit::None, 2.0, 1e6, false);
 /// Points of the in-band scan.
@@ -130,7 +138,7 @@ pub const MAX_BOARD_BYTES: u64 = 64 << 20;
 pub const MAX_TOUCHSTONE_BYTES: u64 = 64 << 20;
 
 /// Every range, in the order README lists them.
-pub const ALL: [&Range; 29] = [
+pub const ALL: [&Range; 33] = [
     &RAIL_VOLTAGE,
     &RIPPLE_PCT,
     &LOAD_STEP,
@@ -160,6 +168,10 @@ pub const ALL: [&Range; 29] = [
     &COUPLING_IMPEDANCE,
     &COUPLING_FACTOR,
     &MAX_PULSES,
+    &DROOP_WINDOW,
+    &WAVEFORM_POINTS,
+    &LOOP_CROSSOVER,
+    &LOOP_PHASE_MARGIN,
 ];
 
 #[cfg(test)]

@@ -2,7 +2,7 @@
 //! `rails[1].decaps[0].part`) and why, and all problems are reported at once.
 
 use super::ranges::{self, Range};
-use super::{Board, DecapGroup, Die, Load, Package, Part, PartKind, Plane, Rail, Source};
+use super::{Board, DecapGroup, Die, Load, Package, Part, PartKind, Plane, Rail, Source, SourceLoop};
 use crate::physics::mounting::geometry_problems;
 use crate::units::full_precision as num;
 use std::collections::HashSet;
@@ -214,9 +214,20 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
             }
         }
     }
-    if let Some(Source { r_ohm, l_h }) = rail.source {
+    if let Some(Source { r_ohm, l_h, control }) = rail.source {
         c.range(format!("{path}.source.r_ohm"), r_ohm, &ranges::RESISTANCE);
         c.range(format!("{path}.source.l_h"), l_h, &ranges::SOURCE_INDUCTANCE);
+        if let Some(SourceLoop { crossover_hz, phase_margin_deg }) = control {
+            c.range(format!("{path}.source.loop_crossover_hz"), crossover_hz, &ranges::LOOP_CROSSOVER);
+            c.range(format!("{path}.source.loop_phase_margin_deg"), phase_margin_deg, &ranges::LOOP_PHASE_MARGIN);
+            if r_ohm == 0.0 {
+                c.push(
+                    format!("{path}.source.r_ohm"),
+                    "a source with a control loop needs the output resistance the loop holds inside its bandwidth \
+                     (above 0): the loop's rise past crossover is measured from it",
+                );
+            }
+        }
         if r_ohm == 0.0 && l_h == 0.0 {
             c.push(
                 format!("{path}.source"),

@@ -7,6 +7,7 @@ pub mod derating;
 pub mod measured;
 pub mod mounting;
 pub mod plane_pair;
+pub mod regulator;
 
 pub use branch::{SeriesRlc, TWO_PI};
 pub use derating::{Corner, Derating, derate};

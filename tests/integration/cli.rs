@@ -237,3 +237,38 @@ fn check_reports_both_views_and_both_corners() {
     assert_eq!(typical_code, 1, "but not at its rails' DC bias: the gate rail's 25 V ceramics at 15 V lose 41 %");
     assert_eq!(code, 1, "and misses in the worst corner");
 }
+
+/// `check` warns, in text and JSON alike, when a rail's band stops short of its loads' edge content (0.35 / the
+/// fastest 10-90 % rise time, common practice), and only then; the droop filters the load's current exactly there.
+#[test]
+fn check_warns_when_the_band_misses_the_loads_edges() {
+    let mut short = 0;
+    for (stem, path, board) in reference_boards() {
+        let (_, stdout, _) = run(&["check", path.to_str().unwrap(), "--json"]);
+        let v: serde_json::Value = serde_json::from_str(&stdout).unwrap();
+        let (_, text, _) = run(&["check", path.to_str().unwrap()]);
+        for (i, rail) in board.rails.iter().enumerate() {
+            let r = &v["rails"][i];
+            let fastest = rail.loads.iter().filter_map(|l| l.rise_time_s).reduce(f64::min);
+            let top = rail.band().unwrap().hz[1];
+            let covered = fastest.is_none_or(|t| 0.35 / t <= top * (1.0 + 1e-9));
+            assert_eq!(r["band_covers_load_edges"].as_bool(), Some(covered), "{stem}/{}", rail.name);
+            if let Some(t) = fastest {
+                assert_eq!(r["load_edge_hz"].as_f64(), Some(0.35 / t), "{stem}/{}", rail.name);
+            }
+            let says = |f: &serde_json::Value| f["text"].as_str().unwrap().contains("short of the loads' edges");
+            let in_json = r["findings"].as_array().unwrap().iter().filter(|f| says(f)).count();
+            assert_eq!(in_json, usize::from(!covered), "{stem}/{}", rail.name);
+            if !covered {
+                short += 1;
+                let finding = r["findings"].as_array().unwrap().iter().find(|f| says(f)).unwrap();
+                assert!(text.contains(finding["text"].as_str().unwrap()), "{stem}/{}: the same words", rail.name);
+                if rail.source.is_some() {
+                    let d = hushrail::analysis::droop(&board, i, &Default::default()).unwrap();
+                    assert!(d.filter.is_some(), "{stem}/{}: the droop filters where the check warns", rail.name);
+                }
+            }
+        }
+    }
+    assert!(short >= 2, "some sample rail has a band short of its edges ({short})");
+}

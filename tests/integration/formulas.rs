@@ -141,3 +141,35 @@ fn sharp_peaks_survive_a_coarse_grid() {
     }
     assert!((coarse.worst_ohm - fine.worst_ohm).abs() < 1e-6 * fine.worst_ohm);
 }
+
+/// A regulator that gives its control loop (crossover f_c, phase margin φm): flat at its resistance R well inside
+/// the bandwidth; at the closed loop's natural frequency f_n = f_c/√(cos φm) exactly R + R/sin φm + j2πf_n·L, the
+/// peak of a second-order closed loop of Q = √(cos φm)/sin φm (Erickson and Maksimović, Fundamentals of Power
+/// Electronics, 2nd ed., §9.4.2); far past crossover the plain series R-L; the lower the margin, the higher the peak.
+#[test]
+fn regulator_loop_output_impedance_erickson() {
+    use hushrail::model::{Source, SourceLoop};
+    let (r, l, fc) = (2e-3, 1e-9, 1e5);
+    let mut last_peak = f64::INFINITY;
+    for pm in [30.0f64, 45.0, 70.0] {
+        let mut rl = rail("R", Vec::new(), [1e3, 1e8]);
+        rl.source =
+            Some(Source { control: Some(SourceLoop { crossover_hz: fc, phase_margin_deg: pm }), ..Source::rl(r, l) });
+        let board = Board { rails: vec![rl], ..Board::named("loop") };
+        let net = Network::of_rail(&board, &board.rails[0]);
+        let phi = pm.to_radians();
+        // Flat inside the bandwidth: at f_c/1000 the loop's inductive rise is a thousandth of R.
+        assert!((net.magnitude(fc / 1e3) - r).abs() < 2e-3 * r, "{pm}°: flat");
+        // The peak at f_n: the tank is its parallel resistance there, R/sin φm.
+        let f_n = fc / phi.cos().sqrt();
+        let z = net.impedance(f_n);
+        let want = num_complex::Complex64::new(r + r / phi.sin(), TWO_PI * f_n * l);
+        assert!((z - want).norm() < 1e-9 * want.norm(), "{pm}°: {z} vs {want}");
+        assert!(want.norm() < last_peak, "a lower margin peaks higher");
+        last_peak = want.norm();
+        // Far past crossover the R-L: the tank's capacitance has shorted the loop.
+        let f = fc * 1e4;
+        let rl_z = SeriesRlc { r_ohm: r, l_h: l, c_f: None }.impedance(f);
+        assert!((net.impedance(f) - rl_z).norm() < 2e-3 * rl_z.norm(), "{pm}°: the R-L past crossover");
+    }
+}

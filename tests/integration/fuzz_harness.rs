@@ -126,6 +126,8 @@ const KEYS: &[&str] = &[
     "loads",
     "decaps",
     "source",
+    "loop_crossover_hz",
+    "loop_phase_margin_deg",
     "plane",
     "package",
     "die",

@@ -3,7 +3,7 @@
 use hushrail::analysis::{AnalysisOptions, Network, View, analyze_rail};
 use hushrail::io::{board_to_string, parse_board};
 use hushrail::model::{
-    Board, Combine, DecapGroup, Die, Load, MountingGeometry, Package, Part, PartKind, Plane, Rail, Source,
+    Board, Combine, DecapGroup, Die, Load, MountingGeometry, Package, Part, PartKind, Plane, Rail, Source, SourceLoop,
     validate_board,
 };
 use hushrail::physics::Corner;
@@ -82,8 +82,18 @@ fn board_strategy() -> impl Strategy<Value = Board> {
                     mounting: geometry,
                 });
         let source = proptest::option::of(
-            (zero_or(log_value(-5.0, 0.0)), zero_or(log_value(-10.0, -6.0)))
-                .prop_map(|(r, l)| Source { r_ohm: r, l_h: if r == 0.0 && l == 0.0 { 1e-9 } else { l } }),
+            (
+                zero_or(log_value(-5.0, 0.0)),
+                zero_or(log_value(-10.0, -6.0)),
+                proptest::option::of((log_value(2.0, 7.0), 5.0f64..85.0)),
+            )
+                .prop_map(|(r, l, control)| Source {
+                    // A loop needs a resistance to hold.
+                    control: control
+                        .filter(|_| r > 0.0)
+                        .map(|(crossover_hz, phase_margin_deg)| SourceLoop { crossover_hz, phase_margin_deg }),
+                    ..Source::rl(r, if r == 0.0 && l == 0.0 { 1e-9 } else { l })
+                }),
         );
         let plane = proptest::option::of(
             (log_value(-11.0, -7.0), zero_or(log_value(-5.0, -1.0)), zero_or(log_value(-13.0, -10.0)))
@@ -300,8 +310,9 @@ fn extreme_board_strategy() -> impl Strategy<Value = Board> {
         (in_range(&RESISTANCE), in_range(&INDUCTANCE), in_range(&DIE_CAPACITANCE), in_range(&RESISTANCE)),
         (0u32..=1_000_000, in_range(&INDUCTANCE)),
         any::<[bool; 3]>(),
+        proptest::option::of((in_range(&LOOP_CROSSOVER), in_range(&LOOP_PHASE_MARGIN))),
     );
-    (part, rail).prop_map(|(part, (vrs, band, src, plane, pkg, group, on))| {
+    (part, rail).prop_map(|(part, (vrs, band, src, plane, pkg, group, on, control))| {
         let (lo, hi) = if band.0 < band.1 { band } else { (band.1, band.0) };
         let hi = if hi > lo { hi } else { lo * 2.0 };
         Board {
@@ -312,7 +323,11 @@ fn extreme_board_strategy() -> impl Strategy<Value = Board> {
                 ripple_pct: vrs.1,
                 band_hz: Some([lo, hi.min(FREQUENCY.max)]),
                 combine: Combine::Sum,
-                source: on[0].then_some(Source { r_ohm: src.0, l_h: src.1 }),
+                source: on[0].then_some(Source {
+                    control: control
+                        .map(|(crossover_hz, phase_margin_deg)| SourceLoop { crossover_hz, phase_margin_deg }),
+                    ..Source::rl(src.0, src.1)
+                }),
                 plane: on[1].then_some(Plane { capacitance_f: plane.0, esr_ohm: plane.1, esl_h: plane.2 }),
                 package: on[2].then_some(Package { r_ohm: pkg.0, l_h: pkg.1 }),
                 die: on[2].then_some(Die { capacitance_f: pkg.2, esr_ohm: pkg.3 }),
@@ -346,6 +361,12 @@ proptest! {
                 for p in &a.antiresonances { prop_assert!(p.freq_hz.is_finite() && p.z_ohm.is_finite()); }
                 for f in hushrail::analysis::explain(&board, &board.rails[0], &a) { prop_assert!(!f.text.contains("NaN") && !f.text.contains(" inf")); }
             }
+        }
+        // The time domain too (a regulator's loop included): a figure is a number, or a refusal says why.
+        if let Ok(d) = hushrail::analysis::droop(&board, 0, &hushrail::analysis::DroopOptions { points: Some(50), ..Default::default() }) {
+            prop_assert!(d.droop_v.is_finite() && d.final_v.is_finite() && d.t_min_s.is_finite(), "droop {} final {}", d.droop_v, d.final_v);
+            prop_assert!(d.waveform.iter().all(|p| p[0].is_finite() && p[1].is_finite()));
+            prop_assert!(d.worst_case_droop_v().is_none_or(f64::is_finite));
         }
     }
 

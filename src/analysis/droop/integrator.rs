@@ -14,7 +14,8 @@ use crate::analysis::network::{Branch, Network};
 use crate::model::{Board, Rail};
 use crate::physics::SeriesRlc;
 
-/// A branch in the time domain: series R, L and (optionally) C between two points, with its state.
+/// A branch in the time domain: series R, L and (optionally) C between two points, with its state, and the
+/// regulator's crossover tank in series when the source gives its loop.
 struct TimeBranch {
     r: f64,
     l: f64,
@@ -26,29 +27,79 @@ struct TimeBranch {
     vc: f64,
     /// The voltage across the branch at the last step, V.
     v: f64,
+    tank: Option<TimeTank>,
+}
+
+/// A parallel R ∥ L ∥ C in the time domain: its voltage, its inductor's current and its capacitor's current.
+struct TimeTank {
+    g_r: f64,
+    l: f64,
+    c: f64,
+    v: f64,
+    i_l: f64,
+    i_c: f64,
+}
+
+impl TimeTank {
+    /// The tank over the next step as i1 = G·v1 + J (its current from its voltage).
+    ///  BE:  i_L1 = i_L0 + h v1/L,  i_C1 = C (v1 − v0)/h
+    ///  TR:  i_L1 = i_L0 + h (v0 + v1)/(2L),  i_C1 = 2C (v1 − v0)/h − i_C0
+    fn companion(&self, h: f64, restart: bool) -> (f64, f64) {
+        if restart {
+            (self.g_r + h / self.l + self.c / h, self.i_l - self.c / h * self.v)
+        } else {
+            let (a, b) = (h / (2.0 * self.l), 2.0 * self.c / h);
+            (self.g_r + a + b, self.i_l + (a - b) * self.v - self.i_c)
+        }
+    }
+
+    /// Take the step with `i1` through the tank.
+    fn advance(&mut self, i1: f64, h: f64, restart: bool) {
+        let (g, j) = self.companion(h, restart);
+        let v1 = (i1 - j) / g;
+        let (i_l, i_c) = if restart {
+            (self.i_l + h * v1 / self.l, self.c * (v1 - self.v) / h)
+        } else {
+            (self.i_l + h * (self.v + v1) / (2.0 * self.l), 2.0 * self.c * (v1 - self.v) / h - self.i_c)
+        };
+        (self.v, self.i_l, self.i_c) = (v1, i_l, i_c);
+    }
 }
 
 impl TimeBranch {
     fn new(b: &Branch, vc: f64, v: f64) -> TimeBranch {
-        TimeBranch { r: b.rlc.r_ohm, l: b.rlc.l_h, c_inv: b.rlc.c_f.map_or(0.0, |c| 1.0 / c), i: 0.0, vc, v }
+        let tank = b.tank.map(|t| TimeTank { g_r: 1.0 / t.r_ohm, l: t.l_h, c: t.c_f, v: 0.0, i_l: 0.0, i_c: 0.0 });
+        TimeBranch { r: b.rlc.r_ohm, l: b.rlc.l_h, c_inv: b.rlc.c_f.map_or(0.0, |c| 1.0 / c), i: 0.0, vc, v, tank }
     }
 
     /// The branch over the next step as i1 = (v1 − e)/k: its discrete impedance k and the voltage e its history
-    /// leaves.
-    ///  BE:  v1 = R i1 + L (i1 − i0)/h + vc1,  vc1 = vc0 + h i1 / C
-    ///  TR:  (v1 + v0)/2 = R (i1 + i0)/2 + L (i1 − i0)/h + (vc1 + vc0)/2,  vc1 = vc0 + h (i0 + i1) / (2C)
+    /// leaves. For the series R-L-C (v_s: the voltage across it, the branch's less the tank's):
+    ///  BE:  v_s1 = R i1 + L (i1 − i0)/h + vc1,  vc1 = vc0 + h i1 / C
+    ///  TR:  (v_s1 + v_s0)/2 = R (i1 + i0)/2 + L (i1 − i0)/h + (vc1 + vc0)/2,  vc1 = vc0 + h (i0 + i1) / (2C)
+    /// and a tank in series adds v_t1 = (i1 − J)/G.
     fn companion(&self, h: f64, restart: bool) -> (f64, f64) {
-        if restart {
+        let v_s = self.v - self.tank.as_ref().map_or(0.0, |t| t.v);
+        let (k, e) = if restart {
             (self.r + self.l / h + h * self.c_inv, self.vc - self.l / h * self.i)
         } else {
             let k = self.r + 2.0 * self.l / h + h * self.c_inv / 2.0;
-            (k, 2.0 * self.vc - self.v - self.i * (2.0 * self.l / h - self.r - h * self.c_inv / 2.0))
+            (k, 2.0 * self.vc - v_s - self.i * (2.0 * self.l / h - self.r - h * self.c_inv / 2.0))
+        };
+        match &self.tank {
+            Some(t) => {
+                let (g, j) = t.companion(h, restart);
+                (k + 1.0 / g, e - j / g)
+            }
+            None => (k, e),
         }
     }
 
     /// Take the step: the new voltage across is `v1`.
     fn advance(&mut self, v1: f64, (k, e): (f64, f64), h: f64, restart: bool) {
         let i1 = if k > 0.0 { (v1 - e) / k } else { self.i };
+        if let Some(t) = self.tank.as_mut() {
+            t.advance(i1, h, restart);
+        }
         self.vc += if restart { h * self.c_inv * i1 } else { h * self.c_inv * (self.i + i1) / 2.0 };
         self.i = i1;
         self.v = v1;
@@ -81,7 +132,7 @@ impl Integrator {
         // current flows, and nothing drops across the package.
         let branches: Vec<TimeBranch> =
             network.branches.iter().map(|b| TimeBranch::new(b, supply_v, supply_v)).collect();
-        let pinned = branches.iter().any(|b| b.r == 0.0 && b.l == 0.0 && b.c_inv == 0.0);
+        let pinned = branches.iter().any(|b| b.r == 0.0 && b.l == 0.0 && b.c_inv == 0.0 && b.tank.is_none());
         let package = network.package.as_ref().map(|b| TimeBranch::new(b, 0.0, 0.0));
         let die = network.die.as_ref().map(|b| TimeBranch::new(b, supply_v, supply_v));
         Integrator { branches, package, die, pinned, supply_v, dt, v_board: supply_v, v_die: supply_v }
@@ -183,6 +234,10 @@ pub fn step_integrated(board: &Board, rail_index: usize, options: &DroopOptions)
         }
         if let (Some(c), true) = (b.rlc.c_f, l == 0.0 && r > 0.0) {
             f_fast = f_fast.max(1.0 / (crate::physics::TWO_PI * r * c));
+        }
+        if let Some(t) = &b.tank {
+            // Its resonance and its R-C corner (high when the phase margin nears 90°).
+            f_fast = f_fast.max(t.resonance_hz()).max(1.0 / (crate::physics::TWO_PI * t.r_ohm * t.c_f));
         }
     }
     if let (Some(pk), Some(d)) = (&network.package, &network.die)

@@ -28,6 +28,7 @@ pub use words::{
 
 use super::findings::scan;
 use super::network::{Network, View};
+use crate::model::ranges::{self, Range};
 use crate::model::{Board, Rail};
 use crate::physics::TWO_PI;
 use response::{Pwl, Samples, Walk};
@@ -49,13 +50,6 @@ pub struct DroopOptions {
     /// Filter the load's current to the rail's band when its edges reach past it. Default: yes.
     pub band_limit: Option<bool>,
 }
-
-/// The widest range of each droop option (a value outside is refused with the range).
-pub const STEP_RANGE_A: [f64; 2] = [1e-9, 1e6];
-/// Rise time range, s.
-pub const RISE_RANGE_S: [f64; 2] = [1e-15, 1.0];
-/// Window range, s.
-pub const WINDOW_RANGE_S: [f64; 2] = [1e-15, 1e6];
 
 /// A droop past this fraction of the rail's voltage is beyond the model: the load's current would not stay
 /// constant and the parts would not stay linear (common practice: a rail 20 % low has browned out).
@@ -285,36 +279,31 @@ struct Plan {
     filter: Option<BandFilter>,
 }
 
-fn check_range(what: &str, v: f64, [lo, hi]: [f64; 2], unit: &str) -> Result<f64, DroopError> {
-    if v.is_finite() && v >= lo && v <= hi {
-        Ok(v)
-    } else {
-        Err(DroopError::BadOption(format!("the {what} must be from {lo:e} {unit} to {hi:e} {unit}, not {v:e} {unit}")))
-    }
+/// An option inside its documented range (`model::ranges`, the same constants the command line checks).
+fn check_range(v: f64, range: &Range) -> Result<f64, DroopError> {
+    range.problem(v).map_or(Ok(v), |why| Err(DroopError::BadOption(format!("{}: {why}", range.what))))
 }
 
 fn plan(board: &Board, rail: &Rail, options: &DroopOptions) -> Result<Plan, DroopError> {
     rail.source.ok_or_else(|| DroopError::NoDcPath { rail: rail.name.clone() })?;
-    let step_a = check_range("step", options.step_a.unwrap_or_else(|| rail.total_step_a()), STEP_RANGE_A, "A")?;
-    let rise_s =
-        check_range("rise time", options.rise_s.or_else(|| rail.fastest_rise_s()).unwrap_or(1e-9), RISE_RANGE_S, "s")?;
+    let step_a = check_range(options.step_a.unwrap_or_else(|| rail.total_step_a()), &ranges::LOAD_STEP)?;
+    let rise_s = check_range(options.rise_s.or_else(|| rail.fastest_rise_s()).unwrap_or(1e-9), &ranges::RISE_TIME)?;
     let points = options.points.unwrap_or(2000);
-    if !(2..=1_000_000).contains(&points) {
-        return Err(DroopError::BadOption(format!("the waveform needs 2 to 1 000 000 points, not {points}")));
-    }
+    check_range(points as f64, &ranges::WAVEFORM_POINTS)?;
     let network = Network::of_rail(board, rail);
     let window_s = match options.window_s {
-        Some(w) => check_range("window", w, WINDOW_RANGE_S, "s")?,
+        Some(w) => check_range(w, &ranges::DROOP_WINDOW)?,
         None => integrator::default_window(&network, rail, rise_s),
     };
     let band_hz = rail.band_hz_or_default();
-    let load_edge_hz = 0.35 / rise_s;
-    let filter = (options.band_limit.unwrap_or(true) && load_edge_hz > band_hz[1] * (1.0 + 1e-9)).then(|| {
-        // Two real poles a and 2a with |H| = 1/√2 at the edge: (1 + x²)(1 + x²/4) = 2 at x = f_edge/a.
-        let x = ((41f64.sqrt() - 5.0) / 2.0).sqrt();
-        let a = band_hz[1] / x;
-        BandFilter { edge_hz: band_hz[1], load_edge_hz, poles_hz: [a, 2.0 * a] }
-    });
+    let load_edge_hz = crate::model::edge_content_hz(rise_s);
+    let filter =
+        (options.band_limit.unwrap_or(true) && crate::model::reaches_past(load_edge_hz, band_hz[1])).then(|| {
+            // Two real poles a and 2a with |H| = 1/√2 at the edge: (1 + x²)(1 + x²/4) = 2 at x = f_edge/a.
+            let x = ((41f64.sqrt() - 5.0) / 2.0).sqrt();
+            let a = band_hz[1] / x;
+            BandFilter { edge_hz: band_hz[1], load_edge_hz, poles_hz: [a, 2.0 * a] }
+        });
     Ok(Plan {
         network,
         nominal_v: rail.voltage_v,

@@ -11,6 +11,8 @@
 //! every function of s becomes a constant plus simple poles in μ. [`Modal`] maps the result back to s.
 
 use crate::analysis::network::{Branch, Network};
+use crate::physics::TWO_PI;
+use crate::physics::regulator::ParallelRlc;
 use num_complex::Complex64;
 
 type C = Complex64;
@@ -243,8 +245,30 @@ impl Modal {
     }
 }
 
+/// A parallel R ∥ L ∥ C (the regulator's crossover tank) as an impedance in μ: the reciprocal of its admittance
+/// 1/R + 1/(sL) + sC = 1/R + 1/(σL) + σC − (1/(σ²L))/(μ + 1/σ) + C/μ, with s = σ + 1/μ.
+fn tank_impedance(t: &ParallelRlc, sigma: f64) -> Result<Fractions, NoConvergence> {
+    let y = Fractions {
+        d: C::new(1.0 / t.r_ohm + 1.0 / (sigma * t.l_h) + sigma * t.c_f, 0.0),
+        terms: vec![
+            (C::new(-1.0 / sigma, 0.0), C::new(-1.0 / (sigma * sigma * t.l_h), 0.0)),
+            (C::new(0.0, 0.0), C::new(t.c_f, 0.0)),
+        ],
+    };
+    y.reciprocal()
+}
+
+/// A branch's impedance in μ: its series R-L-C, plus the crossover tank on a source that gives its loop.
+fn branch_impedance(b: &Branch, sigma: f64) -> Result<Fractions, NoConvergence> {
+    let series = series_impedance(b, sigma);
+    match &b.tank {
+        Some(t) => Ok(series.add(&tank_impedance(t, sigma)?)),
+        None => Ok(series),
+    }
+}
+
 /// A series R-L-C (C optional) as an impedance in μ: R + σL + 1/(σC) + L/μ − (1/(σ²C))/(μ + 1/σ).
-fn branch_impedance(b: &Branch, sigma: f64) -> Fractions {
+fn series_impedance(b: &Branch, sigma: f64) -> Fractions {
     let (r, l) = (b.rlc.r_ohm, b.rlc.l_h);
     let mut f = Fractions::constant(C::new(r + sigma * l, 0.0));
     if l > 0.0 {
@@ -260,7 +284,7 @@ fn branch_impedance(b: &Branch, sigma: f64) -> Fractions {
 /// The admittance in μ of a branch: the reciprocal of its impedance. A branch of zero impedance has none (the
 /// node is pinned); the caller handles that.
 fn branch_admittance(b: &Branch, sigma: f64) -> Result<Fractions, NoConvergence> {
-    branch_impedance(b, sigma).reciprocal()
+    branch_impedance(b, sigma)?.reciprocal()
 }
 
 /// The transfer from the load's current to the voltage drop at the node the load draws from (the die when the
@@ -274,7 +298,7 @@ pub struct RailModes {
 }
 
 fn is_short(b: &Branch) -> bool {
-    b.rlc.r_ohm == 0.0 && b.rlc.l_h == 0.0 && b.rlc.c_f.is_none()
+    b.rlc.r_ohm == 0.0 && b.rlc.l_h == 0.0 && b.rlc.c_f.is_none() && b.tank.is_none()
 }
 
 /// The shift σ: a real frequency inside the network's range (the geometric mean of its branches' corners), where
@@ -291,6 +315,9 @@ fn shift(network: &Network) -> f64 {
             }
         } else if l > 0.0 && r > 0.0 {
             logs.push((r / l).ln());
+        }
+        if let Some(t) = &b.tank {
+            logs.push((TWO_PI * t.resonance_hz()).ln());
         }
     }
     if logs.is_empty() { 1e6 } else { (logs.iter().sum::<f64>() / logs.len() as f64).exp() * 1.0317 }
@@ -316,8 +343,8 @@ pub(super) fn rail_modes(network: &Network) -> Result<RailModes, NoConvergence> 
         return Ok(RailModes { main: Modal::from_mu(&z_board, sigma), board: None });
     };
     // The path behind the die: package in series with the board.
-    let z_path = z_board.clone().add(&branch_impedance(package, sigma));
-    let die = network.die.as_ref().map(|d| branch_impedance(d, sigma));
+    let z_path = z_board.clone().add(&branch_impedance(package, sigma)?);
+    let die = network.die.as_ref().map(|d| branch_impedance(d, sigma)).transpose()?;
     let z_die = match (&die, z_path.d.norm() == 0.0 && z_path.terms.is_empty()) {
         // Pinned board and a short package: the die node is pinned too.
         (_, true) => zero.clone(),

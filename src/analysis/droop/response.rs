@@ -89,7 +89,14 @@ impl<'a> Stepper<'a> {
         if h <= 0.0 {
             return;
         }
-        if h != self.h {
+        self.shift(h, i0, i1);
+    }
+
+    /// Move by h (either sign: the update is the exact solution, analytic in h) with the current linear from i0
+    /// to i1. The coefficients are kept while h stays within rounding of the last step's (a step snapped to a
+    /// grid time differs from its neighbours in the last bits only), so a run of equal steps costs no exponential.
+    fn shift(&mut self, h: f64, i0: f64, i1: f64) {
+        if (h - self.h).abs() > 1e-12 * h.abs() || self.coef.len() != self.x.len() {
             self.h = h;
             self.coef = self
                 .modal
@@ -127,12 +134,22 @@ impl<'a> Stepper<'a> {
         (0..self.x.len()).map(|k| self.deviation(k, i)).sum()
     }
 
-    /// The fastest mode still more than `tol` from its steady state under `i`, rad/s (0 when none is).
+    /// The fastest mode still more than `tol` from its steady state under `i`, rad/s (0 when none is). Compared
+    /// in squares: no square root per mode.
     pub fn fastest_alive(&self, tol: f64, i: f64) -> f64 {
-        (0..self.x.len())
-            .filter(|&k| self.deviation(k, i) > tol)
-            .map(|k| self.modal.modes[k].0.norm())
-            .fold(0.0, f64::max)
+        let tol2 = tol * tol;
+        let mut fastest2 = 0.0f64;
+        for (k, &(p, r)) in self.modal.modes.iter().enumerate() {
+            let p2 = p.norm_sqr();
+            if p2 <= fastest2 {
+                continue;
+            }
+            let steady = if p2 > 0.0 { -i * p.conj() / p2 } else { C::new(0.0, 0.0) };
+            if (r * (self.x[k] - steady)).norm_sqr() > tol2 {
+                fastest2 = p2;
+            }
+        }
+        fastest2.sqrt()
     }
 
     /// Advance from t0 to t1 under `load`, splitting the step at the load's corners.
@@ -211,7 +228,6 @@ pub(super) fn walk(w: &Walk) -> Samples {
     let fastest_possible =
         w.main.modes.iter().filter(|&&(p, r)| potential(p, r) > tol_res).map(|(p, _)| p.norm()).fold(0.0, f64::max);
     let h_fast = if fastest_possible > 0.0 { RADIANS_PER_STEP / fastest_possible } else { f64::INFINITY };
-    let grid_dt = w.window_s / (w.grid_points.max(2) - 1) as f64;
     let mut t = 0.0;
     let mut s = Samples {
         t: vec![0.0],
@@ -231,10 +247,18 @@ pub(super) fn walk(w: &Walk) -> Samples {
     let mut h_live = h_fast;
     let mut count = 0usize;
     let last_corner = w.load.corners.last().map_or(0.0, |c| c.0);
+    // The largest drop so far at each node: (sample index, drop, the modes' state there), so the peak is refined
+    // from where it lies instead of from t = 0.
+    let mut best: (usize, f64, Vec<C>) = (0, 0.0, st.x.clone());
+    let mut board_best: Option<(usize, f64, Vec<C>)> = board_x.as_ref().map(|b| (0, 0.0, b.x.clone()));
     loop {
-        let live = st.alive(final_current);
         let past_window = t >= w.window_s * (1.0 - 1e-12);
-        if past_window && (live <= 1e-6 * scale.max(1e-300) || undamped_alive(&st, tol, final_current)) {
+        // Past the window, stop once nothing is left to see (judged every 16 steps: each test costs a square root
+        // per mode, a step only a multiply-add).
+        if past_window
+            && count.is_multiple_of(16)
+            && (st.alive(final_current) <= 1e-6 * scale.max(1e-300) || undamped_alive(&st, tol, final_current))
+        {
             break;
         }
         // Re-aim the step at the fastest mode still alive now and then (it gets longer as modes die out); each
@@ -249,7 +273,7 @@ pub(super) fn walk(w: &Walk) -> Samples {
             }
         }
         count += 1;
-        let mut next = t + h_live.min(if past_window { f64::INFINITY } else { grid_dt });
+        let mut next = t + h_live;
         let mut is_grid = false;
         if !past_window {
             let g = if grid_k + 1 >= w.grid_points {
@@ -257,9 +281,14 @@ pub(super) fn walk(w: &Walk) -> Samples {
             } else {
                 w.window_s * grid_k as f64 / (w.grid_points - 1) as f64
             };
-            if g <= next {
+            // Equal steps that land on the next grid time: the same step (and its coefficients) over and over.
+            let gap = g - t;
+            let n = if h_live.is_finite() { (gap / h_live * (1.0 - 1e-9)).ceil().max(1.0) } else { 1.0 };
+            if n <= 1.0 {
                 next = g;
                 is_grid = true;
+            } else {
+                next = t + gap / n;
             }
         }
         let corner = w.load.next_corner(t);
@@ -295,8 +324,21 @@ pub(super) fn walk(w: &Walk) -> Samples {
         let v = st.drop_with(w.main, i1, slope_in);
         s.t.push(t);
         s.main.push(v);
+        if v >= best.1 {
+            best.0 = s.main.len() - 1;
+            best.1 = v;
+            best.2.clone_from(&st.x);
+        }
         if let (Some(b), Some(m), Some(bv)) = (&board_x, w.board, s.board.as_mut()) {
-            bv.push(b.drop_with(m, i1, slope_in));
+            let vb = b.drop_with(m, i1, slope_in);
+            bv.push(vb);
+            if let Some(bb) = board_best.as_mut()
+                && vb >= bb.1
+            {
+                bb.0 = bv.len() - 1;
+                bb.1 = vb;
+                bb.2.clone_from(&b.x);
+            }
         }
         // Where the slope jumps and the drop with it (a series inductance at the node), keep the right limit too.
         let slope_out = w.load.slope(t, true);
@@ -312,9 +354,9 @@ pub(super) fn walk(w: &Walk) -> Samples {
     s.end_bound = st.alive(final_current);
     // An undamped mode still carrying part of the drop when the walk stopped.
     s.undamped = undamped_alive(&st, 1e-4 * scale.max(1e-300), final_current);
-    s.peak = peak_of(&s.t, &s.main, w.main, w.load);
+    s.peak = peak_of(&s.t, &s.main, w.main, w.load, Some((best.0, &best.2)));
     if let (Some(b), Some(m)) = (&s.board, w.board) {
-        s.board_peak = Some(peak_of(&s.t, b, m, w.load));
+        s.board_peak = Some(peak_of(&s.t, b, m, w.load, board_best.as_ref().map(|bb| (bb.0, &bb.2[..]))));
     }
     s
 }
@@ -328,8 +370,11 @@ fn undamped_alive(st: &Stepper, tol: f64, i: f64) -> bool {
 }
 
 /// The largest drop: the largest sample, refined by a golden-section search on the exact response between its
-/// neighbours (no search at a corner of the load, where the drop has a kink or a jump).
-fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl) -> (usize, f64, f64) {
+/// neighbours (no search at a corner of the load, where the drop has a kink or a jump). `saved` is a sample's index
+/// and the modes' state there: when it is the largest, the search moves from it (no corner lies between
+/// neighbouring samples, so the current is linear there and one exact step of either sign reaches any instant);
+/// otherwise it walks from t = 0.
+fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl, saved: Option<(usize, &[C])>) -> (usize, f64, f64) {
     let Some((i, &best)) = v.iter().enumerate().max_by(|a, b| a.1.total_cmp(b.1)) else { return (0, 0.0, 0.0) };
     if i == 0 || i + 1 >= t.len() || t[i - 1] == t[i] || t[i + 1] == t[i] {
         return (i, t[i], best);
@@ -339,7 +384,16 @@ fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl) -> (usize, f64, f64)
         return (i, t[i], best);
     }
     let (a, b) = (t[i - 1], t[i + 1]);
-    let drop_at = |x: f64| response_at(modal, load, x);
+    let from = saved.filter(|(k, x)| *k == i && x.len() == modal.modes.len()).map(|(_, x)| x);
+    let drop_at = |x: f64| match from {
+        Some(state) => {
+            let mut st = Stepper::new(modal);
+            st.x.copy_from_slice(state);
+            st.shift(x - t[i], load.at(t[i]), load.at(x));
+            st.drop_with(modal, load.at(x), load.slope(x, false))
+        }
+        None => response_at(modal, load, x),
+    };
     let (tm, _) = crate::analysis::findings::golden_section_max(a, b, 1e-12 * b.abs(), drop_at);
     let vm = drop_at(tm);
     if vm >= best { (i, tm, vm) } else { (i, t[i], best) }

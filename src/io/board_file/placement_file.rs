@@ -5,7 +5,7 @@
 
 use super::{Decoder, Fields, join};
 use crate::model::{
-    Die, GroupPlacement, GroupSpots, LoadPlacement, Package, PartSpot, PlanePair, Source, SourcePlacement,
+    Die, GroupPlacement, GroupSpots, LoadPlacement, Package, PartSpot, PlanePair, Source, SourceLoop, SourcePlacement,
 };
 use serde_json::{Map, Value};
 
@@ -38,12 +38,37 @@ impl Decoder {
     /// The regulator's output and, on a placed rail, its port.
     pub(super) fn source(&mut self, value: &Value, path: &str, placed: bool) -> (Source, Option<SourcePlacement>) {
         let empty = Map::new();
-        let f = self.sub_object(value, path, &["r_ohm", "l_h", "at_m", "port_m"], &empty);
+        let f = self.sub_object(
+            value,
+            path,
+            &["r_ohm", "l_h", "loop_crossover_hz", "loop_phase_margin_deg", "at_m", "port_m"],
+            &empty,
+        );
         if f.known.is_empty() {
             let spot = placed.then_some(SourcePlacement { at_m: NAN2, port_m: None });
-            return (Source { r_ohm: f64::NAN, l_h: f64::NAN }, spot);
+            return (Source::rl(f64::NAN, f64::NAN), spot);
         }
-        let source = Source { r_ohm: self.number(&f, "r_ohm"), l_h: self.number(&f, "l_h") };
+        // The loop is given by both its numbers or neither.
+        let control = match (f.map.contains_key("loop_crossover_hz"), f.map.contains_key("loop_phase_margin_deg")) {
+            (false, false) => None,
+            (true, true) => Some(SourceLoop {
+                crossover_hz: self.number(&f, "loop_crossover_hz"),
+                phase_margin_deg: self.number(&f, "loop_phase_margin_deg"),
+            }),
+            (has_crossover, _) => {
+                let (given, missing) = if has_crossover {
+                    ("loop_crossover_hz", "loop_phase_margin_deg")
+                } else {
+                    ("loop_phase_margin_deg", "loop_crossover_hz")
+                };
+                self.problem(
+                    join(&f.path, missing),
+                    format!("missing: a source's control loop needs both loop_crossover_hz and loop_phase_margin_deg (only {given} is given)"),
+                );
+                None
+            }
+        };
+        let source = Source { r_ohm: self.number(&f, "r_ohm"), l_h: self.number(&f, "l_h"), control };
         if !placed {
             self.refuse_positions(&f, &["at_m", "port_m"]);
             return (source, None);
