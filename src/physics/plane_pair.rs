@@ -304,12 +304,19 @@ impl PairPlan {
         let sep = (q.lo - p.hi).max(p.lo - q.hi).max(0.0);
         let gap = sep.min(p.lo + q.lo).min(2.0 * len_closed - p.hi - q.hi);
         let by_gap = if gap > 0.0 { (len_sum * (1.0 / tol).ln() / (PI * gap)).ceil() } else { f64::INFINITY };
-        // Past the sinc's knee the static terms, with their 1/α² part summed in closed form ([`static_pair`]),
-        // fall as m⁻⁵: two sincs (each 2L/(mπu)) times what is left of the line's Green's function, at most
-        // 1.5/(α³·w_p·w_q) (coincident interval ends and edge images); the tail past M is then at most
-        // 3L⁴/(π⁵·M⁴·u_i·u_j·w_p·w_q).
+        // With the powers 1/α² and 1/α³ of each line summed in closed form ([`static_pair`]), what is left of a
+        // line's Green's function decays as e^{−α·d}, d the shortest non-zero distance among the intervals' ends,
+        // their images in the edges and their widths, with at most 4/(α³·w_p·w_q) in front; with two sincs (each
+        // at most 2L/(mπu)) the tail past M is at most 8L⁴·e^{−Mπd/L}/(π⁵·M⁴·u_i·u_j·w_p·w_q).
         let (ui, uj) = (ip.width(), iq.width());
-        let by_sinc = (3.0 * len_sum.powi(4) / (PI.powi(5) * ui * uj * p.width() * q.width() * tol)).powf(0.25).ceil();
+        let d = shortest_decay(len_closed, p, q);
+        let k = 8.0 * len_sum.powi(4) / (PI.powi(5) * ui * uj * p.width() * q.width());
+        let tail = |m: f64| k * (-m * PI * d / len_sum).exp() / m.powi(4);
+        let mut by_sinc = 8.0;
+        while by_sinc < 200_000.0 && tail(by_sinc) > tol {
+            by_sinc *= 1.25;
+        }
+        let by_sinc = by_sinc.ceil();
         let terms = by_gap.min(by_sinc).clamp(8.0, 200_000.0) as usize;
         PairPlan { len_sum, len_closed, sum: (ip, iq), closed: (p, q), terms }
     }
@@ -386,32 +393,150 @@ fn overlap(p: Interval, q: Interval) -> f64 {
     (p.hi.min(q.hi) - p.lo.max(q.lo)).max(0.0)
 }
 
+/// The powers of 1/α in the line's averaged Green's function for large α (every exponential dropped):
+/// F ≈ c₂/α² + c₃/α³, with c₂ = overlap/(w_p·w_q) and c₃ from the ends that coincide (and intervals touching each
+/// other or both touching the same edge), read off the four image terms of [`green_avg`].
+fn asymptote(len: f64, p: Interval, q: Interval) -> (f64, f64) {
+    let area = p.width() * q.width();
+    let mut count = 0.0;
+    if p.hi <= q.lo || q.hi <= p.lo {
+        // Disjoint: e^{−α·gap}·φ₁φ₁ keeps a power only when they touch.
+        if p.hi == q.lo || q.hi == p.lo {
+            count += 1.0;
+        }
+    } else {
+        // Overlapping: rect_diff of e^{−α|s|} keeps ±1 for every end difference that is zero.
+        for (sign, diff) in [(1.0, q.hi - p.lo), (-1.0, q.hi - p.hi), (-1.0, q.lo - p.lo), (1.0, q.lo - p.hi)] {
+            if diff == 0.0 {
+                count += sign;
+            }
+        }
+    }
+    if p.lo == 0.0 && q.lo == 0.0 {
+        count += 1.0;
+    }
+    if p.hi == len && q.hi == len {
+        count += 1.0;
+    }
+    (overlap(p, q) / area, count / (2.0 * area))
+}
+
+/// The shortest non-zero distance the exponentials of [`green_avg`] decay over (ends, edges' images, widths).
+fn shortest_decay(len: f64, p: Interval, q: Interval) -> f64 {
+    [
+        (q.hi - p.lo).abs(),
+        (q.hi - p.hi).abs(),
+        (q.lo - p.lo).abs(),
+        (q.lo - p.hi).abs(),
+        p.lo + q.lo,
+        2.0 * len - p.hi - q.hi,
+        p.width(),
+        q.width(),
+        2.0 * len,
+    ]
+    .into_iter()
+    .filter(|&d| d > 0.0)
+    .fold(f64::INFINITY, f64::min)
+}
+
+/// ζ(3) and ζ(5) (Apéry's constant and its next odd neighbour, from memory; the unit test checks Σ cos(mθ)/m⁵
+/// built on them against its series).
+const ZETA3: f64 = 1.202_056_903_159_594_2;
+const ZETA5: f64 = 1.036_927_755_143_369_9;
+
+/// Σ_{m≥1} cos(mθ)/m⁵, the real part of the polylogarithm Li₅(e^{iθ}), from its expansion in powers of θ
+/// (valid for |θ| < 2π; D. C. Wood, "The computation of polylogarithms", 1992, from memory):
+/// ζ(5) − ζ(3)θ²/2 + θ⁴(25/12 − ln θ)/24 + Σ_{n≥1} 2(2n−1)!·ζ(2n)·θ^{2n+4}/((2π)^{2n}·(2n+4)!), for θ in [0, π]
+/// (the sum is even and 2π-periodic).
+fn cos_sum5(theta: f64) -> f64 {
+    let mut t = theta.rem_euclid(2.0 * PI);
+    if t > PI {
+        t = 2.0 * PI - t;
+    }
+    let t2 = t * t;
+    let mut s = ZETA5 - ZETA3 * t2 / 2.0;
+    if t > 0.0 {
+        s += t2 * t2 * (25.0 / 12.0 - t.ln()) / 24.0;
+    }
+    // term_n = 2(2n−1)!ζ(2n)t^{2n+4}/((2π)^{2n}(2n+4)!): the power and the ratio of factorials carried from one
+    // term to the next ((2n−1)!/(2n+4)! = the previous one × (2n−2)(2n−1)/((2n+3)(2n+4)), 1!/6! to start).
+    let mut power = t2 * t2;
+    let mut ratio = 1.0 / 720.0;
+    let two_pi2 = (2.0 * PI).powi(2);
+    for n in 1..40usize {
+        power *= t2 / two_pi2;
+        if n > 1 {
+            ratio *= ((2 * n - 2) * (2 * n - 1)) as f64 / ((2 * n + 3) * (2 * n + 4)) as f64;
+        }
+        let term = 2.0 * ratio * zeta_even(n) * power;
+        s += term;
+        if term.abs() < 1e-18 {
+            break;
+        }
+    }
+    s
+}
+
+/// ζ(2n) for n ≥ 1: the closed forms π²/6 … π¹⁰/93555 (Euler), then the series (its tail past 40 terms is below
+/// 40^{1−2n}/(2n−1), under 1e-18 from n = 6).
+fn zeta_even(n: usize) -> f64 {
+    match n {
+        1 => PI.powi(2) / 6.0,
+        2 => PI.powi(4) / 90.0,
+        3 => PI.powi(6) / 945.0,
+        4 => PI.powi(8) / 9450.0,
+        5 => PI.powi(10) / 93555.0,
+        _ => (1..=40).map(|k| (k as f64).powi(-(2 * n as i32))).sum(),
+    }
+}
+
+/// Σ_{m≥1} 2·X_m(i)·X_m(j)/α_m³ for two intervals on a line of length `len` (α_m = mπ/len), in closed form through
+/// Σ cos(mθ)/m⁵: with A, B the centres and C, D the half-widths in units of π/len,
+/// 2·cos(Am)cos(Bm)·sin(Cm)sin(Dm)/(C·D·m²)·(len/(πm))³, the product of cosines expanded into eight cosines.
+fn odd_remainder(len: f64, ip: Interval, iq: Interval) -> f64 {
+    let k = PI / len;
+    let (a, b) = (k * ip.centre(), k * iq.centre());
+    let (c, d) = (k * ip.width() / 2.0, k * iq.width() / 2.0);
+    let mut sum = 0.0;
+    for pp in [a - b, a + b] {
+        for (sign, qq) in [(1.0, c - d), (-1.0, c + d)] {
+            sum += sign * (cos_sum5(pp - qq) + cos_sum5(pp + qq));
+        }
+    }
+    2.0 * (len / PI).powi(3) / (c * d) * sum / 8.0
+}
+
 /// The static sums of one pair: G = Σ_{K≠0} w_K Φ_K(i)Φ_K(j)/k_K², D the same over k_K⁴ and U over k_K⁶.
 ///
 /// The m = 0 line uses the Bernoulli-polynomial closed forms; every other line the Green's function at the real
 /// α_m = mπ/L as a jet in x = α² (its value F, and F′ and F″/2 by the chain rule, in real arithmetic): G takes F,
 /// D takes −F′ and U takes F″/2. Where the two ports' intervals along the closed axis overlap, F falls as
 /// c/α² (c = overlap/(w_p·w_q)); that part of every line is summed in closed form (Kummer's transformation, with
-/// the same Bernoulli-polynomial sums along the summed axis) and only the rest, falling as m⁻⁵, term by term.
+/// the same Bernoulli-polynomial sums along the summed axis); so is its 1/α³ part where interval ends coincide or
+/// touch an edge (a port's own entry), through Σ cos(mθ)/m⁵. Only the rest, which decays exponentially, is summed
+/// term by term.
 pub fn static_pair(st: &Stackup, pi: &PortRect, pj: &PortRect, tol: f64) -> (f64, f64, f64) {
     let plan = PairPlan::new(st, pi, pj, tol);
     let (p, q) = plan.closed;
     let (r0, d0, u0) = static_remainders(plan.len_closed, p, q);
     let xx0 = plan.factor(0);
     let (mut g, mut d, mut u) = (xx0 * r0, xx0 * d0, xx0 * u0);
-    let c = overlap(p, q) / (p.width() * q.width());
-    if c > 0.0 {
+    let (c, c3) = asymptote(plan.len_closed, p, q);
+    if c != 0.0 {
         // Σ_{m≥1} 2·X_m(i)X_m(j)/α_m^{2k} = L·(R, D, U) of the summed axis.
         let (rs, ds, us) = static_remainders(plan.len_sum, plan.sum.0, plan.sum.1);
         g += c * plan.len_sum * rs;
         d += c * plan.len_sum * ds;
         u += c * plan.len_sum * us;
     }
+    if c3 != 0.0 {
+        g += c3 * odd_remainder(plan.len_sum, plan.sum.0, plan.sum.1);
+    }
     for m in 1..=plan.terms {
         let x = (m as f64 * PI / plan.len_sum).powi(2);
         let f = green_avg(Jet::sqrt_of(x), plan.len_closed, p, q);
         let xx = plan.factor(m);
-        g += xx * (f.v - c / x);
+        g += xx * (f.v - c / x - c3 / (x * x.sqrt()));
         d += xx * (-f.d1 - c / (x * x));
         u += xx * (f.d2 - c / (x * x * x));
     }
@@ -689,6 +814,28 @@ mod tests {
             assert!((phi(1, z) - direct1).norm() < 1e-13);
             let direct2 = ((-z).exp() - 1.0 + z) / (z * z);
             assert!((phi(2, z) - direct2).norm() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn the_fifth_power_cosine_sum_and_its_use_match_their_series() {
+        for t in [0.0, 1e-3, 0.3, 1.0, 2.5, 3.1, 4.0, 6.2, -1.3, 9.0] {
+            let series: f64 = (1..200_000).map(|m| (m as f64 * t).cos() / (m as f64).powi(5)).sum();
+            assert!((cos_sum5(t) - series).abs() < 1e-13, "{t}: {} vs {series}", cos_sum5(t));
+        }
+        let len = 0.1;
+        for (p, q) in [
+            (Interval { lo: 0.01, hi: 0.0105 }, Interval { lo: 0.01, hi: 0.0105 }),
+            (Interval { lo: 0.03, hi: 0.035 }, Interval { lo: 0.06, hi: 0.0605 }),
+        ] {
+            let series: f64 = (1..200_000)
+                .map(|m| {
+                    let a = m as f64 * PI / len;
+                    2.0 * mode_factor(m, len, p) * mode_factor(m, len, q) / (a * a * a)
+                })
+                .sum();
+            let closed = odd_remainder(len, p, q);
+            assert!((closed - series).abs() < 1e-9 * series.abs().max(1e-12), "{closed} vs {series}");
         }
     }
 

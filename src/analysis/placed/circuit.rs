@@ -327,6 +327,7 @@ impl PlacedCircuit {
                 branch,
                 freq_hz: freq_hz.to_vec(),
                 factors: Vec::new(),
+                dragged_branch: Vec::new(),
             };
         }
         let mut rows: Vec<Row> = (0..np).filter(|&b| b != branch).map(Row::Branch).collect();
@@ -337,14 +338,16 @@ impl PlacedCircuit {
         let mut factors = Vec::new();
         let mut col = Vec::new();
         let mut a = Vec::new();
+        let mut dragged_branch = Vec::new();
         for chunk in freq_hz.chunks(BATCH) {
             let f: [f64; BATCH] = std::array::from_fn(|l| chunk[l.min(chunk.len() - 1)]);
             let lanes: [LaneSetup<'_>; BATCH] = std::array::from_fn(|l| LaneSetup::new(&self, f[l]));
             self.fill(&rows, &lanes, &mut a);
             eliminate(&mut a, &mut col, rows.len(), pivots);
             factors.extend_from_slice(&a);
+            dragged_branch.push(Lanes::from_fn(|l| lanes[l].branch[branch]));
         }
-        Drag { circuit: self, branch, freq_hz: freq_hz.to_vec(), rows, pivots, factors }
+        Drag { circuit: self, branch, freq_hz: freq_hz.to_vec(), rows, pivots, factors, dragged_branch }
     }
 
     /// The dies' matrix from the pins' one: with P the packages and Y the dies' admittances (zero where absent),
@@ -394,13 +397,20 @@ struct LaneSetup<'a> {
 
 impl<'a> LaneSetup<'a> {
     fn new(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
+        let mut setup = LaneSetup::plane_only(circuit, f_hz);
+        setup.branch = circuit.branches.iter().map(|b| b.branch.impedance(f_hz)).collect();
+        setup
+    }
+
+    /// Without the branches' impedances (a drag needs only the dragged one's, kept from its start).
+    fn plane_only(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
         let plane = &circuit.plane;
         let parts = plane.static_parts(f_hz);
         LaneSetup {
             parts,
             coef: plane.static_coefficients(f_hz),
             modes: (0..parts.modes).map(|k| plane.mode_coefficient(k, f_hz)).collect(),
-            branch: circuit.branches.iter().map(|b| b.branch.impedance(f_hz)).collect(),
+            branch: Vec::new(),
             plate: plane.plate_admittance(f_hz),
         }
     }
@@ -441,6 +451,8 @@ pub struct Drag {
     /// Per batch of frequencies, the packed system after eliminating every row but the dragged port's and the
     /// loads'.
     factors: Vec<Lanes<BATCH>>,
+    /// Per batch, the dragged part's branch impedance.
+    dragged_branch: Vec<Lanes<BATCH>>,
 }
 
 impl Drag {
@@ -473,7 +485,7 @@ impl Drag {
         for (batch, chunk) in self.freq_hz.chunks(BATCH).enumerate() {
             let a = &self.factors[batch * stride..(batch + 1) * stride];
             let f: [f64; BATCH] = std::array::from_fn(|l| chunk[l.min(chunk.len() - 1)]);
-            let lanes: [LaneSetup<'_>; BATCH] = std::array::from_fn(|l| LaneSetup::new(circuit, f[l]));
+            let lanes: [LaneSetup<'_>; BATCH] = std::array::from_fn(|l| LaneSetup::plane_only(circuit, f[l]));
             // The dragged port's new column against every row (the border's entry is 1), its own entry with its
             // branch, and against the loads.
             for (x, p) in column.iter_mut().zip(&ports) {
@@ -493,7 +505,7 @@ impl Drag {
                     }
                 }
             }
-            column[e] = column[e] + Lanes::from_fn(|l| lanes[l].branch[moved]);
+            column[e] = column[e] + self.dragged_branch[batch];
             // y = L⁻¹·n over the eliminated rows, then the dragged port's pivot and its coupling to the loads.
             let mut pivot = column[e];
             for k in 0..e {
