@@ -93,7 +93,7 @@ pub struct Workspace {
 }
 
 /// Frequencies factored together (the lanes of one batch).
-const BATCH: usize = 4;
+const BATCH: usize = 2;
 
 /// The smallest pivot magnitude accepted; a smaller one is replaced so the solve stays finite (it means a port
 /// shorted to another with no impedance between them, which the validated inputs never give at f > 0).

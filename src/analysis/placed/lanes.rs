@@ -81,8 +81,8 @@ impl<const N: usize> Lanes<N> {
         let mut out = Lanes::default();
         for l in 0..N {
             let n2 = self.re[l] * self.re[l] + self.im[l] * self.im[l];
-            // A NaN pivot is replaced too (n2 >= tiny² is false for it).
-            if !(n2.sqrt() >= tiny) {
+            // A NaN pivot is replaced too.
+            if n2.is_nan() || n2.sqrt() < tiny {
                 self.re[l] = tiny;
                 self.im[l] = 0.0;
                 out.re[l] = 1.0 / tiny;
