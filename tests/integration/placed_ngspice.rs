@@ -87,8 +87,8 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                         fi.1.norm()
                     );
                 }
-                // Flank points (above) at most a quarter: far_part's U5 has its 4 of 17 there, every other load of
-                // the networks none; every other point holds the 0.5 % above.
+                // Flank points (above) at most a quarter: far_part's U5 has 4 of 17, one_load's U1 2, two_loads' U1
+                // and U2 1 each; every other point holds the 0.5 % above.
                 assert!(
                     skipped * 4 <= fine.len(),
                     "{} {}: {skipped} of {} points on resonance flanks",
