@@ -91,27 +91,30 @@ fn placed(c: &mut Criterion) {
     group.bench_function("60 ports: prepare the plane, then 1000 frequencies at every load", |b| {
         b.iter(|| {
             let circuit = PlacedCircuit::of_rail(black_box(&board), rail, Corner::Typical, 1e9).unwrap();
-            let mut ws = Workspace::default();
-            grid.iter().map(|&f| circuit.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>()
+            circuit.solve_grid(&grid).iter().map(|m| m.at_dies[0]).sum::<num_complex::Complex64>()
         })
     });
     let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Typical, 1e9).unwrap();
     group.bench_function("60 ports: 1000 frequencies at every load (prepared)", |b| {
+        b.iter(|| circuit.solve_grid(&grid).iter().map(|m| m.at_dies[0]).sum::<num_complex::Complex64>())
+    });
+    group.bench_function("60 ports: 1000 frequencies at every load, one frequency at a time (prepared)", |b| {
         let mut ws = Workspace::default();
         b.iter(|| grid.iter().map(|&f| circuit.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>())
     });
     group.bench_function("60 ports: prepare the plane", |b| {
         b.iter(|| PlacedCircuit::of_rail(black_box(&board), rail, Corner::Typical, 1e9).unwrap())
     });
-    let mut moving = circuit.clone();
+    group.bench_function("60 ports: start dragging one part (factor the other ports at 1000 frequencies)", |b| {
+        b.iter(|| circuit.clone().drag(20, &grid))
+    });
+    let mut drag = circuit.clone().drag(20, &grid);
     let mut step = 0usize;
-    group.bench_function("60 ports: move one part, then 1000 frequencies at every load", |b| {
-        let mut ws = Workspace::default();
+    group.bench_function("60 ports: move the dragged part, then 1000 frequencies at every load", |b| {
         b.iter(|| {
             step += 1;
             let x = 0.03 + 0.0001 * (step % 50) as f64;
-            moving.move_branch(20, PortRect::square(x, 0.03, 0.5e-3));
-            grid.iter().map(|&f| moving.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>()
+            drag.move_to(PortRect::square(x, 0.03, 0.5e-3)).iter().map(|m| m.at_dies[0]).sum::<num_complex::Complex64>()
         })
     });
     group.finish();

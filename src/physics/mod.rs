@@ -4,6 +4,7 @@
 mod branch;
 pub mod coupling;
 pub mod derating;
+mod jet;
 pub mod measured;
 pub mod mounting;
 pub mod plane_pair;

@@ -155,6 +155,37 @@ fn the_reduction_to_the_loads_is_the_schur_complement() {
 }
 
 #[test]
+fn batches_of_frequencies_and_a_dragged_part_give_the_plain_solve() {
+    // The grid is factored four frequencies at a time, and a dragged part borders a factorization of the other
+    // ports: both must give what a fresh one-frequency solve of the same layout gives (the same arithmetic in
+    // another order, so to rounding).
+    let board = placed("far_part.json");
+    let rail = &board.rails[0];
+    let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Typical, 1e9).unwrap();
+    let grid: Vec<f64> = (0..23).map(|k| 1e4 * 1e5f64.powf(k as f64 / 22.0)).collect();
+    let mut ws = Workspace::default();
+    let close = |a: &LoadMatrix, b: &LoadMatrix, what: &str| {
+        for (x, y) in a.at_dies.iter().zip(&b.at_dies).chain(a.at_pins.iter().zip(&b.at_pins)) {
+            assert!((x - y).norm() <= 1e-9 * y.norm(), "{what}: {x} vs {y}");
+        }
+    };
+    for (m, &f) in circuit.solve_grid(&grid).iter().zip(&grid) {
+        close(m, &circuit.solve(f, &mut ws), &format!("batch at {f}"));
+    }
+    let last = circuit.branches.len() - 1;
+    let mut drag = circuit.clone().drag(last, &grid);
+    for (x, y) in [(0.031, 0.012), (0.012, 0.005), (0.045, 0.015)] {
+        let port = hushrail::physics::plane_pair::PortRect::square(x, y, 0.5e-3);
+        let dragged = drag.move_to(port);
+        let mut fresh = circuit.clone();
+        fresh.move_branch(last, port);
+        for (m, &f) in dragged.iter().zip(&grid) {
+            close(m, &fresh.solve(f, &mut ws), &format!("dragged to ({x}, {y}) at {f}"));
+        }
+    }
+}
+
+#[test]
 fn with_every_port_at_one_point_the_placed_engine_is_the_lumped_network() {
     // The lumped limit: every port at one point (one port size), so every entry of the plane's matrix is the
     // port's self-impedance z0, and the load sees all branches and the plane in parallel: 1/(Σ 1/Z_b + 1/z0),

@@ -47,15 +47,33 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                 let mut skipped = 0;
                 for ((c, fi), z) in coarse.iter().zip(&fine).zip(&ours) {
                     assert!((c.0 / fi.0 - 1.0).abs() < 1e-9);
-                    // On the flank of a sharp resonance the meshes' own resonance frequencies still move with the
-                    // cell size, and the two meshes differ by far more than second-order: extrapolation does not
-                    // hold there. Such points are counted, and must stay few.
-                    if rel(fi.1.norm(), c.1.norm()) > 0.1 {
-                        skipped += 1;
-                        continue;
-                    }
+                    // On the flank of a sharp resonance the two meshes differ by far more than second order: with
+                    // 2 mm cells a part's 2 mm port is one cell, so the ports' spreading inductance, and with it the
+                    // mesh's resonance frequencies, still move with the cell size, and (4·Z(h/2) − Z(h))/3 leaves an
+                    // error of the order of the step it took. Measured on far_part U5 (typical corner, 17 points
+                    // from 1 MHz to 2.12 GHz): the meshes differ by 14 %, 10 %, 11 % and 20 % at 504 MHz (the peak of
+                    // the far parts' path against the plane, 6.4 Ω), 814 MHz, 1.31 GHz (next to mode (1,0) at
+                    // 1.18 GHz) and 2.12 GHz, where the extrapolation differs from ours by 1.5 %, 0.35 %, 0.11 % and
+                    // 0.6 %, each less than the extrapolation's own step |Z(h/2) − Z(h)|/3 (2.6 Ω… 0.02 Ω), and
+                    // the coarse, fine and extrapolated values move towards ours (5.35, 6.13, 6.38 against 6.48 Ω at
+                    // 504 MHz): the mesh, not a model difference. Such points are held to the mesh's own error
+                    // estimate instead of 0.5 %, and counted.
                     let extrapolated = (4.0 * fi.1 - c.1) / 3.0;
                     let e = rel(z.norm(), extrapolated.norm());
+                    if rel(fi.1.norm(), c.1.norm()) > 0.1 {
+                        skipped += 1;
+                        let step = (fi.1 - c.1).norm() / 3.0;
+                        assert!(
+                            (z.norm() - extrapolated.norm()).abs() <= step,
+                            "{} {} at {} (resonance flank): ours {} vs mesh {} beyond the mesh's own error {step}",
+                            show(path),
+                            load.name,
+                            fi.0,
+                            z.norm(),
+                            extrapolated.norm()
+                        );
+                        continue;
+                    }
                     worst = worst.max(e);
                     assert!(
                         e < 5e-3,
@@ -69,17 +87,17 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                         fi.1.norm()
                     );
                 }
-                // At most a quarter of the points on resonance flanks (far_part's U5 has 4 of 17 there since the
-                // parts are judged as typed); every other point holds the 0.5 % above.
+                // Flank points (above) at most a quarter: far_part's U5 has 4 of 17, one_load's U1 2, two_loads' U1
+                // and U2 1 each; every other point holds the 0.5 % above.
                 assert!(
                     skipped * 4 <= fine.len(),
-                    "{} {}: {skipped} of {} points skipped",
+                    "{} {}: {skipped} of {} points on resonance flanks",
                     show(path),
                     load.name,
                     fine.len()
                 );
                 eprintln!(
-                    "{} {} {}: worst |Z| difference {:.2e} up to {:.3e} Hz ({skipped} of {} points on a resonance flank)",
+                    "{} {} {}: worst |Z| difference {:.2e} up to {:.3e} Hz ({skipped} of {} points on a resonance flank, held to the mesh's own error)",
                     show(path),
                     rail.name,
                     load.name,

@@ -18,10 +18,11 @@
 //! which is Z_cc − Z_cp·(Z_pp + D_p)⁻¹·Z_pc written without subtracting the large plate term from itself, and
 //! which stays exact in the lumped limit (every port at one point: A = D_p, and the system is the admittance sum).
 
-use super::ldl::{Ldl, solve_general};
+use super::lanes::Lanes;
+use super::ldl::solve_general;
 use crate::analysis::network::{Branch, BranchKind, Network};
 use crate::model::{Board, GroupSpots, Rail};
-use crate::physics::plane_pair::{DEFAULT_TOLERANCE, PortRect, PreparedPlane};
+use crate::physics::plane_pair::{DEFAULT_TOLERANCE, PortRect, PreparedPlane, StaticParts};
 use crate::physics::{Corner, SeriesRlc};
 use num_complex::Complex64 as C;
 
@@ -87,9 +88,31 @@ impl LoadMatrix {
 /// Buffers reused from one frequency to the next.
 #[derive(Debug, Clone, Default)]
 pub struct Workspace {
-    q: Vec<C>,
-    ldl: Ldl,
-    rhs: Vec<C>,
+    a: Vec<Lanes<1>>,
+    col: Vec<Lanes<1>>,
+}
+
+/// Frequencies factored together (the lanes of one batch).
+const BATCH: usize = 2;
+
+/// The smallest pivot magnitude accepted; a smaller one is replaced so the solve stays finite (it means a port
+/// shorted to another with no impedance between them, which the validated inputs never give at f > 0).
+const TINY_PIVOT: f64 = 1e-300;
+
+/// One unknown of the system solved per frequency, in elimination order.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Row {
+    /// The current into branch b's port (b in `branches` order, also its plane port).
+    Branch(usize),
+    /// The voltage u the plate term carries.
+    Border,
+    /// Load k's port (plane port np + k): kept, not eliminated.
+    Load(usize),
+}
+
+/// Where row i of a packed lower triangle starts.
+fn row_start(i: usize) -> usize {
+    i * (i + 1) / 2
 }
 
 /// A placed rail, ready to evaluate at any frequency up to the one it was prepared for.
@@ -175,42 +198,156 @@ impl PlacedCircuit {
         self.plane.move_port(i, port);
     }
 
+    /// The plane port of a row (the border has none).
+    fn port_of(&self, row: Row) -> Option<usize> {
+        match row {
+            Row::Branch(b) => Some(b),
+            Row::Border => None,
+            Row::Load(k) => Some(self.branches.len() + k),
+        }
+    }
+
+    /// The rows in the usual order: every branch, the border, the loads.
+    fn rows(&self) -> Vec<Row> {
+        let mut rows: Vec<Row> = (0..self.branches.len()).map(Row::Branch).collect();
+        rows.push(Row::Border);
+        rows.extend((0..self.loads.len()).map(Row::Load));
+        rows
+    }
+
+    /// Q(x, y) at the lanes' frequencies without the modes (those are added by [`PlacedCircuit::add_modes`]).
+    fn static_entry<const N: usize>(&self, lanes: &[LaneSetup<'_>; N], x: usize, y: usize) -> Lanes<N> {
+        let n = self.plane.ports.len();
+        let xy = x * n + y;
+        Lanes::from_fn(|l| {
+            let s = &lanes[l];
+            s.coef[0] * s.parts.g[xy] + s.coef[1] * s.parts.t[xy] + s.coef[2] * s.parts.u[xy]
+        })
+    }
+
+    /// Fill the packed lower triangle of the system for `rows` at the lanes' frequencies.
+    fn fill<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut Vec<Lanes<N>>) {
+        let size = rows.len();
+        a.clear();
+        a.resize(row_start(size), Lanes::default());
+        let one = Lanes::splat(C::new(1.0, 0.0));
+        for (i, &ri) in rows.iter().enumerate() {
+            let start = row_start(i);
+            for (j, &rj) in rows[..=i].iter().enumerate() {
+                a[start + j] = match (self.port_of(ri), self.port_of(rj)) {
+                    (Some(x), Some(y)) => self.static_entry(lanes, x, y),
+                    (None, None) => Lanes::from_fn(|l| -lanes[l].plate),
+                    _ => one,
+                };
+            }
+            if let Row::Branch(b) = ri {
+                a[start + i] = a[start + i] + Lanes::from_fn(|l| lanes[l].branch[b]);
+            }
+        }
+        self.add_modes(rows, lanes, a);
+    }
+
+    /// Add the modes each lane sums per frequency (a lane whose level leaves mode K in its tails adds nothing).
+    fn add_modes<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut [Lanes<N>]) {
+        let top = lanes.iter().map(|s| s.parts.modes).max().unwrap_or(0);
+        let ports: Vec<Option<usize>> = rows.iter().map(|&r| self.port_of(r)).collect();
+        for k in 0..top {
+            let c = Lanes::from_fn(|l| if k < lanes[l].parts.modes { lanes[l].modes[k] } else { C::new(0.0, 0.0) });
+            let phi = self.plane.mode_values(k);
+            let values: Vec<f64> = ports.iter().map(|p| p.map_or(0.0, |x| phi[x])).collect();
+            for (i, &vi) in values.iter().enumerate() {
+                if ports[i].is_none() || vi == 0.0 {
+                    continue;
+                }
+                let ci = c.scale(vi);
+                let start = row_start(i);
+                for (x, &vj) in a[start..start + i + 1].iter_mut().zip(&values[..=i]) {
+                    *x = x.add_scaled(ci, vj);
+                }
+            }
+        }
+    }
+
     /// The impedances among the loads at `f_hz`.
     pub fn solve(&self, f_hz: f64, ws: &mut Workspace) -> LoadMatrix {
-        let n = self.plane.ports.len();
-        let np = self.branches.len();
-        let nc = self.loads.len();
-        self.plane.rest_into(f_hz, &mut ws.q);
-        let q = &ws.q;
-        let size = np + 1;
-        let m = ws.ldl.matrix_mut(size);
-        for i in 0..np {
-            m[i * size..i * size + i + 1].copy_from_slice(&q[i * n..i * n + i + 1]);
-            m[i * size + i] += self.branches[i].branch.impedance(f_hz);
-        }
-        for j in 0..np {
-            m[np * size + j] = C::new(1.0, 0.0);
-        }
-        m[np * size + np] = -self.plane.plate_admittance(f_hz);
-        ws.ldl.factor();
-        let mut at_pins = vec![C::new(0.0, 0.0); nc * nc];
-        ws.rhs.resize(size, C::new(0.0, 0.0));
-        for l in 0..nc {
-            let col = np + l;
-            for i in 0..np {
-                ws.rhs[i] = -q[i * n + col];
+        let lanes = [LaneSetup::new(self, f_hz)];
+        let rows = self.rows();
+        self.fill(&rows, &lanes, &mut ws.a);
+        eliminate(&mut ws.a, &mut ws.col, rows.len(), self.branches.len() + 1);
+        self.load_matrix(f_hz, &ws.a, self.branches.len() + 1, 0)
+    }
+
+    /// The impedances among the loads at every frequency of `freq_hz`, factored a batch of frequencies at a time.
+    pub fn solve_grid(&self, freq_hz: &[f64]) -> Vec<LoadMatrix> {
+        let rows = self.rows();
+        let pivots = self.branches.len() + 1;
+        let mut a = Vec::new();
+        let mut col = Vec::new();
+        let mut out = Vec::with_capacity(freq_hz.len());
+        for chunk in freq_hz.chunks(BATCH) {
+            // The last batch is padded with its last frequency.
+            let f: [f64; BATCH] = std::array::from_fn(|l| chunk[l.min(chunk.len() - 1)]);
+            let lanes: [LaneSetup<'_>; BATCH] = std::array::from_fn(|l| LaneSetup::new(self, f[l]));
+            self.fill(&rows, &lanes, &mut a);
+            eliminate(&mut a, &mut col, rows.len(), pivots);
+            for (l, &fl) in chunk.iter().enumerate() {
+                out.push(self.load_matrix(fl, &a, pivots, l));
             }
-            ws.rhs[np] = C::new(-1.0, 0.0);
-            ws.ldl.solve(&mut ws.rhs);
-            let u = ws.rhs[np];
-            for k in 0..nc {
-                let row = &q[(np + k) * n..(np + k) * n + np];
-                let v: C = row.iter().zip(&ws.rhs[..np]).map(|(a, b)| a * b).sum();
-                at_pins[k * nc + l] = u + v + q[(np + k) * n + col];
+        }
+        out
+    }
+
+    /// The loads' matrix of lane `l` from a factored system whose first `pivots` rows are eliminated and whose
+    /// last rows are the loads.
+    fn load_matrix<const N: usize>(&self, f_hz: f64, a: &[Lanes<N>], pivots: usize, l: usize) -> LoadMatrix {
+        let nc = self.loads.len();
+        let mut at_pins = vec![C::new(0.0, 0.0); nc * nc];
+        for k in 0..nc {
+            let start = row_start(pivots + k) + pivots;
+            for m in 0..=k {
+                let z = a[start + m].lane(l);
+                at_pins[k * nc + m] = z;
+                at_pins[m * nc + k] = z;
             }
         }
         let at_dies = self.through_packages(f_hz, &at_pins);
         LoadMatrix { n: nc, at_pins, at_dies }
+    }
+
+    /// Start dragging branch `branch` over `freq_hz`: every other port is factored once per frequency, so each
+    /// position of the dragged part then costs one triangular solve per frequency ([`Drag::move_to`]).
+    pub fn drag(self, branch: usize, freq_hz: &[f64]) -> Drag {
+        let np = self.branches.len();
+        if branch >= np {
+            // Nothing to drag: every move gives the plain solve.
+            return Drag {
+                rows: self.rows(),
+                pivots: np + 1,
+                circuit: self,
+                branch,
+                freq_hz: freq_hz.to_vec(),
+                factors: Vec::new(),
+                dragged_branch: Vec::new(),
+            };
+        }
+        let mut rows: Vec<Row> = (0..np).filter(|&b| b != branch).map(Row::Branch).collect();
+        rows.push(Row::Border);
+        let pivots = rows.len();
+        rows.push(Row::Branch(branch));
+        rows.extend((0..self.loads.len()).map(Row::Load));
+        let mut factors = Vec::new();
+        let mut col = Vec::new();
+        let mut a = Vec::new();
+        let mut dragged_branch = Vec::new();
+        for chunk in freq_hz.chunks(BATCH) {
+            let f: [f64; BATCH] = std::array::from_fn(|l| chunk[l.min(chunk.len() - 1)]);
+            let lanes: [LaneSetup<'_>; BATCH] = std::array::from_fn(|l| LaneSetup::new(&self, f[l]));
+            self.fill(&rows, &lanes, &mut a);
+            eliminate(&mut a, &mut col, rows.len(), pivots);
+            factors.extend_from_slice(&a);
+            dragged_branch.push(Lanes::from_fn(|l| lanes[l].branch[branch]));
+        }
+        Drag { circuit: self, branch, freq_hz: freq_hz.to_vec(), rows, pivots, factors, dragged_branch }
     }
 
     /// The dies' matrix from the pins' one: with P the packages and Y the dies' admittances (zero where absent),
@@ -245,5 +382,167 @@ impl PlacedCircuit {
         }
         let mut x = zp.clone();
         if solve_general(&mut a, &mut x, nc, nc) { x } else { zp }
+    }
+}
+
+/// What one lane needs at its frequency: the plane's level and multipliers, the modes' coefficients, the branches'
+/// impedances and the plate admittance.
+struct LaneSetup<'a> {
+    parts: StaticParts<'a>,
+    coef: [C; 3],
+    modes: Vec<C>,
+    branch: Vec<C>,
+    plate: C,
+}
+
+impl<'a> LaneSetup<'a> {
+    fn new(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
+        let mut setup = LaneSetup::plane_only(circuit, f_hz);
+        setup.branch = circuit.branches.iter().map(|b| b.branch.impedance(f_hz)).collect();
+        setup
+    }
+
+    /// Without the branches' impedances (a drag needs only the dragged one's, kept from its start).
+    fn plane_only(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
+        let plane = &circuit.plane;
+        let parts = plane.static_parts(f_hz);
+        LaneSetup {
+            parts,
+            coef: plane.static_coefficients(f_hz),
+            modes: (0..parts.modes).map(|k| plane.mode_coefficient(k, f_hz)).collect(),
+            branch: Vec::new(),
+            plate: plane.plate_admittance(f_hz),
+        }
+    }
+}
+
+/// Eliminate the first `pivots` rows of the packed symmetric matrix `a` (size × size) by LDLᵀ without pivoting
+/// (the plane's matrix plus branch impedances: the diagonal dominates the elimination): rows below keep the
+/// multipliers L, the diagonal D, and the trailing block becomes the Schur complement.
+fn eliminate<const N: usize>(a: &mut [Lanes<N>], col: &mut Vec<Lanes<N>>, size: usize, pivots: usize) {
+    col.resize(size, Lanes::default());
+    for k in 0..pivots {
+        let kk = row_start(k) + k;
+        let inv = a[kk].recip_guarded(TINY_PIVOT);
+        for j in k + 1..size {
+            col[j] = a[row_start(j) + k];
+        }
+        for i in k + 1..size {
+            let start = row_start(i);
+            let s = a[start + k] * inv;
+            for (x, c) in a[start + k + 1..start + i + 1].iter_mut().zip(&col[k + 1..=i]) {
+                *x = x.sub_mul(s, *c);
+            }
+            a[start + k] = s;
+        }
+    }
+}
+
+/// A part being dragged: every other port factored once per frequency of the grid, so each new position costs the
+/// dragged port's new row of the plane's matrix, one triangular solve per frequency and a rank-one update of the
+/// loads' matrix (bordering the factorization with the dragged port).
+#[derive(Debug, Clone)]
+pub struct Drag {
+    circuit: PlacedCircuit,
+    branch: usize,
+    freq_hz: Vec<f64>,
+    rows: Vec<Row>,
+    pivots: usize,
+    /// Per batch of frequencies, the packed system after eliminating every row but the dragged port's and the
+    /// loads'.
+    factors: Vec<Lanes<BATCH>>,
+    /// Per batch, the dragged part's branch impedance.
+    dragged_branch: Vec<Lanes<BATCH>>,
+}
+
+impl Drag {
+    /// The circuit as the last move left it.
+    pub fn circuit(&self) -> &PlacedCircuit {
+        &self.circuit
+    }
+
+    /// End the drag, keeping the circuit with the part where it was last put.
+    pub fn into_circuit(self) -> PlacedCircuit {
+        self.circuit
+    }
+
+    /// Put the dragged part at `port` and give the loads' matrix at every frequency of the drag's grid.
+    pub fn move_to(&mut self, port: PortRect) -> Vec<LoadMatrix> {
+        let circuit = &mut self.circuit;
+        if self.branch >= circuit.branches.len() {
+            return circuit.solve_grid(&self.freq_hz);
+        }
+        circuit.move_branch(self.branch, port);
+        let circuit = &self.circuit;
+        let e = self.pivots;
+        let nc = circuit.loads.len();
+        let moved = self.branch;
+        let stride = row_start(self.rows.len());
+        let ports: Vec<Option<usize>> = self.rows.iter().map(|&r| circuit.port_of(r)).collect();
+        let mut column = vec![Lanes::<BATCH>::default(); self.rows.len()];
+        let mut coupling = vec![Lanes::<BATCH>::default(); nc];
+        let mut out = Vec::with_capacity(self.freq_hz.len());
+        for (batch, chunk) in self.freq_hz.chunks(BATCH).enumerate() {
+            let a = &self.factors[batch * stride..(batch + 1) * stride];
+            let f: [f64; BATCH] = std::array::from_fn(|l| chunk[l.min(chunk.len() - 1)]);
+            let lanes: [LaneSetup<'_>; BATCH] = std::array::from_fn(|l| LaneSetup::plane_only(circuit, f[l]));
+            // The dragged port's new column against every row (the border's entry is 1), its own entry with its
+            // branch, and against the loads.
+            for (x, p) in column.iter_mut().zip(&ports) {
+                *x = match p {
+                    Some(p) => circuit.static_entry(&lanes, *p, moved),
+                    None => Lanes::splat(C::new(1.0, 0.0)),
+                };
+            }
+            let top = lanes.iter().map(|s| s.parts.modes).max().unwrap_or(0);
+            for k in 0..top {
+                let phi = circuit.plane.mode_values(k);
+                let c = Lanes::from_fn(|l| if k < lanes[l].parts.modes { lanes[l].modes[k] } else { C::new(0.0, 0.0) })
+                    .scale(phi[moved]);
+                for (x, p) in column.iter_mut().zip(&ports) {
+                    if let Some(p) = p {
+                        *x = x.add_scaled(c, phi[*p]);
+                    }
+                }
+            }
+            column[e] = column[e] + self.dragged_branch[batch];
+            // y = L⁻¹·n over the eliminated rows, then the dragged port's pivot and its coupling to the loads.
+            let mut pivot = column[e];
+            for k in 0..e {
+                let start = row_start(k);
+                let mut y = column[k];
+                for (l, x) in a[start..start + k].iter().zip(&column[..k]) {
+                    y = y.sub_mul(*l, *x);
+                }
+                column[k] = y;
+                let mut d = a[start + k];
+                let inv = d.recip_guarded(TINY_PIVOT);
+                pivot = pivot.sub_mul(y, y * inv);
+            }
+            for (c, slot) in coupling.iter_mut().enumerate() {
+                let start = row_start(e + 1 + c);
+                let mut s = column[e + 1 + c];
+                for (l, y) in a[start..start + e].iter().zip(&column[..e]) {
+                    s = s.sub_mul(*l, *y);
+                }
+                *slot = s;
+            }
+            let inv_pivot = pivot.recip_guarded(TINY_PIVOT);
+            for (l, &fl) in chunk.iter().enumerate() {
+                let mut at_pins = vec![C::new(0.0, 0.0); nc * nc];
+                for k in 0..nc {
+                    let start = row_start(e + 1 + k) + e + 1;
+                    let sk = coupling[k].lane(l) * inv_pivot.lane(l);
+                    for m in 0..=k {
+                        let z = a[start + m].lane(l) - sk * coupling[m].lane(l);
+                        at_pins[k * nc + m] = z;
+                        at_pins[m * nc + k] = z;
+                    }
+                }
+                let at_dies = circuit.through_packages(fl, &at_pins);
+                out.push(LoadMatrix { n: nc, at_pins, at_dies });
+            }
+        }
+        out
     }
 }

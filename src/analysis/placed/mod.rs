@@ -12,10 +12,11 @@
 
 mod advice;
 mod circuit;
+mod lanes;
 mod ldl;
 
 pub use advice::{PlacedFinding, placed_findings};
-pub use circuit::{BranchPort, LoadMatrix, LoadPort, PlacedCircuit, PortOwner, Workspace};
+pub use circuit::{BranchPort, Drag, LoadMatrix, LoadPort, PlacedCircuit, PortOwner, Workspace};
 
 use super::findings::{self, Extremum, ViolationBand};
 use super::grid::log_grid;
