@@ -167,6 +167,15 @@ fn rail_check(h: &mut String, rail: &Rail, c: &RailCheck) {
     let a = &c.verdict;
     let class = if c.passes { "pass" } else { "fail" };
     let _ = writeln!(h, "<p class=\"verdict {class}\">{}.</p>", escape(&c.verdict_line()));
+    // A placed rail's verdict is its worst load's: each load's own line, as `check` prints it.
+    if !c.loads.is_empty() {
+        h.push_str("<ul class=\"loads\">\n");
+        for l in &c.loads {
+            let class = if l.meets_target { "pass" } else { "fail" };
+            let _ = writeln!(h, "<li class=\"{class}\">{}</li>", escape(&crate::analysis::load_line(l, a.target_ohm)));
+        }
+        h.push_str("</ul>\n");
+    }
     for o in c.other_view.iter().chain(&c.corners) {
         let _ = writeln!(h, "<p class=\"other\">{}.</p>", escape(&summary(o)));
     }

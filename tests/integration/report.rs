@@ -201,3 +201,17 @@ fn cli_writes_the_report_and_refuses_bad_input_without_writing() {
     assert!(String::from_utf8_lossy(&run.stderr).contains("cannot write"));
     assert_eq!(std::fs::read_dir(dir.path()).unwrap().count(), 1, "only the good report is left");
 }
+
+/// A placed rail's report gives each load's verdict line, the same words `check` prints.
+#[test]
+fn a_placed_rails_report_gives_each_loads_verdict() {
+    let board = read_board(&root().join("tests/networks/placed/two_loads.json")).unwrap();
+    let html = report_html(&board, &context(), None);
+    let doc = check_report("two_loads", &board, &html);
+    let items: Vec<String> = doc.select(&sel("ul.loads li")).map(text_of).collect();
+    let c = hushrail::analysis::check_rail(&board, 0, &Default::default()).unwrap();
+    assert_eq!(c.loads.len(), 2);
+    let expected: Vec<String> =
+        c.loads.iter().map(|l| hushrail::analysis::load_line(l, c.verdict.target_ohm)).collect();
+    assert_eq!(items, expected);
+}
