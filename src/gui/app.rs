@@ -86,6 +86,8 @@ pub struct App {
     pub(super) pins: Vec<Pin>,
     /// Each rail's home view on the plot, by rail index.
     pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
+    /// Go back to the selected rail's home view on the next frame (a double-click on the plot asked for it).
+    pub(super) reset_plot: bool,
     pub(super) next_pin: usize,
     pub(super) fields: Fields,
     pub(super) store: Store,
@@ -132,6 +134,7 @@ impl App {
             scroll_to_finding: false,
             pins: Vec::new(),
             home_views: Default::default(),
+            reset_plot: false,
             next_pin: 1,
             fields: Fields::default(),
             store: Store::new(None),
@@ -210,6 +213,11 @@ impl App {
     /// True when the board has changes not yet saved.
     pub fn is_dirty(&self) -> bool {
         self.doc.history.is_dirty()
+    }
+
+    /// Where the plot (or the time view's plot) was drawn in the last frame, in points.
+    pub fn plot_rect(&self) -> Option<egui::Rect> {
+        self.plot_rect
     }
 
     /// The selected rail's index.
@@ -390,14 +398,16 @@ impl App {
 
         egui::Panel::top("menu").show(ui, |ui| self.menu_bar(ui));
         egui::Panel::bottom("status").show(ui, |ui| self.status_bar(ui));
+        // The side columns keep their width whatever their content says (a caution that appears must not move
+        // the buttons under the pointer): their text wraps inside instead.
         egui::Panel::left("rails")
             .resizable(true)
-            .default_size(270.0)
-            .size_range(220.0..=420.0)
+            .default_size(220.0)
+            .size_range(190.0..=380.0)
             .show(ui, |ui| self.rails_list(ui));
         egui::Panel::right("side")
             .resizable(true)
-            .default_size(390.0)
+            .default_size(400.0)
             .size_range(330.0..=620.0)
             .show(ui, |ui| self.side_panel(ui));
         egui::CentralPanel::default().show(ui, |ui| {
@@ -405,21 +415,11 @@ impl App {
                 self.load_error_box(ui);
             }
             self.rail_header(ui);
-            ui.horizontal(|ui| {
-                ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong());
-                ui.selectable_value(
-                    &mut self.central_tab,
-                    CentralTab::Time,
-                    RichText::new("Voltage after a load step").strong(),
-                );
-            });
-            if self.central_tab == CentralTab::Impedance {
-                self.pins_bar(ui);
-            }
+            self.options_row(ui);
             egui::Panel::bottom("findings")
                 .resizable(true)
-                .default_size(190.0)
-                .size_range(90.0..=500.0)
+                .default_size(170.0)
+                .size_range(80.0..=560.0)
                 .show(ui, |ui| self.findings_panel(ui));
             egui::CentralPanel::no_frame().show(ui, |ui| match self.central_tab {
                 CentralTab::Impedance => self.plot(ui),

@@ -786,3 +786,40 @@ fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_say
     let line = one_line(&worst(&off));
     assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
 }
+
+#[test]
+fn at_1280_by_800_the_plot_is_the_largest_thing_and_the_side_panel_keeps_its_width() {
+    let mut harness = window(sample());
+    click(&mut harness, "Pin this curve");
+    click(&mut harness, "worst corner too");
+    let plot = harness.state().plot_rect().expect("the plot is drawn");
+    // The plot takes most of the middle: at least 540 × 330 points of a 1280 × 800 window (about a fifth of the
+    // window; before, with a pin and the worst corner on, it was about 150 points high).
+    assert!(plot.width() >= 540.0 && plot.height() >= 330.0, "plot {plot:?}");
+    // The side panel does not move when a caution appears (the first group of VCORE is polarised; a second
+    // rail with a different caution set is selected): its tab stays where it was.
+    let before = harness.get_by_label("Rail inputs").rect();
+    select_rail(&mut harness, "V3V3_IO");
+    select_rail(&mut harness, "VCORE");
+    harness.run();
+    let after = harness.get_by_label("Rail inputs").rect();
+    assert_eq!(before.left(), after.left(), "the side panel kept its width");
+    // The plot grows with the window.
+    harness.set_size(egui::vec2(1920.0, 1080.0));
+    harness.run();
+    harness.run();
+    let big = harness.state().plot_rect().unwrap();
+    assert!(big.width() > plot.width() + 400.0 && big.height() > plot.height() + 200.0, "{big:?} vs {plot:?}");
+}
+
+#[test]
+fn the_legend_names_each_groups_curve() {
+    let board = sample();
+    let mut harness = window(board.clone());
+    click(&mut harness, "each group's curve");
+    let result = hushrail::gui::results::compute_with(&board, 0, Default::default()).unwrap();
+    assert!(!result.plot.branches.is_empty());
+    for b in &result.plot.branches {
+        assert!(harness.query_by_label(&b.label).is_some(), "legend entry for {}", b.label);
+    }
+}
