@@ -823,3 +823,42 @@ fn the_legend_names_each_groups_curve() {
         assert!(harness.query_by_label(&b.label).is_some(), "legend entry for {}", b.label);
     }
 }
+
+#[test]
+fn lengths_are_typed_in_mm_um_and_mil_and_shown_without_noise() {
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let mut harness = window(board);
+    select_rail(&mut harness, "V3V3_IO");
+    click(&mut harness, "mounting of group 1 from geometry");
+    select_all_and_type(&mut harness, "trace width", "0.3mm");
+    select_all_and_type(&mut harness, "pad-to-via trace length", "300um");
+    select_all_and_type(&mut harness, "via drill", "12 mil");
+    select_all_and_type(&mut harness, "power-to-ground via distance", "20mil");
+    let g = harness.state().board().rails[rail].decaps[0].mounting.unwrap();
+    let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b;
+    assert!(close(g.trace_width_m, 0.3e-3), "{}", g.trace_width_m);
+    assert!(close(g.trace_length_m, 300e-6), "{}", g.trace_length_m);
+    // 1 mil = 25.4 µm exactly (the inch is 25.4 mm by definition).
+    assert!(close(g.via_drill_m, 12.0 * 25.4e-6), "{}", g.via_drill_m);
+    assert!(close(g.via_pitch_m, 20.0 * 25.4e-6), "{}", g.via_pitch_m);
+    let shown = |h: &Harness<'_, App>, label: &str| h.get_by_label(label).value().unwrap_or_default();
+    assert_eq!(shown(&harness, "trace width"), "300 µm");
+    assert_eq!(shown(&harness, "via drill"), "304.8 µm");
+    assert_eq!(shown(&harness, "power-to-ground via distance"), "508 µm");
+    // A whole-number field shows a whole number; no field shows floating-point noise.
+    assert_eq!(shown(&harness, "vias per pad"), g.vias_per_pad.to_string());
+    for label in ["pad-to-via trace length", "trace height over its plane", "via length to the planes"] {
+        let text = shown(&harness, label);
+        assert!(text.len() <= 10 && (text.ends_with(" µm") || text.ends_with(" mm")), "{label}: {text}");
+    }
+}
+
+#[test]
+fn a_negative_entry_gives_one_message_in_the_words_typed() {
+    let mut harness = window(sample());
+    select_all_and_type(&mut harness, "Voltage", "-5n");
+    assert_eq!(harness.query_all_by_label_contains("Refused:").count(), 1, "one message");
+    assert!(harness.query_by_label_contains("not -5n").is_some(), "in the words typed");
+    assert!(harness.query_by_label_contains("e-9").is_none(), "never the raw SI value");
+}
