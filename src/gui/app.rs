@@ -250,16 +250,24 @@ impl App {
 
     /// Undo the last edit.
     pub fn undo(&mut self) {
+        let before = self.doc.board.clone();
         match self.doc.history.undo(&mut self.doc.board) {
-            Some(label) => self.after_history(format!("Undone: {label}")),
+            Some(label) => {
+                let now = now_words(&before, &self.doc.board, "back to");
+                self.after_history(format!("Undone: {label}{now}"))
+            }
             None => self.status = Some(("Nothing to undo.".into(), false)),
         }
     }
 
     /// Redo the last undone edit.
     pub fn redo(&mut self) {
+        let before = self.doc.board.clone();
         match self.doc.history.redo(&mut self.doc.board) {
-            Some(label) => self.after_history(format!("Redone: {label}")),
+            Some(label) => {
+                let now = now_words(&before, &self.doc.board, "now");
+                self.after_history(format!("Redone: {label}{now}"))
+            }
             None => self.status = Some(("Nothing to redo.".into(), false)),
         }
     }
@@ -744,6 +752,19 @@ impl eframe::App for App {
     fn ui(&mut self, ui: &mut Ui, _frame: &mut eframe::Frame) {
         self.show(ui);
     }
+}
+
+/// What an undo or redo left a changed count at, in words ("; the count of X on R is back to 4"), so the message
+/// does not read as if the edit's own value ("… to 10") were the board's now. Empty when no count changed.
+fn now_words(before: &Board, after: &Board, how: &str) -> String {
+    for (rb, ra) in before.rails.iter().zip(&after.rails) {
+        for (gb, ga) in rb.decaps.iter().zip(&ra.decaps) {
+            if gb.part == ga.part && gb.count != ga.count {
+                return format!("; the count of {} on {} is {how} {}", ga.part, ra.name, ga.count);
+            }
+        }
+    }
+    String::new()
 }
 
 /// How a file is named in the title and the status line.

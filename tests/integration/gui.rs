@@ -862,3 +862,21 @@ fn a_negative_entry_gives_one_message_in_the_words_typed() {
     assert!(harness.query_by_label_contains("not -5n").is_some(), "in the words typed");
     assert!(harness.query_by_label_contains("e-9").is_none(), "never the raw SI value");
 }
+
+#[test]
+fn undo_says_what_it_undid_and_what_the_count_is_now() {
+    let board = sample();
+    let group = board.rails[0].decaps.iter().position(|g| g.part == "mlcc-100n-0402").unwrap();
+    let was = board.rails[0].decaps[group].count;
+    let mut harness = window(board);
+    select_all_and_type(&mut harness, "count of mlcc-100n-0402", "40");
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    let line = format!(
+        "Undone: count of mlcc-100n-0402 on VCORE to 40; the count of mlcc-100n-0402 on VCORE is back to {was}"
+    );
+    assert!(harness.query_by_label(&line).is_some(), "{line}");
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Y);
+    harness.run();
+    assert!(harness.query_by_label_contains("is now 40").is_some());
+}
