@@ -72,6 +72,8 @@ pub enum Pending {
     OpenDialog,
     /// Close the window.
     Close,
+    /// Start a new board.
+    New,
 }
 
 /// The planner window.
@@ -86,6 +88,10 @@ pub struct App {
     pub(super) pins: Vec<Pin>,
     /// Each rail's home view on the plot, by rail index.
     pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
+    /// The window's own path field, open when a file dialog gave no answer.
+    pub(super) path_prompt: Option<super::exports::PathPrompt>,
+    /// The size of an exported plot, pixels.
+    pub(super) plot_export_size: [u32; 2],
     /// Go back to the selected rail's home view on the next frame (a double-click on the plot asked for it).
     pub(super) reset_plot: bool,
     pub(super) next_pin: usize,
@@ -99,9 +105,8 @@ pub struct App {
     pub(super) show_worst_pattern: bool,
     pub(super) pattern: Option<super::time_view::PatternView>,
     pub(super) suggest: super::suggest_panel::SuggestState,
-    /// Where the plot (or the time view's plot) was drawn last frame, in points: what a PNG of the plot takes.
+    /// Where the plot (or the time view's plot) was drawn last frame, in points.
     pub(super) plot_rect: Option<egui::Rect>,
-    pub(super) shot: Option<super::exports::PendingShot>,
     pub(super) coupling: super::coupling_tool::CouplingTool,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
@@ -135,6 +140,8 @@ impl App {
             pins: Vec::new(),
             home_views: Default::default(),
             reset_plot: false,
+            path_prompt: None,
+            plot_export_size: [1200, 700],
             next_pin: 1,
             fields: Fields::default(),
             store: Store::new(None),
@@ -146,7 +153,6 @@ impl App {
             pattern: None,
             suggest: Default::default(),
             plot_rect: None,
-            shot: None,
             coupling: Default::default(),
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
@@ -290,11 +296,10 @@ impl App {
     fn perform(&mut self, action: Pending) {
         match action {
             Pending::Open(path) => self.open_now(&path),
-            Pending::OpenDialog => match files::pick_open(self.doc.path.as_deref()) {
-                Some(path) => self.open_now(&path),
-                // Also what a desktop without a file-dialog service answers: say so rather than do nothing.
-                None => self.status = Some((NO_FILE_CHOSEN.into(), false)),
-            },
+            // Without an answer (also what a desktop without a file-dialog service gives), the window's own path
+            // field opens.
+            Pending::OpenDialog => self.choose_file(super::exports::FileAction::Open),
+            Pending::New => self.replace_document(new_board(), None, "new board".into(), History::new_unsaved()),
             Pending::Close => {
                 self.allow_close = true;
                 self.store.remove_autosave();
@@ -306,21 +311,7 @@ impl App {
     pub fn open_now(&mut self, path: &Path) {
         match read_board_keeping_unusable(path) {
             Ok(board) => {
-                self.doc = Document {
-                    board,
-                    path: Some(path.to_path_buf()),
-                    label: file_label(path),
-                    history: History::new(),
-                };
-                self.results.clear();
-                self.suggest.forget();
-                self.fields.clear();
-                self.pins.clear();
-                self.home_views.clear();
-                self.selected_rail = 0;
-                self.selected_finding = None;
-                self.selected_part = 0;
-                self.load_error = None;
+                self.replace_document(board, Some(path.to_path_buf()), file_label(path), History::new());
                 self.store.remove_autosave();
                 self.autosaved_revision = self.doc.history.revision();
                 self.prefs.add_recent(path);
@@ -332,6 +323,26 @@ impl App {
                 self.load_error = Some(e);
             }
         }
+    }
+
+    /// Put another document in the window (open, sample, restore, new) and reset every per-document view state
+    /// with it, in this one place: selections, typed texts, pins, plot views, suggestions, the yield shown.
+    pub(super) fn replace_document(&mut self, board: Board, path: Option<PathBuf>, label: String, history: History) {
+        self.doc = Document { board, path, label, history };
+        self.results.clear();
+        self.suggest.forget();
+        self.fields.clear();
+        self.pins.clear();
+        self.home_views.clear();
+        self.reset_plot = false;
+        self.selected_rail = 0;
+        self.selected_finding = None;
+        self.scroll_to_finding = false;
+        self.selected_part = 0;
+        self.yield_shown = None;
+        self.pattern = None;
+        self.load_error = None;
+        self.path_prompt = None;
     }
 
     /// Save to the board's file, or ask where when it has none. Returns true when saved.
@@ -347,6 +358,15 @@ impl App {
         match files::pick_save(self.doc.path.as_deref(), &self.doc.board.name) {
             Some(path) => self.save_to(&path),
             None => {
+                self.path_prompt = Some(super::exports::PathPrompt {
+                    action: super::exports::FileAction::SaveBoard,
+                    text: self
+                        .doc
+                        .path
+                        .as_ref()
+                        .map(|p| p.display().to_string())
+                        .unwrap_or_else(|| format!("{}.json", files::slug(&self.doc.board.name))),
+                });
                 self.status = Some((NO_FILE_CHOSEN.into(), false));
                 false
             }
@@ -393,7 +413,6 @@ impl App {
             self.theme_applied = Some(self.prefs.dark);
         }
         self.handle_input(&ctx);
-        self.poll_screenshot();
         self.results.refresh(&self.doc.board);
         if self.selected_rail >= self.doc.board.rails.len() {
             self.selected_rail = self.doc.board.rails.len().saturating_sub(1);
@@ -436,6 +455,7 @@ impl App {
         });
 
         self.coupling_window(&ctx);
+        self.path_prompt_window(&ctx);
         self.dialogs(&ctx);
         self.update_title(&ctx);
         self.autosave(&ctx);
@@ -490,6 +510,10 @@ impl App {
     fn menu_bar(&mut self, ui: &mut Ui) {
         egui::MenuBar::new().ui(ui, |ui| {
             ui.menu_button("File", |ui| {
+                if ui.button("New board").clicked() {
+                    ui.close();
+                    self.request(Pending::New);
+                }
                 if ui.add(egui::Button::new("Open…").shortcut_text("Ctrl+O")).clicked() {
                     self.request(Pending::OpenDialog);
                     ui.close();
@@ -519,13 +543,20 @@ impl App {
                     self.save_as();
                 }
                 ui.separator();
-                if ui.button("Save the review report (HTML)…").clicked() {
-                    ui.close();
-                    self.save_report();
-                }
-                if ui.button("Save the plot as PNG…").clicked() {
-                    ui.close();
-                    self.save_plot_png(ui.ctx());
+                use super::exports::FileAction;
+                for (words, action) in [
+                    ("Save the review report (HTML)…", FileAction::Report),
+                    ("Save the plot as PNG…", FileAction::PlotPng),
+                    ("Save the plot as SVG…", FileAction::PlotSvg),
+                    ("Export the rail's impedance (Touchstone .s1p)…", FileAction::Touchstone),
+                    ("Export the rail's impedance (CSV)…", FileAction::Csv),
+                    ("Export the rail as a SPICE netlist…", FileAction::Netlist),
+                    ("Export the bill of materials (CSV)…", FileAction::Bom),
+                ] {
+                    if ui.button(words).clicked() {
+                        ui.close();
+                        self.choose_file(action);
+                    }
                 }
                 ui.separator();
                 if ui.button("Quit").clicked() {
@@ -574,19 +605,8 @@ impl App {
             return;
         }
         if let Ok(board) = crate::samples::default_board() {
-            self.doc = Document {
-                board,
-                path: None,
-                label: format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME),
-                history: History::new(),
-            };
-            self.results.clear();
-            self.suggest.forget();
-            self.fields.clear();
-            self.pins.clear();
-            self.home_views.clear();
-            self.selected_rail = 0;
-            self.selected_finding = None;
+            let label = format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME);
+            self.replace_document(board, None, label, History::new());
         }
     }
 
@@ -643,6 +663,7 @@ impl App {
                 Pending::Open(p) => format!("Open {} instead?", p.display()),
                 Pending::OpenDialog => "Open another board instead?".into(),
                 Pending::Close => "Close the window?".into(),
+                Pending::New => "Start a new board instead?".into(),
             };
             let text = format!("The board \"{}\" has changes that are not saved. {what}", self.doc.board.name);
             let choice =
@@ -706,14 +727,7 @@ impl App {
                     Some(p) => format!("{} (restored)", file_label(p)),
                     None => "restored work".into(),
                 };
-                self.doc = Document { board, path: left.origin.clone(), label, history: History::new_unsaved() };
-                self.results.clear();
-                self.suggest.forget();
-                self.fields.clear();
-                self.pins.clear();
-                self.home_views.clear();
-                self.selected_rail = 0;
-                self.selected_finding = None;
+                self.replace_document(board, left.origin.clone(), label, History::new_unsaved());
                 self.store.forget_left_over(left);
                 self.status = Some(("Restored the unsaved work; save it to keep it.".into(), false));
             }
@@ -783,10 +797,22 @@ fn human_duration(secs: u64) -> String {
 
 /// A minimal valid board, used only if the built-in sample could not be read (which the tests rule out).
 fn fallback_board() -> Board {
+    new_board()
+}
+
+/// A new board: one rail to start from (1 V, 5 % ripple, 1 A step, a regulator, no capacitors yet) and no parts.
+pub(super) fn new_board() -> Board {
+    let mut board = Board::named("New board");
+    board.rails.push(new_rail("RAIL"));
+    board
+}
+
+/// A new rail named `name`: 1 V, 5 % ripple, a 1 A load step, a band of 1 kHz to 100 MHz and a regulator of
+/// 1 mΩ and 10 nH (round starting values of our own, to be replaced by the design's).
+pub(super) fn new_rail(name: &str) -> crate::model::Rail {
     use crate::model::{Combine, Load, Rail, Source};
-    let mut board = Board::named("Empty board");
-    board.rails.push(Rail {
-        name: "RAIL".into(),
+    Rail {
+        name: name.into(),
         voltage_v: 1.0,
         ripple_pct: 5.0,
         band_hz: Some([1e3, 1e8]),
@@ -798,8 +824,7 @@ fn fallback_board() -> Board {
         loads: vec![Load::new("load", 1.0, None)],
         decaps: Vec::new(),
         placement: None,
-    });
-    board
+    }
 }
 
 /// A modal question with three answers; the index of the one clicked this frame, if any.

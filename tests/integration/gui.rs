@@ -880,3 +880,51 @@ fn undo_says_what_it_undid_and_what_the_count_is_now() {
     harness.run();
     assert!(harness.query_by_label_contains("is now 40").is_some());
 }
+
+#[test]
+fn new_board_and_add_rail_from_the_window() {
+    let mut harness = window(sample());
+    click(&mut harness, "File");
+    click(&mut harness, "New board");
+    assert_eq!(harness.state().board().name, "New board");
+    assert_eq!(harness.state().board().rails.len(), 1);
+    click(&mut harness, "Add rail");
+    assert_eq!(harness.state().board().rails.len(), 2);
+    assert_eq!(harness.state().selected_rail(), 1);
+    // The new rail is analysed like any other (no capacitors yet: the engine's verdict is shown).
+    let a = engine(harness.state().board(), 1);
+    assert_shows(&harness, &a);
+}
+
+#[test]
+fn every_export_from_the_window_is_the_libraries_and_the_path_field_works_without_a_dialog() {
+    use hushrail::gui::FileAction;
+    let dir = tempfile::tempdir().unwrap();
+    let board = sample();
+    let mut harness = window(board.clone());
+    // The plot, drawn by the report's plotting code with title and verdict, at the chosen size.
+    let svg = String::from_utf8(harness.state().export_bytes(FileAction::PlotSvg).unwrap()).unwrap();
+    let check = hushrail::analysis::check_rail(&board, 0, &Default::default()).unwrap();
+    assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"700\""), "size");
+    assert!(svg.contains("VCORE") && svg.contains(&hushrail::io::escape(&check.verdict_line())), "title and verdict");
+    assert!(svg.contains("frequency") && svg.contains("target"), "axes and legend");
+    let png = harness.state().export_bytes(FileAction::PlotPng).unwrap();
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+    assert_eq!(u32::from_be_bytes(png[16..20].try_into().unwrap()), 1200, "PNG width");
+    // The bill of materials is the CLI's.
+    let bom = harness.state().export_bytes(FileAction::Bom).unwrap();
+    assert_eq!(String::from_utf8(bom).unwrap(), hushrail::io::bom_csv(&hushrail::io::bill_of_materials(&board)));
+    let s1p = String::from_utf8(harness.state().export_bytes(FileAction::Touchstone).unwrap()).unwrap();
+    assert!(s1p.contains("# Hz S RI R 50"));
+    let csv = String::from_utf8(harness.state().export_bytes(FileAction::Csv).unwrap()).unwrap();
+    assert!(csv.starts_with("freq_hz,z_re_ohm"));
+    let cir = String::from_utf8(harness.state().export_bytes(FileAction::Netlist).unwrap()).unwrap();
+    assert!(cir.to_ascii_lowercase().contains(".ac"));
+
+    // No file-dialog service here: the menu item opens the window's own path field.
+    let target = dir.path().join("bom.csv");
+    click(&mut harness, "File");
+    click(&mut harness, "Export the bill of materials (CSV)…");
+    select_all_and_type(&mut harness, "Path", target.to_str().unwrap());
+    assert!(target.exists(), "written through the path field");
+}
