@@ -375,7 +375,7 @@ mod tests {
         // "mil" is a length only: in a capacitance field it is refused.
         assert!(parse("20mil", Unit::Farad).is_err());
         assert!(parse("20 mm", Unit::Ohm).is_err());
-        assert_eq!(format_length(500.00000000000006e-6), "500 µm");
+        assert_eq!(format_length(f64::from_bits(5e-4f64.to_bits() + 1)), "500 µm");
         assert_eq!(format_length(0.0015), "1.5 mm");
         assert_eq!(format_length(1e-3), "1 mm");
         assert_eq!(format_length(20.0 * 25.4e-6), "508 µm");

@@ -204,7 +204,7 @@ mod tests {
         assert_eq!(display(4.7e-6, Unit::Farad), "4.70 µF");
         assert_eq!(display(0.85, Unit::Volt), "850 mV");
         assert_eq!(display(1.2345, Unit::Volt), "1.2345 V");
-        assert_eq!(display(500.00000000000006e-6, Unit::Metre), "500 µm");
+        assert_eq!(display(f64::from_bits(5e-4f64.to_bits() + 1), Unit::Metre), "500 µm");
         assert_eq!(display(2.0 / 3.0 * 1e-9, Unit::Henry), "666.7 pH");
         assert_eq!(display(1.0, Unit::None), "1");
         assert_eq!(display(5.0, Unit::None), "5");
