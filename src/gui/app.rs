@@ -14,7 +14,7 @@ use std::path::{Path, PathBuf};
 
 /// What the status line says when a file dialog comes back without a file.
 pub(super) const NO_FILE_CHOSEN: &str = "No file chosen (if no dialog appeared, this desktop offers no file-dialog service: \
-                              drop a board file onto the window instead).";
+                              type the path in the window's path field, or drop a board file onto the window).";
 
 /// Seconds between autosaves of unsaved work.
 const AUTOSAVE_EVERY_S: f64 = 3.0;
