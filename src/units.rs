@@ -56,7 +56,8 @@ impl Unit {
             Unit::Volt => &["V", "v"],
             Unit::Ampere => &["A", "a"],
             Unit::Second => &["s"],
-            Unit::Metre => &[],
+            // "0.3mm", "300um", "300 µm": the prefix, then the metre's symbol. ("mil" is read apart, below.)
+            Unit::Metre => &["m"],
             Unit::None => &["%"],
         }
     }
@@ -97,6 +98,10 @@ const PREFIXES: &[(&str, f64)] = &[
     ("G", 1e9),
     ("T", 1e12),
 ];
+
+/// One mil (a thousandth of an inch) in metres: exact by the definition of the inch (25.4 mm).
+pub const MIL_M: f64 = 25.4e-6;
+const MIL_SPELLINGS: &[&str] = &["mil", "mils", "thou"];
 
 const EXPECTED: &str = "expected a number with an optional SI prefix, such as 100n, 4u7, 4.7µ, 10m, 1.5k or 2e-9";
 
@@ -143,6 +148,16 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, ParseError> {
         number_text.parse().map_err(|_| err(format!("\"{number_text}\" is not a number; {EXPECTED}")))?;
     let mut rest = trimmed[i..].trim_start();
 
+    // Lengths in mils (thousandths of an inch, exactly 25.4 µm), as board designers give them: "20mil", "12 mil".
+    if unit == Unit::Metre && MIL_SPELLINGS.contains(&rest.to_ascii_lowercase().as_str()) {
+        let metres = value * MIL_M;
+        return if metres.is_finite() {
+            Ok(metres)
+        } else {
+            Err(err("is too large to be a number hushrail can use".into()))
+        };
+    }
+
     // An optional prefix, possibly followed by digits that continue the number ("4u7" = 4.7u).
     if let Some((prefix, scale)) = PREFIXES.iter().find(|(p, _)| rest.starts_with(p)) {
         let after = &rest[prefix.len()..];
@@ -181,6 +196,32 @@ pub fn parse(text: &str, unit: Unit) -> Result<f64, ParseError> {
         return Err(err("is too small to be a number hushrail can use (it rounds to 0)".into()));
     }
     Ok(value)
+}
+
+/// A length as designers read it: in mm from 1 mm up, else in µm, to four significant digits with trailing zeros
+/// dropped, so that 500.00000000000006 µm reads "500 µm" and 0.0015 m reads "1.5 mm". Reads back through
+/// [`parse`] with [`Unit::Metre`].
+pub fn format_length(metres: f64) -> String {
+    if !metres.is_finite() {
+        return format!("{metres}");
+    }
+    if metres == 0.0 {
+        return "0 mm".into();
+    }
+    let (scale, unit) = if metres.abs() >= 1e-3 { (1e3, "mm") } else { (1e6, "µm") };
+    format!("{} {unit}", trim_digits(metres * scale, 4))
+}
+
+/// `value` to `digits` significant digits as plain decimal text, trailing zeros (and a bare point) dropped.
+pub fn trim_digits(value: f64, digits: usize) -> String {
+    if value == 0.0 || !value.is_finite() {
+        return format!("{value}");
+    }
+    let magnitude = value.abs().log10().floor() as i32;
+    let decimals = (digits as i32 - 1 - magnitude).max(0) as usize;
+    let text = format!("{value:.decimals$}");
+    let text = if text.contains('.') { text.trim_end_matches('0').trim_end_matches('.').to_string() } else { text };
+    if text == "-0" { "0".into() } else { text }
 }
 
 /// Format a value with an SI prefix and 3 significant digits, followed by the unit symbol: "4.70 µF", "10.0 mΩ",
@@ -310,6 +351,42 @@ mod tests {
         assert_eq!(format(0.0, Unit::Ohm), "0 Ω");
         assert_eq!(format(-2.5e-3, Unit::Volt), "-2.50 mV");
         assert_eq!(format(12.5, Unit::None), "12.5");
+    }
+
+    #[test]
+    fn lengths_as_designers_type_them() {
+        // 1 mil = 25.4 µm exactly (the inch is 25.4 mm by definition, international yard and pound agreement 1959).
+        let cases: &[(&str, f64)] = &[
+            ("0.3mm", 0.3e-3),
+            ("0.3 mm", 0.3e-3),
+            ("300um", 300e-6),
+            ("300 µm", 300e-6),
+            ("20mil", 20.0 * 25.4e-6),
+            ("12 mil", 12.0 * 25.4e-6),
+            ("12 MIL", 12.0 * 25.4e-6),
+            ("8 mils", 8.0 * 25.4e-6),
+            ("0.3m", 0.3e-3),
+            ("1e-4", 1e-4),
+        ];
+        for (text, want) in cases {
+            let got = parse(text, Unit::Metre).unwrap_or_else(|e| panic!("{text}: {e}"));
+            assert!(close(got, *want), "{text}: got {got}, want {want}");
+        }
+        // "mil" is a length only: in a capacitance field it is refused.
+        assert!(parse("20mil", Unit::Farad).is_err());
+        assert!(parse("20 mm", Unit::Ohm).is_err());
+        assert_eq!(format_length(f64::from_bits(5e-4f64.to_bits() + 1)), "500 µm");
+        assert_eq!(format_length(0.0015), "1.5 mm");
+        assert_eq!(format_length(1e-3), "1 mm");
+        assert_eq!(format_length(20.0 * 25.4e-6), "508 µm");
+        assert_eq!(format_length(6.666666666e-4), "666.7 µm");
+        assert_eq!(format_length(0.1), "100 mm");
+        for v in [1e-5, 3.3e-4, 0.0123, 2.54e-5] {
+            let back = parse(&format_length(v), Unit::Metre).unwrap();
+            assert!((back - v).abs() <= 1e-4 * v, "{v}");
+        }
+        assert_eq!(trim_digits(2.0, 4), "2");
+        assert_eq!(trim_digits(0.000123456, 3), "0.000123");
     }
 
     #[test]

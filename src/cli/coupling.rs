@@ -32,8 +32,8 @@ pub struct CouplingArgs {
     /// How far below the lowest frequency the corner sits (10 is common practice).
     #[arg(long, default_value = "10")]
     pub factor: String,
-    /// Preferred values (IEC 60063) to round up to.
-    #[arg(long, value_enum, default_value = "e12")]
+    /// Preferred values (IEC 60063) to round up to (E6, E12, E24 or E96, in any case).
+    #[arg(long, value_enum, ignore_case = true, default_value = "e12")]
     pub series: SeriesArg,
     /// Print JSON instead of text.
     #[arg(long)]

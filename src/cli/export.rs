@@ -1,11 +1,9 @@
 //! `hushrail export`: one rail's impedance for other tools, as a one-port Touchstone file and/or CSV.
 
 use super::{EXIT_PASS, load_board};
-use crate::analysis::{log_grid, magnitude_phase, sweep_in, target_impedance};
+use crate::analysis::{log_grid, sweep_in, target_impedance};
 use crate::io::s1p_string;
-use crate::units::{full_precision, push_full_precision};
 use clap::Args;
-use num_complex::Complex64;
 use std::path::PathBuf;
 
 /// Reference impedance of exported Touchstone files, Ω (the usual 50 Ω of test equipment).
@@ -63,26 +61,9 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
         outputs.push((path, s1p_string(&grid, &z, EXPORT_Z0_OHM, &comments)));
     }
     if let Some(path) = &args.csv {
-        outputs.push((path, csv_text(&grid, &z, target_impedance(rail))));
+        outputs.push((path, crate::io::impedance_csv(&grid, &z, target_impedance(rail))));
     }
     let files: Vec<(&std::path::Path, &[u8])> = outputs.iter().map(|(p, t)| (p.as_path(), t.as_bytes())).collect();
     super::write_files(&files, args.board.as_ref(), &board)?;
     Ok(EXIT_PASS)
-}
-
-/// The CSV of an export, every number in full precision.
-fn csv_text(freq_hz: &[f64], z: &[Complex64], target_ohm: f64) -> String {
-    let mut text = String::with_capacity(128 * freq_hz.len() + 64);
-    text.push_str("freq_hz,z_re_ohm,z_im_ohm,z_mag_ohm,z_phase_deg,target_ohm\n");
-    let target = full_precision(target_ohm);
-    for (f, z) in freq_hz.iter().zip(z) {
-        let (mag, phase) = magnitude_phase(*z);
-        for x in [*f, z.re, z.im, mag, phase] {
-            push_full_precision(&mut text, x);
-            text.push(',');
-        }
-        text.push_str(&target);
-        text.push('\n');
-    }
-    text
 }

@@ -26,11 +26,16 @@ pub const EXIT_MISS: i32 = 1;
 /// Exit code: bad input (the message is on stderr).
 pub const EXIT_BAD_INPUT: i32 = 2;
 
+/// How values are written on the command line, shown under every `--help`.
+pub const NOTATION_HELP: &str = "Values are in engineering notation: 100n, 4u7, 10m, 1.5k, 2e-9, 1MHz; lengths also \
+as 0.3mm, 300um, 20mil or \"12 mil\" (1 mil = 25.4 µm). A negative value needs an equals sign so that it is not taken \
+as a flag: --from=-5n (not --from -5n).";
+
 /// Plan the decoupling of a board's power rails.
 ///
 /// With no subcommand, opens the planner window on BOARD (or on the built-in sample board).
 #[derive(Debug, Parser)]
-#[command(name = "hushrail", version, args_conflicts_with_subcommands = true)]
+#[command(name = "hushrail", version, args_conflicts_with_subcommands = true, after_help = NOTATION_HELP)]
 pub struct Cli {
     /// Board file to open in the window.
     pub board: Option<PathBuf>,
@@ -45,28 +50,38 @@ pub enum Command {
     /// Check every rail of a board against its target: verdict, worst |Z|, margin and findings.
     ///
     /// Exit status: 0 when every rail meets target, 1 when some rail misses, 2 on bad input.
+    #[command(after_help = NOTATION_HELP)]
     Check(check::CheckArgs),
     /// Print |Z(f)| of one rail as CSV: freq_hz,z_mag_ohm,z_phase_deg,target_ohm.
+    #[command(after_help = NOTATION_HELP)]
     Sweep(sweep::SweepArgs),
     /// The rail's voltage after a load-current step, and the worst case over on/off load patterns.
     ///
     /// Exit status: 0 when the step's droop stays within voltage × ripple, 1 when not, 2 on bad input.
+    #[command(after_help = NOTATION_HELP)]
     Droop(droop::DroopArgs),
     /// The mounting inductance of a capacitor from its pad, trace and via geometry, term by term.
+    #[command(after_help = NOTATION_HELP)]
     Mounting(mounting::MountingArgs),
     /// Size a series coupling capacitor for the lowest frequency it must pass.
+    #[command(after_help = NOTATION_HELP)]
     Coupling(coupling::CouplingArgs),
     /// Suggest mixes of candidate parts that meet a rail's target at the least cost, count or board area.
     ///
     /// Exit status: 0 when some option meets target, 1 when none can (the reason is printed), 2 on bad input.
+    #[command(after_help = NOTATION_HELP)]
     Suggest(suggest::SuggestArgs),
     /// Write one rail's network as a SPICE netlist with an AC sweep (ngspice runs it to the same |Z|).
+    #[command(after_help = NOTATION_HELP)]
     Netlist(netlist::NetlistArgs),
     /// Write one rail's impedance for other tools: a one-port Touchstone file (--touchstone) and/or CSV (--csv).
+    #[command(after_help = NOTATION_HELP)]
     Export(export::ExportArgs),
     /// The bill of materials: each fitted part with its count per rail, total count and cost.
+    #[command(after_help = NOTATION_HELP)]
     Bom(bom::BomArgs),
     /// Write the review report: one self-contained HTML file with every rail's plot, verdict and findings.
+    #[command(after_help = NOTATION_HELP)]
     Report(report::ReportArgs),
     /// Place a rail from the layout's exports: a placement (centroid) CSV and an optional BOM CSV, matched by
     /// designator; writes the placed board to a new file.

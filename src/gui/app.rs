@@ -14,7 +14,7 @@ use std::path::{Path, PathBuf};
 
 /// What the status line says when a file dialog comes back without a file.
 pub(super) const NO_FILE_CHOSEN: &str = "No file chosen (if no dialog appeared, this desktop offers no file-dialog service: \
-                              drop a board file onto the window instead).";
+                              type the path in the window's path field, or drop a board file onto the window).";
 
 /// Seconds between autosaves of unsaved work.
 const AUTOSAVE_EVERY_S: f64 = 3.0;
@@ -75,6 +75,8 @@ pub enum Pending {
     OpenDialog,
     /// Close the window.
     Close,
+    /// Start a new board.
+    New,
 }
 
 /// The planner window.
@@ -89,6 +91,12 @@ pub struct App {
     pub(super) pins: Vec<Pin>,
     /// Each rail's home view on the plot, by rail index.
     pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
+    /// The window's own path field, open when a file dialog gave no answer.
+    pub(super) path_prompt: Option<super::exports::PathPrompt>,
+    /// The size of an exported plot, pixels.
+    pub(super) plot_export_size: [u32; 2],
+    /// Go back to the selected rail's home view on the next frame (a double-click on the plot asked for it).
+    pub(super) reset_plot: bool,
     pub(super) next_pin: usize,
     pub(super) fields: Fields,
     pub(super) store: Store,
@@ -100,9 +108,8 @@ pub struct App {
     pub(super) show_worst_pattern: bool,
     pub(super) pattern: Option<super::time_view::PatternView>,
     pub(super) suggest: super::suggest_panel::SuggestState,
-    /// Where the plot (or the time view's plot) was drawn last frame, in points: what a PNG of the plot takes.
+    /// Where the plot (or the time view's plot) was drawn last frame, in points.
     pub(super) plot_rect: Option<egui::Rect>,
-    pub(super) shot: Option<super::exports::PendingShot>,
     pub(super) coupling: super::coupling_tool::CouplingTool,
     pub(super) findings_tab: FindingsTab,
     pub(super) selected_part: usize,
@@ -135,6 +142,9 @@ impl App {
             scroll_to_finding: false,
             pins: Vec::new(),
             home_views: Default::default(),
+            reset_plot: false,
+            path_prompt: None,
+            plot_export_size: [1200, 700],
             next_pin: 1,
             fields: Fields::default(),
             store: Store::new(None),
@@ -146,7 +156,6 @@ impl App {
             pattern: None,
             suggest: Default::default(),
             plot_rect: None,
-            shot: None,
             coupling: Default::default(),
             findings_tab: FindingsTab::Rail,
             selected_part: 0,
@@ -223,6 +232,11 @@ impl App {
         self.doc.history.is_dirty()
     }
 
+    /// Where the plot (or the time view's plot) was drawn in the last frame, in points.
+    pub fn plot_rect(&self) -> Option<egui::Rect> {
+        self.plot_rect
+    }
+
     /// The selected rail's index.
     pub fn selected_rail(&self) -> usize {
         self.selected_rail
@@ -253,16 +267,24 @@ impl App {
 
     /// Undo the last edit.
     pub fn undo(&mut self) {
+        let before = self.doc.board.clone();
         match self.doc.history.undo(&mut self.doc.board) {
-            Some(label) => self.after_history(format!("Undone: {label}")),
+            Some(label) => {
+                let now = now_words(&before, &self.doc.board, "back to");
+                self.after_history(format!("Undone: {label}{now}"))
+            }
             None => self.status = Some(("Nothing to undo.".into(), false)),
         }
     }
 
     /// Redo the last undone edit.
     pub fn redo(&mut self) {
+        let before = self.doc.board.clone();
         match self.doc.history.redo(&mut self.doc.board) {
-            Some(label) => self.after_history(format!("Redone: {label}")),
+            Some(label) => {
+                let now = now_words(&before, &self.doc.board, "now");
+                self.after_history(format!("Redone: {label}{now}"))
+            }
             None => self.status = Some(("Nothing to redo.".into(), false)),
         }
     }
@@ -285,11 +307,10 @@ impl App {
     fn perform(&mut self, action: Pending) {
         match action {
             Pending::Open(path) => self.open_now(&path),
-            Pending::OpenDialog => match files::pick_open(self.doc.path.as_deref()) {
-                Some(path) => self.open_now(&path),
-                // Also what a desktop without a file-dialog service answers: say so rather than do nothing.
-                None => self.status = Some((NO_FILE_CHOSEN.into(), false)),
-            },
+            // Without an answer (also what a desktop without a file-dialog service gives), the window's own path
+            // field opens.
+            Pending::OpenDialog => self.choose_file(super::exports::FileAction::Open),
+            Pending::New => self.replace_document(new_board(), None, "new board".into(), History::new_unsaved(), None),
             Pending::Close => {
                 self.allow_close = true;
                 self.store.remove_autosave();
@@ -301,22 +322,7 @@ impl App {
     pub fn open_now(&mut self, path: &Path) {
         match read_board_keeping_unusable_traced(path) {
             Ok((board, sha256)) => {
-                self.doc = Document {
-                    board,
-                    path: Some(path.to_path_buf()),
-                    label: file_label(path),
-                    history: History::new(),
-                    sha256: Some(sha256),
-                };
-                self.results.clear();
-                self.suggest.forget();
-                self.fields.clear();
-                self.pins.clear();
-                self.home_views.clear();
-                self.selected_rail = 0;
-                self.selected_finding = None;
-                self.selected_part = 0;
-                self.load_error = None;
+                self.replace_document(board, Some(path.to_path_buf()), file_label(path), History::new(), Some(sha256));
                 self.store.remove_autosave();
                 self.autosaved_revision = self.doc.history.revision();
                 self.prefs.add_recent(path);
@@ -328,6 +334,33 @@ impl App {
                 self.load_error = Some(e);
             }
         }
+    }
+
+    /// Put another document in the window (open, sample, restore, new) and reset every per-document view state
+    /// with it, in this one place: selections, typed texts, pins, plot views, suggestions, the yield shown.
+    pub(super) fn replace_document(
+        &mut self,
+        board: Board,
+        path: Option<PathBuf>,
+        label: String,
+        history: History,
+        sha256: Option<String>,
+    ) {
+        self.doc = Document { board, path, label, history, sha256 };
+        self.results.clear();
+        self.suggest.forget();
+        self.fields.clear();
+        self.pins.clear();
+        self.home_views.clear();
+        self.reset_plot = false;
+        self.selected_rail = 0;
+        self.selected_finding = None;
+        self.scroll_to_finding = false;
+        self.selected_part = 0;
+        self.yield_shown = None;
+        self.pattern = None;
+        self.load_error = None;
+        self.path_prompt = None;
     }
 
     /// Save to the board's file, or ask where when it has none. Returns true when saved.
@@ -343,6 +376,15 @@ impl App {
         match files::pick_save(self.doc.path.as_deref(), &self.doc.board.name) {
             Some(path) => self.save_to(&path),
             None => {
+                self.path_prompt = Some(super::exports::PathPrompt {
+                    action: super::exports::FileAction::SaveBoard,
+                    text: self
+                        .doc
+                        .path
+                        .as_ref()
+                        .map(|p| p.display().to_string())
+                        .unwrap_or_else(|| format!("{}.json", files::slug(&self.doc.board.name))),
+                });
                 self.status = Some((NO_FILE_CHOSEN.into(), false));
                 false
             }
@@ -390,7 +432,6 @@ impl App {
             self.theme_applied = Some(self.prefs.dark);
         }
         self.handle_input(&ctx);
-        self.poll_screenshot();
         self.results.refresh(&self.doc.board);
         if self.selected_rail >= self.doc.board.rails.len() {
             self.selected_rail = self.doc.board.rails.len().saturating_sub(1);
@@ -403,14 +444,16 @@ impl App {
 
         egui::Panel::top("menu").show(ui, |ui| self.menu_bar(ui));
         egui::Panel::bottom("status").show(ui, |ui| self.status_bar(ui));
+        // The side columns keep their width whatever their content says (a caution that appears must not move
+        // the buttons under the pointer): their text wraps inside instead.
         egui::Panel::left("rails")
             .resizable(true)
-            .default_size(270.0)
-            .size_range(220.0..=420.0)
+            .default_size(220.0)
+            .size_range(190.0..=380.0)
             .show(ui, |ui| self.rails_list(ui));
         egui::Panel::right("side")
             .resizable(true)
-            .default_size(390.0)
+            .default_size(400.0)
             .size_range(330.0..=620.0)
             .show(ui, |ui| self.side_panel(ui));
         egui::CentralPanel::default().show(ui, |ui| {
@@ -418,21 +461,11 @@ impl App {
                 self.load_error_box(ui);
             }
             self.rail_header(ui);
-            ui.horizontal(|ui| {
-                ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong());
-                ui.selectable_value(
-                    &mut self.central_tab,
-                    CentralTab::Time,
-                    RichText::new("Voltage after a load step").strong(),
-                );
-            });
-            if self.central_tab == CentralTab::Impedance {
-                self.pins_bar(ui);
-            }
+            self.options_row(ui);
             egui::Panel::bottom("findings")
                 .resizable(true)
-                .default_size(190.0)
-                .size_range(90.0..=500.0)
+                .default_size(170.0)
+                .size_range(80.0..=560.0)
                 .show(ui, |ui| self.findings_panel(ui));
             egui::CentralPanel::no_frame().show(ui, |ui| match self.central_tab {
                 CentralTab::Impedance => self.plot(ui),
@@ -441,6 +474,7 @@ impl App {
         });
 
         self.coupling_window(&ctx);
+        self.path_prompt_window(&ctx);
         self.dialogs(&ctx);
         self.update_title(&ctx);
         self.autosave(&ctx);
@@ -495,6 +529,10 @@ impl App {
     fn menu_bar(&mut self, ui: &mut Ui) {
         egui::MenuBar::new().ui(ui, |ui| {
             ui.menu_button("File", |ui| {
+                if ui.button("New board").clicked() {
+                    ui.close();
+                    self.request(Pending::New);
+                }
                 if ui.add(egui::Button::new("Open…").shortcut_text("Ctrl+O")).clicked() {
                     self.request(Pending::OpenDialog);
                     ui.close();
@@ -524,13 +562,20 @@ impl App {
                     self.save_as();
                 }
                 ui.separator();
-                if ui.button("Save the review report (HTML)…").clicked() {
-                    ui.close();
-                    self.save_report();
-                }
-                if ui.button("Save the plot as PNG…").clicked() {
-                    ui.close();
-                    self.save_plot_png(ui.ctx());
+                use super::exports::FileAction;
+                for (words, action) in [
+                    ("Save the review report (HTML)…", FileAction::Report),
+                    ("Save the plot as PNG…", FileAction::PlotPng),
+                    ("Save the plot as SVG…", FileAction::PlotSvg),
+                    ("Export the rail's impedance (Touchstone .s1p)…", FileAction::Touchstone),
+                    ("Export the rail's impedance (CSV)…", FileAction::Csv),
+                    ("Export the rail as a SPICE netlist…", FileAction::Netlist),
+                    ("Export the bill of materials (CSV)…", FileAction::Bom),
+                ] {
+                    if ui.button(words).clicked() {
+                        ui.close();
+                        self.choose_file(action);
+                    }
                 }
                 ui.separator();
                 if ui.button("Quit").clicked() {
@@ -579,20 +624,9 @@ impl App {
             return;
         }
         if let Ok(board) = crate::samples::default_board() {
-            self.doc = Document {
-                board,
-                path: None,
-                label: format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME),
-                history: History::new(),
-                sha256: Some(crate::io::sha256_hex(crate::samples::default_board_text().as_bytes())),
-            };
-            self.results.clear();
-            self.suggest.forget();
-            self.fields.clear();
-            self.pins.clear();
-            self.home_views.clear();
-            self.selected_rail = 0;
-            self.selected_finding = None;
+            let label = format!("built-in sample ({})", crate::samples::DEFAULT_SAMPLE_NAME);
+            let sha256 = Some(crate::io::sha256_hex(crate::samples::default_board_text().as_bytes()));
+            self.replace_document(board, None, label, History::new(), sha256);
         }
     }
 
@@ -649,6 +683,7 @@ impl App {
                 Pending::Open(p) => format!("Open {} instead?", p.display()),
                 Pending::OpenDialog => "Open another board instead?".into(),
                 Pending::Close => "Close the window?".into(),
+                Pending::New => "Start a new board instead?".into(),
             };
             let text = format!("The board \"{}\" has changes that are not saved. {what}", self.doc.board.name);
             let choice =
@@ -712,15 +747,7 @@ impl App {
                     Some(p) => format!("{} (restored)", file_label(p)),
                     None => "restored work".into(),
                 };
-                self.doc =
-                    Document { board, path: left.origin.clone(), label, history: History::new_unsaved(), sha256: None };
-                self.results.clear();
-                self.suggest.forget();
-                self.fields.clear();
-                self.pins.clear();
-                self.home_views.clear();
-                self.selected_rail = 0;
-                self.selected_finding = None;
+                self.replace_document(board, left.origin.clone(), label, History::new_unsaved(), None);
                 self.store.forget_left_over(left);
                 self.status = Some(("Restored the unsaved work; save it to keep it.".into(), false));
             }
@@ -761,6 +788,19 @@ impl eframe::App for App {
     }
 }
 
+/// What an undo or redo left a changed count at, in words ("; the count of X on R is back to 4"), so the message
+/// does not read as if the edit's own value ("… to 10") were the board's now. Empty when no count changed.
+fn now_words(before: &Board, after: &Board, how: &str) -> String {
+    for (rb, ra) in before.rails.iter().zip(&after.rails) {
+        for (gb, ga) in rb.decaps.iter().zip(&ra.decaps) {
+            if gb.part == ga.part && gb.count != ga.count {
+                return format!("; the count of {} on {} is {how} {}", ga.part, ra.name, ga.count);
+            }
+        }
+    }
+    String::new()
+}
+
 /// How a file is named in the title and the status line.
 fn file_label(path: &Path) -> String {
     path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| path.display().to_string())
@@ -777,10 +817,22 @@ fn human_duration(secs: u64) -> String {
 
 /// A minimal valid board, used only if the built-in sample could not be read (which the tests rule out).
 fn fallback_board() -> Board {
+    new_board()
+}
+
+/// A new board: one rail to start from (1 V, 5 % ripple, 1 A step, a regulator, no capacitors yet) and no parts.
+pub(super) fn new_board() -> Board {
+    let mut board = Board::named("New board");
+    board.rails.push(new_rail("RAIL"));
+    board
+}
+
+/// A new rail named `name`: 1 V, 5 % ripple, a 1 A load step, a band of 1 kHz to 100 MHz and a regulator of
+/// 1 mΩ and 10 nH (round starting values of our own, to be replaced by the design's).
+pub(super) fn new_rail(name: &str) -> crate::model::Rail {
     use crate::model::{Combine, Load, Rail, Source};
-    let mut board = Board::named("Empty board");
-    board.rails.push(Rail {
-        name: "RAIL".into(),
+    Rail {
+        name: name.into(),
         voltage_v: 1.0,
         ripple_pct: 5.0,
         band_hz: Some([1e3, 1e8]),
@@ -792,8 +844,7 @@ fn fallback_board() -> Board {
         loads: vec![Load::new("load", 1.0, None)],
         decaps: Vec::new(),
         placement: None,
-    });
-    board
+    }
 }
 
 /// A modal question with three answers; the index of the one clicked this frame, if any.

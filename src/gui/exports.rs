@@ -1,25 +1,20 @@
-//! What the window hands out besides the board file: the review report (the same HTML as `hushrail report`) and
-//! a PNG of the plot as it is on screen. Both are written atomically.
+//! What the window hands out besides the board file: the review report (the same HTML as `hushrail report`), the
+//! selected rail's plot as PNG or SVG (drawn by the report's plotting code, with title and verdict, at a chosen
+//! size), its impedance as Touchstone or CSV, its SPICE netlist, and the bill of materials, each made by the same
+//! library function as the command line's and written through `io::write`. Where no file dialog answers, the
+//! window's own path field takes the path.
 
 use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
 use crate::analysis::{DroopOptions, droop};
-use crate::io::{ReportContext, board_sha256, report_html, utc_date_today, write_png, write_report};
-use egui::{ColorImage, Context, Rect};
+use crate::analysis::{log_grid, sweep_in};
+use crate::io::{
+    AcSweep, ReportContext, SIZE_LIMITS, bill_of_materials, board_sha256, bom_csv, impedance_csv, impedance_png,
+    impedance_svg_titled, rail_netlist, report_html, s1p_string, utc_date_today, write_outputs, write_report,
+};
+use crate::units::{Unit, format};
+use egui::Context;
 use std::path::{Path, PathBuf};
-use std::sync::Arc;
-use std::sync::mpsc::{Receiver, TryRecvError, channel};
-
-/// A screenshot asked for, waiting for the renderer's pixels.
-pub struct PendingShot {
-    /// Where the PNG goes.
-    pub path: PathBuf,
-    /// The plot's area, in points, when it was asked for.
-    pub rect: Rect,
-    /// Points to pixels.
-    pub pixels_per_point: f32,
-    rx: Receiver<Arc<ColorImage>>,
-}
 
 impl App {
     /// Write the review report of the board as it stands to `path`: the same document `hushrail report` writes
@@ -56,96 +51,242 @@ impl App {
             }
         }
     }
+}
 
-    /// Ask where, then write the report.
-    pub(super) fn save_report(&mut self) {
-        match files::pick_export("HTML report", "html", self.doc.path.as_deref(), &self.doc.board.name, "-report") {
+/// A file the window reads or writes, chosen by a dialog or, where the desktop has no file-dialog service, typed
+/// into the window's own path field.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FileAction {
+    /// Open a board file.
+    Open,
+    /// Save the board.
+    SaveBoard,
+    /// The review report (HTML).
+    Report,
+    /// The selected rail's plot as PNG.
+    PlotPng,
+    /// The selected rail's plot as SVG.
+    PlotSvg,
+    /// The selected rail's impedance as a one-port Touchstone file.
+    Touchstone,
+    /// The selected rail's impedance as CSV.
+    Csv,
+    /// The selected rail as a SPICE netlist with an AC sweep.
+    Netlist,
+    /// The bill of materials (CSV).
+    Bom,
+}
+
+impl FileAction {
+    /// The filter name and file extension.
+    fn kind(self) -> (&'static str, &'static str) {
+        match self {
+            FileAction::Open | FileAction::SaveBoard => ("Board file", "json"),
+            FileAction::Report => ("HTML report", "html"),
+            FileAction::PlotPng => ("PNG image", "png"),
+            FileAction::PlotSvg => ("SVG image", "svg"),
+            FileAction::Touchstone => ("Touchstone file", "s1p"),
+            FileAction::Csv => ("CSV file", "csv"),
+            FileAction::Netlist => ("SPICE netlist", "cir"),
+            FileAction::Bom => ("bill of materials", "csv"),
+        }
+    }
+
+    /// What the path field's button says.
+    fn verb(self) -> &'static str {
+        if self == FileAction::Open { "Open" } else { "Save" }
+    }
+}
+
+/// The window's own path field, shown when no file dialog answered.
+#[derive(Debug, Clone)]
+pub struct PathPrompt {
+    /// What the path is for.
+    pub action: FileAction,
+    /// The path as typed.
+    pub text: String,
+}
+
+/// Points a decade of the impedance sweep the window's Touchstone, CSV and netlist exports write (as the reference
+/// data).
+const EXPORT_PER_DECADE: usize = 20;
+
+impl App {
+    /// Ask for a file for `action` with the desktop's dialog; with no answer, open the window's path field so the
+    /// action can still be done.
+    pub fn choose_file(&mut self, action: FileAction) {
+        let (what, ext) = action.kind();
+        let board_path = self.doc.path.clone();
+        let picked = match action {
+            FileAction::Open => files::pick_open(board_path.as_deref()),
+            FileAction::SaveBoard => files::pick_save(board_path.as_deref(), &self.doc.board.name),
+            _ => {
+                files::pick_export(what, ext, board_path.as_deref(), &self.doc.board.name, &self.export_suffix(action))
+            }
+        };
+        match picked {
             Some(path) => {
-                self.save_report_to(&path);
+                self.file_action(action, &path);
             }
-            None => self.status = Some((NO_FILE_CHOSEN.into(), false)),
+            None => {
+                let suggested = self.suggested_path(action);
+                self.path_prompt = Some(PathPrompt { action, text: suggested.display().to_string() });
+                self.status = Some((NO_FILE_CHOSEN.into(), false));
+            }
         }
     }
 
-    /// Ask where, then ask the renderer for the window's pixels; the plot's area is cut out and written when they
-    /// arrive (a frame later).
-    pub(super) fn save_plot_png(&mut self, ctx: &Context) {
-        let Some(rect) = self.plot_rect else {
-            self.status = Some(("There is no plot on screen to save.".into(), true));
-            return;
-        };
-        let suffix = format!("-{}", self.doc.board.rails.get(self.selected_rail).map_or("plot", |r| r.name.as_str()));
-        let Some(path) =
-            files::pick_export("PNG image", "png", self.doc.path.as_deref(), &self.doc.board.name, &suffix)
-        else {
-            self.status = Some((NO_FILE_CHOSEN.into(), false));
-            return;
-        };
-        let (tx, rx) = channel();
-        let waker = ctx.clone();
-        ctx.request_screenshot(move |image| {
-            let _ = tx.send(image);
-            // The pixels come between frames: wake the window to write them.
-            waker.request_repaint();
-        });
-        self.shot = Some(PendingShot { path, rect, pixels_per_point: ctx.pixels_per_point(), rx });
-        self.status = Some(("Taking the picture…".into(), false));
+    fn export_suffix(&self, action: FileAction) -> String {
+        let rail = self.doc.board.rails.get(self.selected_rail).map_or("rail", |r| r.name.as_str()).to_string();
+        match action {
+            FileAction::Report => "-report".into(),
+            FileAction::Bom => "-bom".into(),
+            FileAction::Open | FileAction::SaveBoard => String::new(),
+            _ => format!("-{rail}"),
+        }
     }
 
-    /// Write the PNG once the renderer's pixels have come.
-    pub(super) fn poll_screenshot(&mut self) {
-        let Some(shot) = &self.shot else { return };
-        let image = match shot.rx.try_recv() {
-            Ok(image) => image,
-            Err(TryRecvError::Empty) => return,
-            Err(TryRecvError::Disconnected) => {
-                self.shot = None;
-                self.status = Some(("The renderer gave no picture of the window.".into(), true));
-                return;
+    /// Where a file would go by default: beside the board, or in the working folder.
+    fn suggested_path(&self, action: FileAction) -> PathBuf {
+        if let (FileAction::Open | FileAction::SaveBoard, Some(p)) = (action, &self.doc.path) {
+            return p.clone();
+        }
+        let dir = self.doc.path.as_ref().and_then(|p| p.parent().map(Path::to_path_buf)).unwrap_or_default();
+        let name = format!("{}{}.{}", files::slug(&self.doc.board.name), self.export_suffix(action), action.kind().1);
+        dir.join(name)
+    }
+
+    /// Do `action` on `path` now. Returns true when done; the status line says what happened either way.
+    pub fn file_action(&mut self, action: FileAction, path: &Path) -> bool {
+        match action {
+            FileAction::Open => {
+                self.request(super::app::Pending::Open(path.to_path_buf()));
+                true
             }
-        };
-        let Some(shot) = self.shot.take() else { return };
-        self.status = Some(match crop_rgba(&image, shot.rect, shot.pixels_per_point) {
-            Some((w, h, rgba)) => match write_png(&shot.path, w, h, &rgba) {
-                Ok(()) => (format!("Wrote the plot {}.", shot.path.display()), false),
-                Err(e) => (e, true),
+            FileAction::SaveBoard => self.save_to(path),
+            FileAction::Report => self.save_report_to(path),
+            _ => match self.export_bytes(action) {
+                Ok(bytes) => {
+                    let inputs: Vec<&Path> = self.doc.path.iter().map(PathBuf::as_path).collect();
+                    match write_outputs(&[(path, &bytes)], &inputs) {
+                        Ok(()) => {
+                            self.status = Some((format!("Wrote {}.", path.display()), false));
+                            true
+                        }
+                        Err(e) => {
+                            self.status = Some((e, true));
+                            false
+                        }
+                    }
+                }
+                Err(e) => {
+                    self.status = Some((format!("{}: {e}", path.display()), true));
+                    false
+                }
             },
-            None => ("The plot was not inside the window's picture.".into(), true),
-        });
-    }
-}
-
-/// The pixels of `rect` (points) cut from a screenshot, as unpremultiplied RGBA; `None` when nothing of it is
-/// inside the image.
-fn crop_rgba(image: &ColorImage, rect: Rect, pixels_per_point: f32) -> Option<(u32, u32, Vec<u8>)> {
-    let [iw, ih] = image.size;
-    let px = |v: f32, max: usize| ((v * pixels_per_point).round().max(0.0) as usize).min(max);
-    let (x0, x1) = (px(rect.min.x, iw), px(rect.max.x, iw));
-    let (y0, y1) = (px(rect.min.y, ih), px(rect.max.y, ih));
-    if x1 <= x0 || y1 <= y0 {
-        return None;
-    }
-    let mut rgba = Vec::with_capacity((x1 - x0) * (y1 - y0) * 4);
-    for y in y0..y1 {
-        for c in &image.pixels[y * iw + x0..y * iw + x1] {
-            rgba.extend_from_slice(&c.to_srgba_unmultiplied());
         }
     }
-    Some(((x1 - x0) as u32, (y1 - y0) as u32, rgba))
-}
 
-#[cfg(test)]
-mod tests {
-    use super::*;
+    /// The bytes of an export of the selected rail (or the board, for the bill of materials), made by the same
+    /// library functions as the command line's.
+    pub fn export_bytes(&self, action: FileAction) -> Result<Vec<u8>, String> {
+        let board = &self.doc.board;
+        if action == FileAction::Bom {
+            return Ok(bom_csv(&bill_of_materials(board)).into_bytes());
+        }
+        let index = self.selected_rail;
+        let rail = board.rails.get(index).ok_or("there is no rail to export")?;
+        let result = self.results.get(index).ok_or("this rail cannot be analysed")?;
+        let a = &result.analysis;
+        let (from, to) = crate::io::plot_range_hz(a.band_hz);
+        let points = ((to / from).log10() * EXPORT_PER_DECADE as f64).round() as usize + 1;
+        match action {
+            FileAction::PlotPng | FileAction::PlotSvg => {
+                let title = format!("{}: {}, {}", board.name, rail.name, format(rail.voltage_v, Unit::Volt));
+                let verdict = result.check.verdict_line();
+                let size = (self.plot_export_size[0], self.plot_export_size[1]);
+                let options = crate::analysis::AnalysisOptions {
+                    view: Some(a.view),
+                    curve: Some((from, to, crate::io::PLOT_POINTS)),
+                    ..Default::default()
+                };
+                let full =
+                    crate::analysis::analyze_rail(board, index, &options).ok_or("this rail cannot be analysed")?;
+                if action == FileAction::PlotSvg {
+                    impedance_svg_titled(&full, size, Some((&title, &verdict))).map(String::into_bytes)
+                } else {
+                    impedance_png(&full, size, Some((&title, &verdict)))
+                }
+            }
+            FileAction::Touchstone | FileAction::Csv => {
+                let grid = log_grid(from, to, points);
+                let z = sweep_in(board, rail, &grid, a.view, a.corner);
+                if action == FileAction::Csv {
+                    Ok(impedance_csv(&grid, &z, a.target_ohm).into_bytes())
+                } else {
+                    let comments = vec![
+                        format!(
+                            "hushrail {}: impedance of rail {} of board \"{}\", seen from the {}, {} corner",
+                            env!("CARGO_PKG_VERSION"),
+                            rail.name,
+                            board.name,
+                            a.view.name(),
+                            a.corner.name()
+                        ),
+                        format!("source: {}", self.doc.label),
+                        "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),
+                    ];
+                    Ok(s1p_string(&grid, &z, 50.0, &comments).into_bytes())
+                }
+            }
+            FileAction::Netlist => {
+                let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: EXPORT_PER_DECADE };
+                Ok(rail_netlist(board, rail, &sweep, a.view, "hushrail_ac.txt").into_bytes())
+            }
+            _ => Err("not an export".into()),
+        }
+    }
 
-    #[test]
-    fn crop_takes_the_rect_in_pixels_and_clips_to_the_image() {
-        let mut image = ColorImage::filled([10, 8], egui::Color32::BLACK);
-        image.pixels[3 * 10 + 4] = egui::Color32::from_rgb(200, 10, 20);
-        let rect = Rect::from_min_max(egui::pos2(2.0, 1.5), egui::pos2(3.0, 20.0));
-        let (w, h, rgba) = crop_rgba(&image, rect, 2.0).unwrap();
-        assert_eq!((w, h), (2, 5));
-        assert_eq!(&rgba[0..4], &[200, 10, 20, 255]);
-        assert!(crop_rgba(&image, Rect::from_min_max(egui::pos2(20.0, 0.0), egui::pos2(30.0, 5.0)), 1.0).is_none());
+    /// The window's own path field, when a file dialog gave no answer.
+    pub(super) fn path_prompt_window(&mut self, ctx: &Context) {
+        let Some(prompt) = self.path_prompt.as_mut() else { return };
+        let (what, _) = prompt.action.kind();
+        let mut go = false;
+        let mut cancel = false;
+        let plot = matches!(prompt.action, FileAction::PlotPng | FileAction::PlotSvg);
+        let size = &mut self.plot_export_size;
+        egui::Window::new(format!("{} the {what}", prompt.action.verb())).collapsible(false).resizable(false).show(
+            ctx,
+            |ui| {
+                ui.label("No file dialog answered (this desktop may have no file-dialog service). Type the path:");
+                let l = ui.label("Path");
+                let edit = ui.add(egui::TextEdit::singleline(&mut prompt.text).desired_width(420.0)).labelled_by(l.id);
+                if edit.lost_focus() && ui.input(|i| i.key_pressed(egui::Key::Enter)) {
+                    go = true;
+                }
+                if plot {
+                    ui.horizontal(|ui| {
+                        let (lo, hi) = SIZE_LIMITS;
+                        let w = ui.label("width, px");
+                        ui.add(egui::DragValue::new(&mut size[0]).range(lo..=hi)).labelled_by(w.id);
+                        let h = ui.label("height, px");
+                        ui.add(egui::DragValue::new(&mut size[1]).range(lo..=hi)).labelled_by(h.id);
+                    });
+                }
+                ui.horizontal(|ui| {
+                    go |= ui.button(prompt.action.verb()).clicked();
+                    cancel = ui.button("Cancel").clicked();
+                });
+            },
+        );
+        if cancel {
+            self.path_prompt = None;
+        } else if go {
+            let action = prompt.action;
+            let path = PathBuf::from(prompt.text.trim());
+            if self.file_action(action, &path) {
+                self.path_prompt = None;
+            }
+        }
     }
 }

@@ -210,7 +210,7 @@ pub fn pick_export(
     dialog.save_file()
 }
 
-fn slug(name: &str) -> String {
+pub(super) fn slug(name: &str) -> String {
     let s: String =
         name.chars().map(|c| if c.is_ascii_alphanumeric() { c.to_ascii_lowercase() } else { '_' }).collect();
     let s = s.trim_matches('_').to_string();

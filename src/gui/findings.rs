@@ -36,7 +36,9 @@ fn finding_row(
                 } else {
                     ui.visuals().text_color()
                 }));
-                ui.label(RichText::new(format!("Try: {}", finding.hint)).weak());
+                // The engine's hint is a sentence of its own (an action, or why a note matters): shown as written,
+                // never behind a "Try:" that would not fit a note's hint.
+                ui.label(RichText::new(&finding.hint).weak());
             });
         });
     });

@@ -23,6 +23,7 @@ pub mod theme;
 mod time_view;
 
 pub use app::{App, CentralTab, Document, FindingsTab, Pending, SideTab};
+pub use exports::{FileAction, PathPrompt};
 pub use pins::Pin;
 pub use plot::{log_label, log_marks};
 pub use time_view::droop_lines;

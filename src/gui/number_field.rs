@@ -52,16 +52,30 @@ impl Fields {
     }
 }
 
-/// The text a value is shown with: three significant digits, or more when needed to show the stored value
-/// exactly (so that committing an unchanged field never rounds the board's value).
+/// The text a value is shown with: lengths in mm or µm ([`units::format_length`]); whole plain numbers as whole
+/// numbers ("1", never "1.00"); otherwise three significant digits, or up to six when that shows the stored value
+/// (so 1.2345 V reads as typed), and never floating-point noise (a value that no short text gives back exactly is
+/// shown to four digits). Rounding here never reaches the board: committing the text as shown changes nothing.
 pub fn display(value: f64, unit: Unit) -> String {
-    for digits in 3..=17 {
+    if unit == Unit::Metre {
+        return units::format_length(value);
+    }
+    if unit == Unit::None && value.fract() == 0.0 && value.abs() < 1e15 {
+        return format!("{value:.0}");
+    }
+    for digits in 3..=6 {
         let text = units::format_sig(value, unit, digits);
-        if units::parse(&text, unit).is_ok_and(|v| v == value || (v - value).abs() <= 1e-15 * value.abs()) {
+        if units::parse(&text, unit).is_ok_and(|v| v == value || (v - value).abs() <= 1e-12 * value.abs()) {
             return text;
         }
     }
-    units::format_sig(value, unit, 17)
+    units::format_sig(value, unit, 4)
+}
+
+/// A refusal in the words the user typed: the engine's reason names the value at full precision ("not
+/// -5e-9"); the field shows the text typed instead ("not -5n").
+fn in_typed_words(reason: String, value: f64, typed: &str) -> String {
+    reason.replace(&units::full_precision(value), typed.trim())
 }
 
 /// The reason to show at a field from an edit's refusal: the problems at this field's path first, else all.
@@ -77,10 +91,11 @@ pub fn refusal_text(key: &str, problems: &[Problem]) -> String {
         })
         .map(|p| p.reason.as_str())
         .collect();
-    if here.is_empty() {
-        problems.iter().map(|p| p.to_string()).collect::<Vec<_>>().join("; ")
-    } else {
-        here.join("; ")
+    // One message per bad entry: the first rule it breaks (a value below a range often breaks two rules that say
+    // the same thing).
+    match here.first() {
+        Some(reason) => reason.to_string(),
+        None => problems.first().map(|p| p.to_string()).unwrap_or_default(),
     }
 }
 
@@ -154,7 +169,7 @@ pub fn number_field(
     let shown = display(value, unit);
     text_field(ui, fields, key, labelled_by, &shown, width, |text| {
         let v = units::parse(text, unit).map_err(|e| e.reason)?;
-        apply(v)
+        apply(v).map_err(|reason| in_typed_words(reason, v, text))
     })
 }
 
@@ -176,7 +191,7 @@ pub fn optional_number_field(
             return apply(None);
         }
         let v = units::parse(text, unit).map_err(|e| e.reason)?;
-        apply(Some(v))
+        apply(Some(v)).map_err(|reason| in_typed_words(reason, v, text))
     })
 }
 
@@ -185,15 +200,23 @@ mod tests {
     use super::*;
 
     #[test]
-    fn display_keeps_the_value() {
+    fn display_shows_the_value_without_noise() {
         assert_eq!(display(4.7e-6, Unit::Farad), "4.70 µF");
         assert_eq!(display(0.85, Unit::Volt), "850 mV");
         assert_eq!(display(1.2345, Unit::Volt), "1.2345 V");
-        // Shown closely enough that the text reads back to the value within the rounding of the prefix scaling.
+        assert_eq!(display(f64::from_bits(5e-4f64.to_bits() + 1), Unit::Metre), "500 µm");
+        assert_eq!(display(2.0 / 3.0 * 1e-9, Unit::Henry), "666.7 pH");
+        assert_eq!(display(1.0, Unit::None), "1");
+        assert_eq!(display(5.0, Unit::None), "5");
+        assert_eq!(display(2.5, Unit::None), "2.50");
         for v in [1.0 / 3.0, 2.2e-12, 123456.7, 6.02e-9] {
             let back = units::parse(&display(v, Unit::Henry), Unit::Henry).unwrap();
-            assert!((back - v).abs() <= 2e-15 * v, "{v} shown as {}", display(v, Unit::Henry));
+            assert!((back - v).abs() <= 1e-3 * v, "{v} shown as {}", display(v, Unit::Henry));
         }
+        assert_eq!(
+            in_typed_words("must be from 1 mV to 100 kV, not -5e-9".into(), -5e-9, " -5n"),
+            "must be from 1 mV to 100 kV, not -5n"
+        );
     }
 
     #[test]
@@ -204,5 +227,9 @@ mod tests {
         ];
         assert_eq!(refusal_text("rails[0].voltage_v", &problems), "must be > 0");
         assert!(refusal_text("rails[0].name", &problems).contains("band_hz"));
+        // One message per entry.
+        let two =
+            vec![Problem::new("rails[0].voltage_v", "must be > 0"), Problem::new("rails[0].voltage_v", "out of range")];
+        assert_eq!(refusal_text("rails[0].voltage_v", &two), "must be > 0");
     }
 }

@@ -78,7 +78,7 @@ impl App {
                 let used = self.doc.board.uses_of_part(&part.id).len();
                 let r = ui
                     .selectable_label(pi == self.selected_part, &part.id)
-                    .on_hover_text(format!("used by {used} group(s)"));
+                    .on_hover_text(format!("used by {used} {}", if used == 1 { "group" } else { "groups" }));
                 if r.clicked() {
                     self.selected_part = pi;
                 }

@@ -13,8 +13,9 @@ pub struct Pin {
     pub name: String,
     /// The rail it was taken from.
     pub rail: String,
-    /// Its colour on the plot.
-    pub color: Color32,
+    /// Its place in the theme's pin colours: the colour itself is taken from the theme in use, so a pin made in
+    /// the dark theme stays readable in the light one.
+    pub slot: usize,
     /// Drawn or hidden.
     pub visible: bool,
     /// The curve as [log10 f, log10 |Z|].
@@ -31,12 +32,12 @@ pub struct Pin {
 
 impl Pin {
     /// A pin of a rail's current result.
-    pub fn of(name: String, rail: String, color: Color32, result: &RailResult) -> Pin {
+    pub fn of(name: String, rail: String, slot: usize, result: &RailResult) -> Pin {
         let a = &result.analysis;
         Pin {
             name,
             rail,
-            color,
+            slot,
             visible: true,
             points: result.plot.total.clone(),
             worst_ohm: a.worst_ohm,
@@ -47,16 +48,23 @@ impl Pin {
     }
 }
 
+impl Pin {
+    /// Its colour in the theme in use.
+    pub fn color(&self, dark: bool) -> Color32 {
+        let pins = theme::palette(dark).pins;
+        pins[self.slot % pins.len()]
+    }
+}
+
 impl App {
     /// Pin the selected rail's current curve.
     pub fn pin_current(&mut self) {
         let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
         let Some(result) = self.results.get(self.selected_rail) else { return };
-        let pal = theme::palette(self.prefs.dark);
-        let color = pal.pins[(self.next_pin - 1) % pal.pins.len()];
+        let slot = self.next_pin - 1;
         let name = format!("pin {}", self.next_pin);
         self.next_pin += 1;
-        self.pins.push(Pin::of(name, rail.name.clone(), color, result));
+        self.pins.push(Pin::of(name, rail.name.clone(), slot, result));
     }
 
     /// The pin button and the selected rail's pins: show/hide, name, figures, remove.
@@ -64,30 +72,27 @@ impl App {
         let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
         let rail_name = rail.name.clone();
         let mut remove = None;
+        let dark = ui.visuals().dark_mode;
+        let pal = theme::palette(dark);
+        if !self.pins.iter().any(|p| p.rail == rail_name) {
+            return;
+        }
         ui.horizontal_wrapped(|ui| {
-            if ui
-                .button("Pin this curve")
-                .on_hover_text("Keep the current curve on the plot to compare against")
-                .clicked()
-            {
-                self.pin_current();
-            }
-            ui.checkbox(&mut self.show_group_curves, "each group's curve");
+            ui.label(RichText::new("pins:").small());
             for (i, pin) in self.pins.iter_mut().enumerate().filter(|(_, p)| p.rail == rail_name) {
-                ui.separator();
                 let shown = ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
                 let show_label = format!("show {}", pin.name);
                 shown.widget_info(|| egui::WidgetInfo::selected(egui::Role::CheckBox, true, pin.visible, &show_label));
                 let (rect, _) = ui.allocate_exact_size(egui::vec2(14.0, 14.0), egui::Sense::hover());
-                ui.painter().rect_filled(rect, 3.0, pin.color);
+                ui.painter().rect_filled(rect, 3.0, pin.color(dark));
                 ui.add(egui::TextEdit::singleline(&mut pin.name).desired_width(70.0)).on_hover_text(format!(
                     "worst |Z| {} at {}, margin {:+.1} dB when pinned",
                     crate::units::format(pin.worst_ohm, crate::units::Unit::Ohm),
                     crate::units::format(pin.worst_hz, crate::units::Unit::Hertz),
                     pin.margin_db
                 ));
-                let verdict = if pin.meets { "meets" } else { "misses" };
-                ui.label(RichText::new(format!("{:+.1} dB, {verdict}", pin.margin_db)).small().color(pin.color));
+                let (verdict, color) = if pin.meets { ("meets", pal.ok) } else { ("misses", pal.fail) };
+                ui.label(RichText::new(format!("{:+.1} dB, {verdict}", pin.margin_db)).small().color(color));
                 let remove_button = ui.small_button("×").on_hover_text("Remove this pin");
                 let label = format!("remove {}", pin.name);
                 remove_button.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &label));

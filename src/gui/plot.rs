@@ -4,7 +4,7 @@
 //! 2..9 within them) and labels written back as engineering numbers ("10 kHz", "5 mΩ"). The drawn curve, the
 //! markers and the figures all come from `analysis` through [`super::results`].
 
-use super::app::App;
+use super::app::{App, CentralTab};
 use super::results::RailResult;
 use super::theme;
 use crate::analysis::{AntiResonance, Severity, View, kept_words, search_words, summary, vertex_words, yield_words};
@@ -28,8 +28,7 @@ pub struct HomeView {
     pub y: [f64; 2],
 }
 
-/// Series names the hover read-out recognises.
-const TOTAL: &str = "|Z|";
+/// Series names the hover read-out recognises (the total's name says where it is seen from).
 const PEAK_ABOVE: &str = "anti-resonance above target";
 const PEAK_UNDER: &str = "anti-resonance under target";
 
@@ -80,6 +79,25 @@ pub fn log_label(mark: GridMark, range: &RangeInclusive<f64>, unit: Unit) -> Str
     }
 }
 
+/// A rail's home range of log10 |Z|: the curve's own range widened, when needed, to show the target and the worst
+/// peak with room above them for the legend (which sits in the plot's top-left corner).
+pub fn home_y_with(curve: [f64; 2], target: f64, worst: f64, peaks: &[AntiResonance]) -> [f64; 2] {
+    let [mut y0, mut y1] = if curve[0] < curve[1] { curve } else { [-3.0, 1.0] };
+    let mut top = target.max(worst);
+    for p in peaks {
+        top = top.max(p.z_ohm.log10());
+    }
+    if top.is_finite() {
+        y1 = y1.max(top + 0.3);
+    }
+    if target.is_finite() {
+        y0 = y0.min(target - 0.5);
+    }
+    // Room for the legend: a fifth of the range above the highest thing that must be seen.
+    y1 += 0.2 * (y1 - y0);
+    [y0, y1]
+}
+
 /// Random boards the window's yield button draws.
 const YIELD_SAMPLES: usize = 10_000;
 
@@ -107,7 +125,7 @@ fn peak_groups(a: &AntiResonance) -> String {
 }
 
 /// The hover read-out for a point of the plot.
-fn read_out(result: &RailResult, pos: &HoverPosition<'_>) -> Option<String> {
+fn read_out(result: &RailResult, total_name: &str, pos: &HoverPosition<'_>) -> Option<String> {
     let a = &result.analysis;
     let (name, x, y, index) = match pos {
         HoverPosition::NearDataPoint { plot_name, position, index } => (*plot_name, position.x, position.y, *index),
@@ -129,7 +147,9 @@ fn read_out(result: &RailResult, pos: &HoverPosition<'_>) -> Option<String> {
         Some(text)
     };
     match name {
-        TOTAL | "" => on_curve(x).or_else(|| Some(format!("{}\n{}", format(f, Unit::Hertz), format(z, Unit::Ohm)))),
+        n if n == total_name || n.is_empty() => {
+            on_curve(x).or_else(|| Some(format!("{}\n{}", format(f, Unit::Hertz), format(z, Unit::Ohm))))
+        }
         PEAK_ABOVE | PEAK_UNDER => {
             let above = name == PEAK_ABOVE;
             let p = a.antiresonances.iter().filter(|p| p.above_target == above).nth(index)?;
@@ -146,7 +166,8 @@ fn read_out(result: &RailResult, pos: &HoverPosition<'_>) -> Option<String> {
 }
 
 impl App {
-    /// The selected rail's name, verdict and figures (and the change against the newest pin).
+    /// The selected rail's name, verdict and figures on one line; below it only what must not be missed (a
+    /// caution that fails the rail) and the figures of the extra curves the user asked for.
     pub(super) fn rail_header(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
         let Some(rail) = self.doc.board.rails.get(self.selected_rail).cloned() else { return };
@@ -157,11 +178,16 @@ impl App {
         let a = &result.analysis;
         let check = &result.check;
         let color = if check.passes { pal.ok } else { pal.fail };
-        ui.horizontal(|ui| {
+        ui.horizontal_wrapped(|ui| {
+            ui.spacing_mut().item_spacing.x = 6.0;
             ui.label(RichText::new(&rail.name).heading().strong());
-            ui.label(RichText::new(format!("{} the check", check.word())).heading().color(color));
+            // The check's own sentence on hover: the header stays one line.
+            ui.label(RichText::new(format!("{} the check", check.word())).heading().color(color))
+                .on_hover_text(check.verdict_line());
             ui.label(RichText::new(format!("margin {:+.1} dB", check.verdict.margin_db)).strong().color(color));
-            ui.label(RichText::new(format!("{} corner", check.verdict.corner.name())).strong())
+            ui.label(format!("worst |Z| {} at {}", format(a.worst_ohm, Unit::Ohm), format(a.worst_hz, Unit::Hertz)));
+            ui.label(format!("({:.2}× target)", a.worst_ohm / a.target_ohm));
+            ui.label(RichText::new(format!("{} corner", check.verdict.corner.name())).weak())
                 .on_hover_text(check.verdict.corner.words());
             if a.view == View::Die {
                 // With a package the verdict is taken at the die, as the check takes it; say so.
@@ -170,115 +196,136 @@ impl App {
                 ui.label(RichText::new("seen at the board node (the check takes the verdict at the die)").weak());
             }
         });
-        // The check's own sentence, and the cautions that fail the rail, where nobody can miss them.
-        ui.label(RichText::new(check.verdict_line()).color(color));
+        // The cautions that fail the rail, where nobody can miss them.
         for c in check.failing_cautions() {
             ui.label(RichText::new(format!("Fails: {}", c.text)).strong().color(pal.fail));
         }
-        self.look_row(ui, rail.package.is_some());
-        ui.horizontal_wrapped(|ui| {
-            ui.label(format!(
-                "target {} from {} to {}",
-                format(a.target_ohm, Unit::Ohm),
-                format(a.band_hz[0], Unit::Hertz),
-                format(a.band_hz[1], Unit::Hertz)
-            ));
-            ui.label("·");
-            ui.label(format!("worst |Z| {} at {}", format(a.worst_ohm, Unit::Ohm), format(a.worst_hz, Unit::Hertz)));
-            ui.label("·");
-            ui.label(format!("{:.2}× target", a.worst_ohm / a.target_ohm));
-        });
+        // Each extra curve's own verdict, in the colour of that verdict (never the curve's colour: a curve that
+        // misses must not read green).
+        let verdict_color = |meets: bool| if meets { pal.ok } else { pal.fail };
         if let Some(o) = &result.other_view {
-            ui.label(RichText::new(format!("the other view: {}", summary(&o.analysis))).color(pal.other_view));
+            ui.label(
+                RichText::new(format!("the other view: {}", summary(&o.analysis)))
+                    .small()
+                    .color(verdict_color(o.analysis.meets_target)),
+            );
         }
         if let Some(w) = &result.worst {
-            ui.label(RichText::new(summary(&w.analysis)).color(if w.analysis.meets_target {
-                pal.ok
-            } else {
-                pal.fail
-            }));
+            ui.label(RichText::new(summary(&w.analysis)).small().color(verdict_color(w.analysis.meets_target)));
+            // The worst corner's details in one small paragraph: the parts that lose most, how the search went,
+            // the capacitance kept at the typical corner.
+            let mut parts = Vec::new();
             let dirs = vertex_words(&w.analysis);
             if !dirs.is_empty() {
-                ui.label(RichText::new(format!("worst vertex: {}", dirs.join("; "))).small());
+                parts.push(format!("worst vertex: {}", dirs.join("; ")));
             }
             if let Some(s) = search_words(&w.analysis) {
-                ui.label(RichText::new(s).small().weak());
+                parts.push(s);
+            }
+            let kept = kept_words(check);
+            if !kept.is_empty() {
+                parts.push(format!("capacitance: {}", kept.join("; ")));
+            }
+            if !parts.is_empty() {
+                ui.label(RichText::new(parts.join(" · ")).small().weak());
             }
         }
-        let kept = kept_words(check);
-        if !kept.is_empty() {
-            ui.label(RichText::new(format!("capacitance: {}", kept.join("; "))).small());
+        let index = self.selected_rail;
+        if let Some((_, _, y)) =
+            self.yield_shown.as_ref().filter(|(i, board, _)| *i == index && *board == self.doc.board)
+        {
+            let color = if y.meeting == y.samples { pal.ok } else { pal.note };
+            ui.label(RichText::new(format!("yield: {}", yield_words(y))).small().color(color));
         }
-        self.yield_row(ui, &pal);
         if let Some(pin) = self.pins.iter().rev().find(|p| p.visible && p.rail == rail.name) {
             let change_db = 20.0 * (pin.worst_ohm / a.worst_ohm).log10();
-            let better = if change_db >= 0.0 { "better" } else { "worse" };
+            // Shown to one decimal: a change that rounds to 0.0 dB is "no change", not "0.0 dB better".
+            let change = if change_db.abs() < 0.05 {
+                "no change".to_string()
+            } else if change_db > 0.0 {
+                format!("{:.1} dB better", change_db)
+            } else {
+                format!("{:.1} dB worse", -change_db)
+            };
             ui.label(
                 RichText::new(format!(
-                    "against pin “{}”: worst |Z| was {}, now {}; margin was {:+.1} dB, now {:+.1} dB ({:.1} dB {better})",
+                    "against pin “{}”: worst |Z| was {}, now {}; margin was {:+.1} dB, now {:+.1} dB ({change})",
                     pin.name,
                     format(pin.worst_ohm, Unit::Ohm),
                     format(a.worst_ohm, Unit::Ohm),
                     pin.margin_db,
                     a.margin_db,
-                    change_db.abs()
                 ))
-                .color(pin.color),
+                .small()
+                .color(ui.visuals().strong_text_color()),
             );
         }
     }
 
-    /// The yield of the selected rail: a button that draws random boards within the parts' tolerances, and the
-    /// answer while the board stays as it was.
-    fn yield_row(&mut self, ui: &mut Ui, pal: &theme::Palette) {
-        let index = self.selected_rail;
-        let current = self.yield_shown.as_ref().filter(|(i, board, _)| *i == index && *board == self.doc.board);
-        match current {
-            Some((_, _, y)) => {
-                let color = if y.meeting == y.samples { pal.ok } else { pal.note };
-                ui.label(RichText::new(format!("yield: {}", yield_words(y))).small().color(color));
-            }
-            None => {
-                if ui
-                    .small_button(format!("Estimate the yield ({YIELD_SAMPLES} random boards)"))
-                    .on_hover_text(
-                        "Draw each group's capacitance and ESR uniformly within their tolerances (one draw per \
-                         group: its parts come from one reel) and count the boards that meet target",
-                    )
-                    .clicked()
-                    && let Some(y) = crate::analysis::yield_estimate(
-                        &self.doc.board,
-                        index,
-                        self.results.get(index).map_or(View::Board, |r| r.verdict().view),
-                        super::results::BAND_POINTS,
-                        YIELD_SAMPLES,
-                        crate::analysis::DEFAULT_SEED,
-                        2,
-                    )
-                {
-                    self.yield_shown = Some((index, self.doc.board.clone(), y));
-                }
-            }
-        }
-    }
-
-    /// Where the rail is seen from and which curves are drawn beside the main one. Changing them analyses every
-    /// rail again (once), since the rails list shows the same view.
-    fn look_row(&mut self, ui: &mut Ui, has_package: bool) {
+    /// One row of choices above the plot: which view, pin, extra curves, where the rail is seen from, the yield.
+    pub(super) fn options_row(&mut self, ui: &mut Ui) {
+        let has_package = self.doc.board.rails.get(self.selected_rail).is_some_and(|r| r.package.is_some());
         let mut look = self.results.look();
         ui.horizontal_wrapped(|ui| {
+            ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong());
+            ui.selectable_value(
+                &mut self.central_tab,
+                CentralTab::Time,
+                RichText::new("Voltage after a load step").strong(),
+            );
+            ui.separator();
+            if self.central_tab == CentralTab::Impedance {
+                if ui
+                    .button("Pin this curve")
+                    .on_hover_text("Keep the current curve on the plot to compare against")
+                    .clicked()
+                {
+                    self.pin_current();
+                }
+                ui.checkbox(&mut self.show_group_curves, "each group's curve");
+            }
+            ui.checkbox(&mut look.worst_corner, "worst corner too").on_hover_text(Corner::Worst.words());
             if has_package {
-                ui.label("Seen from");
+                ui.separator();
+                ui.label("seen from");
                 ui.radio_value(&mut look.view, None, "the die (the verdict's view)");
                 ui.radio_value(&mut look.view, Some(View::Board), "the board node");
                 ui.checkbox(&mut look.both_views, "draw both");
-                ui.separator();
             }
-            ui.checkbox(&mut look.worst_corner, "worst corner too").on_hover_text(Corner::Worst.words());
+            ui.separator();
+            self.yield_button(ui);
         });
         if look != self.results.look() {
             self.results.set_look(look);
             self.results.refresh(&self.doc.board);
+        }
+        if self.central_tab == CentralTab::Impedance {
+            self.pins_bar(ui);
+        }
+    }
+
+    /// The button that draws random boards within the parts' tolerances; the answer shows under the header
+    /// while the board stays as it was.
+    fn yield_button(&mut self, ui: &mut Ui) {
+        let index = self.selected_rail;
+        if ui
+            .small_button("Estimate yield")
+            .on_hover_text(format!(
+                "Draw {YIELD_SAMPLES} random boards, each group's capacitance and ESR uniformly within their \
+                 tolerances (one draw per group: its parts come from one reel), and count the boards that meet target"
+            ))
+            .clicked()
+            && let Some(y) = crate::analysis::yield_estimate(
+                &self.doc.board,
+                index,
+                self.results.get(index).map_or(View::Board, |r| r.verdict().view),
+                super::results::BAND_POINTS,
+                YIELD_SAMPLES,
+                crate::analysis::DEFAULT_SEED,
+                2,
+            )
+        {
+            self.yield_shown = Some((index, self.doc.board.clone(), y));
         }
     }
 
@@ -299,7 +346,7 @@ impl App {
         let home = match self.home_views.get(&index) {
             Some(h) if h.band == a.band_hz => *h,
             _ => {
-                let y = if p.home_y[0] < p.home_y[1] { p.home_y } else { [-3.0, 1.0] };
+                let y = home_y_with(p.home_y, t, a.worst_ohm.log10(), &a.antiresonances);
                 let h = HomeView { band: a.band_hz, x: [v0, v1], y };
                 self.home_views.insert(index, h);
                 h
@@ -310,8 +357,21 @@ impl App {
         let show_groups = self.show_group_curves;
         let hover_result = result.clone();
 
-        self.plot_key(ui, &pal, &result, &pins);
-        let shown = Plot::new(("impedance", index))
+        let total_name = format!("|Z| {}", view_words(a.view));
+        let hover_name = total_name.clone();
+        let dark = ui.visuals().dark_mode;
+        let group_colors = theme::group_colors(dark);
+        let reset = std::mem::take(&mut self.reset_plot);
+        let mut plot = Plot::new(("impedance", index))
+            // The double-click is ours: egui_plot's own would fit every item, the shading's tall columns included.
+            .allow_double_click_reset(false)
+            .legend(
+                egui_plot::Legend::default()
+                    .position(egui_plot::Corner::LeftTop)
+                    .text_style(egui::TextStyle::Body)
+                    .background_alpha(0.85)
+                    .follow_insertion_order(true),
+            )
             .default_x_bounds(home.x[0], home.x[1])
             .default_y_bounds(home.y[0], home.y[1])
             .x_grid_spacer(log_marks)
@@ -321,86 +381,91 @@ impl App {
             .x_axis_label("frequency")
             .y_axis_label("|Z|")
             .y_axis_min_width(48.0)
-            .label_formatter(move |pos| read_out(&hover_result, pos))
-            .show(ui, |pu| {
-                for v in &a.violations {
-                    pu.polygon(
-                        Polygon::new("above target", column(v.from_hz.log10(), v.to_hz.log10()))
-                            .fill_color(pal.violation_fill)
-                            .stroke(egui::Stroke::NONE)
-                            .allow_hover(false),
-                    );
-                }
-                if let Some(f) = selected {
-                    let (f0, f1) = (f.range_hz[0].log10(), f.range_hz[1].log10());
-                    // A single-frequency finding gets a narrow band so it can be seen.
-                    let half = if f1 - f0 < 0.01 { 0.01 } else { 0.0 };
-                    pu.polygon(
-                        Polygon::new("selected finding", column(f0 - half, f1 + half))
-                            .fill_color(pal.highlight)
-                            .stroke(egui::Stroke::new(1.5, pal.note))
-                            .allow_hover(false),
-                    );
-                }
-                for edge in [b0, b1] {
-                    pu.vline(
-                        VLine::new("band edge", edge)
-                            .color(pal.band_edge)
-                            .style(LineStyle::dashed_dense())
-                            .allow_hover(false),
-                    );
-                }
-                if show_groups {
-                    for b in &p.branches {
-                        pu.line(
-                            Line::new(b.label.clone(), PlotPoints::from(b.points.clone())).color(pal.branch).width(1.0),
-                        );
-                    }
-                }
-                for pin in &pins {
+            .label_formatter(move |pos| read_out(&hover_result, &hover_name, pos));
+        if reset {
+            plot = plot.reset();
+        }
+        let shown = plot.show(ui, |pu| {
+            for v in &a.violations {
+                pu.polygon(
+                    Polygon::new("above target", column(v.from_hz.log10(), v.to_hz.log10()))
+                        .fill_color(pal.violation_fill)
+                        // A stroke of no width: the legend takes its colour from the stroke.
+                        .stroke(egui::Stroke::new(0.0, pal.fail))
+                        .allow_hover(false),
+                );
+            }
+            if let Some(f) = selected {
+                let (f0, f1) = (f.range_hz[0].log10(), f.range_hz[1].log10());
+                // A single-frequency finding gets a narrow band so it can be seen.
+                let half = if f1 - f0 < 0.01 { 0.01 } else { 0.0 };
+                pu.polygon(
+                    Polygon::new("selected finding", column(f0 - half, f1 + half))
+                        .fill_color(pal.highlight)
+                        .stroke(egui::Stroke::new(1.5, pal.note))
+                        .allow_hover(false),
+                );
+            }
+            for edge in [b0, b1] {
+                pu.vline(
+                    VLine::new("band edges", edge)
+                        .color(pal.band_edge)
+                        .style(LineStyle::dashed_dense())
+                        .allow_hover(false),
+                );
+            }
+            if show_groups {
+                // Each group (and the source and plane) in its own colour, named in the legend.
+                for (n, b) in p.branches.iter().enumerate() {
                     pu.line(
-                        Line::new(format!("pin: {}", pin.name), PlotPoints::from(pin.points.clone()))
-                            .color(pin.color)
-                            .width(1.5)
-                            .style(LineStyle::dashed_loose()),
+                        Line::new(b.label.clone(), PlotPoints::from(b.points.clone()))
+                            .color(group_colors[n % group_colors.len()])
+                            .width(1.2),
                     );
                 }
-                if let Some(o) = &result.other_view {
-                    pu.line(
-                        Line::new(view_words(o.analysis.view), PlotPoints::from(o.total.clone()))
-                            .color(pal.other_view)
-                            .width(1.5),
-                    );
-                }
-                if let Some(w) = &result.worst {
-                    pu.line(
-                        Line::new("worst corner", PlotPoints::from(w.total.clone()))
-                            .color(pal.worst)
-                            .width(1.5)
-                            .style(LineStyle::dashed_dense()),
-                    );
-                }
-                pu.line(Line::new(TOTAL, PlotPoints::from(p.total.clone())).color(pal.curve).width(2.5));
+            }
+            for pin in &pins {
                 pu.line(
-                    Line::new(
-                        format!("target {}", format(a.target_ohm, Unit::Ohm)),
-                        PlotPoints::from(vec![[b0, t], [b1, t]]),
-                    )
-                    .color(pal.target)
-                    .width(2.0),
+                    Line::new(pin.name.clone(), PlotPoints::from(pin.points.clone()))
+                        .color(pin.color(dark))
+                        .width(1.5)
+                        .style(LineStyle::dashed_loose()),
                 );
-                let peaks = |above: bool| -> Vec<[f64; 2]> {
-                    a.antiresonances
-                        .iter()
-                        .filter(|p| p.above_target == above)
-                        .map(|p| [p.freq_hz.log10(), p.z_ohm.log10()])
-                        .collect()
-                };
-                pu.points(Points::new(PEAK_ABOVE, peaks(true)).shape(MarkerShape::Diamond).radius(6.0).color(pal.fail));
-                pu.points(
-                    Points::new(PEAK_UNDER, peaks(false)).shape(MarkerShape::Diamond).radius(5.0).color(pal.note),
+            }
+            if let Some(o) = &result.other_view {
+                pu.line(
+                    Line::new(view_words(o.analysis.view), PlotPoints::from(o.total.clone()))
+                        .color(pal.other_view)
+                        .width(1.5),
                 );
-            });
+            }
+            if let Some(w) = &result.worst {
+                pu.line(
+                    Line::new("worst corner", PlotPoints::from(w.total.clone()))
+                        .color(pal.worst)
+                        .width(1.5)
+                        .style(LineStyle::dashed_dense()),
+                );
+            }
+            pu.line(Line::new(total_name.clone(), PlotPoints::from(p.total.clone())).color(pal.curve).width(2.5));
+            pu.line(
+                Line::new(
+                    format!("target {}", format(a.target_ohm, Unit::Ohm)),
+                    PlotPoints::from(vec![[b0, t], [b1, t]]),
+                )
+                .color(pal.target)
+                .width(2.0),
+            );
+            let peaks = |above: bool| -> Vec<[f64; 2]> {
+                a.antiresonances
+                    .iter()
+                    .filter(|p| p.above_target == above)
+                    .map(|p| [p.freq_hz.log10(), p.z_ohm.log10()])
+                    .collect()
+            };
+            pu.points(Points::new(PEAK_ABOVE, peaks(true)).shape(MarkerShape::Diamond).radius(6.0).color(pal.fail));
+            pu.points(Points::new(PEAK_UNDER, peaks(false)).shape(MarkerShape::Diamond).radius(5.0).color(pal.note));
+        });
         self.plot_rect = Some(shown.response.rect);
         // A click on the plot selects the finding at that frequency (a shaded range, or a marked peak), the same
         // as clicking it in the list; a click elsewhere clears the selection.
@@ -416,85 +481,11 @@ impl App {
             self.scroll_to_finding = hit.is_some();
         }
         if shown.response.double_clicked() {
-            // Egui_plot has just gone back to the old home view; take a fresh one from the curve as it is now.
+            // Take a fresh home view from the curve as it is now and go there on the next frame.
             self.home_views.remove(&index);
+            self.reset_plot = true;
+            ui.ctx().request_repaint();
         }
-    }
-
-    /// The key to the plot, drawn above it rather than over it so that it never hides the curve.
-    fn plot_key(&self, ui: &mut Ui, pal: &theme::Palette, result: &RailResult, pins: &[super::pins::Pin]) {
-        let (target_ohm, peaks) = (result.analysis.target_ohm, !result.analysis.antiresonances.is_empty());
-        let swatch = |ui: &mut Ui, color: egui::Color32, kind: u8| {
-            let (rect, _) = ui.allocate_exact_size(egui::vec2(18.0, 12.0), egui::Sense::hover());
-            let p = ui.painter();
-            match kind {
-                0 => {
-                    p.line_segment([rect.left_center(), rect.right_center()], egui::Stroke::new(2.5, color));
-                }
-                1 => {
-                    let c = rect.center();
-                    let r = 5.0;
-                    let pts = vec![
-                        c + egui::vec2(0.0, -r),
-                        c + egui::vec2(r, 0.0),
-                        c + egui::vec2(0.0, r),
-                        c + egui::vec2(-r, 0.0),
-                    ];
-                    p.add(egui::Shape::convex_polygon(pts, color, egui::Stroke::NONE));
-                }
-                _ => {
-                    p.rect_filled(rect, 2.0, color);
-                }
-            }
-        };
-        // Each entry: its swatches (0 line, 1 diamond, 2 fill) and its words.
-        let mut entries: Vec<(Vec<(egui::Color32, u8)>, String)> =
-            vec![(vec![(pal.curve, 0)], format!("|Z| {}", view_words(result.analysis.view)))];
-        if let Some(o) = &result.other_view {
-            entries.push((vec![(pal.other_view, 0)], format!("|Z| {}", view_words(o.analysis.view))));
-        }
-        if result.worst.is_some() {
-            entries.push((vec![(pal.worst, 0)], "worst corner (dashed)".into()));
-        }
-        entries.push((vec![(pal.target, 0)], format!("target {}, band edges dashed", format(target_ohm, Unit::Ohm))));
-        entries.push((vec![(pal.violation_fill.gamma_multiply(3.0), 2)], "above target".into()));
-        if peaks {
-            entries.push((vec![(pal.fail, 1), (pal.note, 1)], "anti-resonance above / under target".into()));
-        }
-        if self.selected_finding.is_some() {
-            entries.push((vec![(pal.highlight.gamma_multiply(2.0), 2)], "selected finding".into()));
-        }
-        for pin in pins {
-            entries.push((vec![(pin.color, 0)], pin.name.clone()));
-        }
-        if self.show_group_curves {
-            entries.push((vec![(pal.branch.gamma_multiply(2.5), 0)], "each group alone".into()));
-        }
-        ui.horizontal_wrapped(|ui| {
-            ui.spacing_mut().item_spacing.x = 4.0;
-            ui.style_mut().wrap_mode = Some(egui::TextWrapMode::Extend);
-            let font = egui::TextStyle::Small.resolve(ui.style());
-            for (n, (swatches, text)) in entries.iter().enumerate() {
-                // An entry stays whole on one line: measure it, and start a new row when it would not fit, so a
-                // swatch is never left at the end of a row without its words.
-                let words = ui.painter().layout_no_wrap(text.clone(), font.clone(), egui::Color32::WHITE).size().x;
-                let width = swatches.len() as f32 * 22.0 + words + 12.0;
-                if n > 0 && ui.available_size_before_wrap().x < width {
-                    ui.end_row();
-                } else if n > 0 {
-                    ui.add_space(8.0);
-                }
-                for &(color, kind) in swatches {
-                    swatch(ui, color, kind);
-                }
-                ui.label(RichText::new(text).small());
-            }
-        });
-        ui.label(
-            RichText::new("Hover for a read-out; scroll or drag to zoom and pan; double-click for the whole band.")
-                .small()
-                .weak(),
-        );
     }
 
     /// Select a finding (or clear the selection when it is selected already).
@@ -539,5 +530,17 @@ mod tests {
         assert!(log_marks(GridInput { bounds: (f64::NAN, 1.0), base_step_size: 0.1 }).is_empty());
         let wide = log_marks(GridInput { bounds: (-30.0, 30.0), base_step_size: 0.1 });
         assert!(wide.len() < 40);
+    }
+
+    #[test]
+    fn the_home_range_shows_the_target_and_the_worst_peak_with_room_for_the_legend() {
+        // A curve range that stops under the target and the worst point (as V1V2_MCU's did).
+        let [y0, y1] = home_y_with([-2.5, -1.0], -0.77, -0.6, &[]);
+        assert!(y0 <= -2.5 && y1 >= -0.6 + 0.3, "[{y0}, {y1}]");
+        // Room for the legend above the highest thing shown: a fifth of the range before it was added.
+        assert!(y1 - (-0.3) >= (y1 - y0) / 6.0, "[{y0}, {y1}]");
+        // A degenerate curve range falls back to a plain one that still holds the target.
+        let [z0, z1] = home_y_with([0.0, 0.0], -2.0, -2.2, &[]);
+        assert!(z0 < -2.0 && -2.0 < z1);
     }
 }

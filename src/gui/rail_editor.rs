@@ -71,14 +71,15 @@ impl App {
     /// The side panel: tabs for the rail's inputs, the board's parts and help.
     pub(super) fn side_panel(&mut self, ui: &mut Ui) {
         ui.add_space(4.0);
-        ui.horizontal(|ui| {
+        ui.horizontal_wrapped(|ui| {
             ui.selectable_value(&mut self.side_tab, SideTab::Rail, RichText::new("Rail inputs").strong());
             ui.selectable_value(&mut self.side_tab, SideTab::Parts, RichText::new("Parts").strong());
             ui.selectable_value(&mut self.side_tab, SideTab::Suggest, RichText::new("Suggest").strong());
             ui.selectable_value(&mut self.side_tab, SideTab::Help, RichText::new("Help and cautions").strong());
         });
         ui.separator();
-        egui::ScrollArea::vertical().id_salt("side-scroll").auto_shrink([false, false]).show(ui, |ui| {
+        // Both directions: content wider than the panel scrolls instead of widening the panel under the pointer.
+        egui::ScrollArea::both().id_salt("side-scroll").auto_shrink([false, false]).show(ui, |ui| {
             match self.side_tab {
                 SideTab::Rail => self.rail_editor(ui),
                 SideTab::Parts => self.parts_table(ui),

@@ -28,7 +28,10 @@ impl App {
             });
 
         ui.separator();
-        ui.horizontal(|ui| {
+        ui.horizontal_wrapped(|ui| {
+            if ui.button("Add rail").on_hover_text("Add a new rail with round starting values").clicked() {
+                self.add_rail();
+            }
             if ui.button("Copy rail").on_hover_text("Add a copy of the selected rail").clicked() {
                 self.copy_rail();
             }
@@ -116,6 +119,23 @@ impl App {
         if clicked && self.selected_rail != i {
             self.selected_rail = i;
             self.selected_finding = None;
+        }
+    }
+
+    fn add_rail(&mut self) {
+        let mut n = self.doc.board.rails.len() + 1;
+        while self.doc.board.rail(&format!("RAIL{n}")).is_some() {
+            n += 1;
+        }
+        let name = format!("RAIL{n}");
+        let at = self.doc.board.rails.len();
+        let rail = super::app::new_rail(&name);
+        match self.edit(Edit::AddRail { at, value: Box::new(rail) }, format!("add rail {name}"), false) {
+            Ok(()) => {
+                self.selected_rail = at;
+                self.selected_finding = None;
+            }
+            Err(p) => self.status = Some((super::number_field::refusal_text("rails", &p), true)),
         }
     }
 

@@ -178,10 +178,9 @@ impl App {
         else {
             return;
         };
-        let pal = theme::palette(self.prefs.dark);
-        let color = pal.pins[(self.next_pin - 1) % pal.pins.len()];
+        let slot = self.next_pin - 1;
         self.next_pin += 1;
-        self.pins.push(Pin::of(label, run.rail_name.clone(), color, &result));
+        self.pins.push(Pin::of(label, run.rail_name.clone(), slot, &result));
     }
 
     /// Apply option `n` of the last search to the board as one undoable edit: the candidates it uses are added

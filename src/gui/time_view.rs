@@ -208,7 +208,12 @@ impl App {
                 let span = r.end() - r.start();
                 if r.end() - m.value < 0.03 * span { String::new() } else { format!("{} {unit}", trim_number(m.value)) }
             })
-            .y_axis_formatter(|m: GridMark, _r: &RangeInclusive<f64>| format_sig(m.value, Unit::Volt, 4))
+            .y_axis_formatter(|m: GridMark, r: &RangeInclusive<f64>| volt_label(m, r))
+            // The time axis zooms and pans; the voltage axis keeps the range that holds the nominal, the floor and
+            // the minimum, so the wheel cannot carry the curve out of view nor squeeze the ticks together.
+            .allow_zoom([true, false])
+            .allow_drag([true, false])
+            .allow_scroll([true, false])
             .x_axis_label(format!("time after the step starts ({unit})"))
             .y_axis_label("rail voltage")
             .y_axis_min_width(56.0)
@@ -306,6 +311,21 @@ pub fn linear_marks(input: egui_plot::GridInput) -> Vec<GridMark> {
         .collect()
 }
 
+/// A voltage tick's label: only the labelled (major) marks, with as many decimals as their spacing needs, so
+/// neighbouring labels never read the same ("1.071 V" on every tick).
+pub fn volt_label(mark: GridMark, range: &RangeInclusive<f64>) -> String {
+    let major = linear_marks(egui_plot::GridInput { bounds: (*range.start(), *range.end()), base_step_size: 0.0 })
+        .iter()
+        .map(|m| m.step_size)
+        .fold(0.0, f64::max);
+    if major <= 0.0 || (mark.step_size - major).abs() > 1e-9 * major {
+        return String::new();
+    }
+    let decimals = (-major.log10().floor()).max(0.0) as usize;
+    let value = if mark.value.abs() < 0.5 * major * 1e-6 { 0.0 } else { mark.value };
+    format!("{value:.decimals$} V")
+}
+
 /// A grid value as a short plain number ("2.5", "10", "0.25").
 fn trim_number(v: f64) -> String {
     let text = format!("{v:.3}");
@@ -343,6 +363,25 @@ fn time_key(ui: &mut Ui, pal: &theme::Palette, d: &Droop, pattern: bool) {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn voltage_labels_stay_distinct_at_any_zoom() {
+        for (lo, hi) in [(0.80, 0.86), (1.0705, 1.0718), (3.2, 3.4), (0.0, 12.0)] {
+            let r = lo..=hi;
+            let labels: Vec<String> = linear_marks(egui_plot::GridInput { bounds: (lo, hi), base_step_size: 0.0 })
+                .into_iter()
+                .map(|m| volt_label(m, &r))
+                .filter(|l| !l.is_empty())
+                .collect();
+            assert!(labels.len() >= 2, "{lo}..{hi}: {labels:?}");
+            let mut unique = labels.clone();
+            unique.dedup();
+            assert_eq!(unique, labels, "{lo}..{hi}: neighbouring labels differ");
+        }
+        let r = 1.0705..=1.0718;
+        assert_eq!(volt_label(GridMark { value: 1.0711, step_size: 0.0001 }, &r), "");
+        assert_eq!(volt_label(GridMark { value: 1.0715, step_size: 0.0005 }, &r), "1.0715 V");
+    }
 
     #[test]
     fn linear_marks_are_round_and_labelled_every_fifth() {

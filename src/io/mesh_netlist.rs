@@ -144,7 +144,7 @@ pub fn mesh_netlist(
     for (k, port) in circuit.plane.ports.iter().enumerate() {
         let cells = cells_under(port);
         let node = format!("p{k}");
-        let _ = writeln!(t, "* port {k}: {} cell(s)", cells.len());
+        let _ = writeln!(t, "* port {k}: {} {}", cells.len(), if cells.len() == 1 { "cell" } else { "cells" });
         // Vs carries the net current the port puts into the plane; a chain of E sources holds the port at the
         // cells' mean voltage (linear sources, so SPICE may skip the operating point); each F puts an equal share
         // of that current into its cell.

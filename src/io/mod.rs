@@ -6,6 +6,7 @@ mod bom;
 mod bom_csv;
 mod centroid;
 mod csv_table;
+mod impedance_csv;
 mod layout_import;
 mod mesh_netlist;
 mod netlist;
@@ -24,13 +25,16 @@ pub use board_file::{
 pub use bom::{Bom, BomLine, bill_of_materials, bom_csv, bom_text, cost_words, part_words, total_cost_words};
 pub use bom_csv::{BomEntry, parse_bom};
 pub use centroid::{Centroid, Columns, LengthUnit, PlacedPart, Side, parse_centroid};
+pub use impedance_csv::impedance_csv;
 pub use layout_import::{GroupMatch, ImportOptions, ImportReport, place_rail};
 pub use mesh_netlist::{MAX_MESH_CELLS, mesh_drive_node, mesh_netlist};
 pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
 pub use png_image::{png_bytes, write_png};
 pub use report::{DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report};
 pub use strict_json::parse as parse_json_strict;
-pub use svg_plot::{PLOT_POINTS, PLOT_SIZE, impedance_svg, plot_range_hz};
+pub use svg_plot::{
+    PLOT_POINTS, PLOT_SIZE, SIZE_LIMITS, impedance_png, impedance_svg, impedance_svg_titled, plot_range_hz,
+};
 pub use touchstone::{
     DataFormat, Fixture, Parameter, Touchstone, TouchstoneError, Version, one_port_s_to_z, parse_touchstone,
     ports_from_extension, read_touchstone, s1p_string, shunt_through_s21_to_z, write_s1p, z_to_one_port_s,

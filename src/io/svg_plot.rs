@@ -71,6 +71,70 @@ impl Ranged for DecadeAxis {
 /// Draw the analysis' display curve (`analysis.curve`, which must span [`plot_range_hz`] of the band) with the
 /// target over the band and the violation bands shaded. Returns the `<svg>` element's text.
 pub fn impedance_svg(analysis: &RailAnalysis) -> Result<String, String> {
+    impedance_svg_titled(analysis, PLOT_SIZE, None)
+}
+
+/// A plot for a reviewer to paste into a document: the same drawing as the report's at `size` pixels, with a title
+/// and the rail's verdict line above it when `title` is given (title, verdict).
+pub fn impedance_svg_titled(
+    analysis: &RailAnalysis,
+    size: (u32, u32),
+    title: Option<(&str, &str)>,
+) -> Result<String, String> {
+    let size = checked_size(size)?;
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, size).into_drawing_area();
+        draw_impedance(&root, analysis, title)?;
+    }
+    Ok(svg)
+}
+
+/// The same plot as [`impedance_svg_titled`] as a PNG file's bytes, drawn by the same code on a bitmap (text in
+/// egui's own font, so the picture needs no font from the system).
+pub fn impedance_png(
+    analysis: &RailAnalysis,
+    size: (u32, u32),
+    title: Option<(&str, &str)>,
+) -> Result<Vec<u8>, String> {
+    let (w, h) = checked_size(size)?;
+    let mut rgb = vec![0u8; w as usize * h as usize * 3];
+    {
+        let root = BitMapBackend::with_buffer(&mut rgb, (w, h)).into_drawing_area();
+        draw_impedance(&root, analysis, title)?;
+    }
+    let rgba: Vec<u8> = rgb.chunks_exact(3).flat_map(|p| [p[0], p[1], p[2], 255]).collect();
+    super::png_image::png_bytes(w, h, &rgba)
+}
+
+/// The smallest and largest picture sizes the plot is drawn at, pixels (a bound on memory as well as on sense).
+pub const SIZE_LIMITS: (u32, u32) = (320, 8000);
+
+fn checked_size((w, h): (u32, u32)) -> Result<(u32, u32), String> {
+    let (lo, hi) = SIZE_LIMITS;
+    if (lo..=hi).contains(&w) && (lo..=hi).contains(&h) {
+        Ok((w, h))
+    } else {
+        Err(format!("a plot is from {lo} to {hi} pixels wide and high, not {w} × {h}"))
+    }
+}
+
+/// The bitmap backend draws text through ab_glyph from registered fonts; register egui's own once.
+fn register_font() {
+    static ONCE: std::sync::Once = std::sync::Once::new();
+    ONCE.call_once(|| {
+        for style in [FontStyle::Normal, FontStyle::Bold] {
+            let _ = plotters::style::register_font("sans-serif", style, epaint_default_fonts::UBUNTU_LIGHT);
+        }
+    });
+}
+
+fn draw_impedance<DB: DrawingBackend>(
+    root: &DrawingArea<DB, plotters::coord::Shift>,
+    analysis: &RailAnalysis,
+    title: Option<(&str, &str)>,
+) -> Result<(), String> {
+    register_font();
     let curve = analysis.curve.as_ref().ok_or("the analysis has no display curve")?;
     let (xlo, xhi) = decades(analysis.band_hz);
     let target = analysis.target_ohm;
@@ -94,12 +158,22 @@ pub fn impedance_svg(analysis: &RailAnalysis) -> Result<String, String> {
     let (ylo_f, yhi_f) = (f64::from(ylo), f64::from(yhi));
     let clamp = |y: f64| y.clamp(ylo_f, yhi_f);
 
-    let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, PLOT_SIZE).into_drawing_area();
         let e = |e: DrawingAreaErrorKind<_>| e.to_string();
         root.fill(&WHITE).map_err(e)?;
-        let mut chart = ChartBuilder::on(&root)
+        // A title and the verdict above the chart, when asked for.
+        let area = match title {
+            Some((heading, verdict)) => {
+                let (top, rest) = root.split_vertically(64);
+                top.draw(&Text::new(heading.to_string(), (14, 8), ("sans-serif", 22).into_font().color(&BLACK)))
+                    .map_err(e)?;
+                top.draw(&Text::new(verdict.to_string(), (14, 38), ("sans-serif", 16).into_font().color(&BLACK)))
+                    .map_err(e)?;
+                rest
+            }
+            None => root.clone(),
+        };
+        let mut chart = ChartBuilder::on(&area)
             .margin(14)
             .margin_right(34)
             .x_label_area_size(56)
@@ -151,7 +225,7 @@ pub fn impedance_svg(analysis: &RailAnalysis) -> Result<String, String> {
             .map_err(e)?;
         root.present().map_err(e)?;
     }
-    Ok(svg)
+    Ok(())
 }
 
 #[cfg(test)]

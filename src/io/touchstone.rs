@@ -130,9 +130,10 @@ impl Touchstone {
             (Fixture::OnePort, n) => {
                 Err(format!("a one-port fixture needs a 1-port file (.s1p), this one has {n} ports"))
             }
-            (Fixture::ShuntThrough, n) => {
-                Err(format!("a shunt-through fixture needs a 2-port file (.s2p), this one has {n} port(s)"))
-            }
+            (Fixture::ShuntThrough, n) => Err(format!(
+                "a shunt-through fixture needs a 2-port file (.s2p), this one has {n} {}",
+                if n == 1 { "port" } else { "ports" }
+            )),
         }
     }
 }
@@ -406,9 +407,10 @@ impl Reader<'_> {
             return Err(self.err(
                 n,
                 format!(
-                    "{} values on this line; a {ports}-port record needs {want} (the frequency and {entries} pair(s)), \
+                    "{} values on this line; a {ports}-port record needs {want} (the frequency and {entries} {}), \
                      on one line",
-                    values.len()
+                    values.len(),
+                    if entries == 1 { "pair of values" } else { "pairs of values" }
                 ),
             ));
         }
@@ -577,7 +579,10 @@ pub fn parse_touchstone(text: &str, file: &str, ports: Option<usize>) -> Result<
         return Err(TouchstoneError {
             file: file.into(),
             line: None,
-            reason: format!("the file name says {from_name} port(s) but [Number of Ports] says {declared}"),
+            reason: format!(
+                "the file name says {from_name} {} but [Number of Ports] says {declared}",
+                if from_name == 1 { "port" } else { "ports" }
+            ),
         });
     }
     if r.freq_hz.is_empty() {

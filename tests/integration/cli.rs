@@ -272,3 +272,28 @@ fn check_warns_when_the_band_misses_the_loads_edges() {
     }
     assert!(short >= 2, "some sample rail has a band short of its edges ({short})");
 }
+
+#[test]
+fn e_series_names_in_any_case_and_negatives_explained_in_help() {
+    for series in ["E12", "e12", "E96"] {
+        let (code, stdout, stderr) = run(&["coupling", "--impedance", "100", "--lowest", "20", "--series", series]);
+        assert_eq!(code, 0, "{series}: {stderr}");
+        assert!(!stdout.is_empty());
+    }
+    for args in [&["--help"][..], &["sweep", "--help"][..], &["mounting", "--help"][..]] {
+        let (code, stdout, _) = run(args);
+        assert_eq!(code, 0);
+        assert!(stdout.contains("--from=-5n") && stdout.contains("20mil"), "{args:?}: {stdout}");
+    }
+}
+
+#[test]
+fn mounting_lengths_take_mm_and_mil() {
+    // The same geometry written three ways gives the same answer (1 mil = 25.4 µm exactly).
+    let a = run(&["mounting", "--trace-width", "0.3mm", "--via-drill", "10mil", "--json"]);
+    let b = run(&["mounting", "--trace-width", "300um", "--via-drill", "254u", "--json"]);
+    let c = run(&["mounting", "--trace-width", "0.3m", "--via-drill", "0.254 mm", "--json"]);
+    assert_eq!(a.0, 0, "{}", a.2);
+    assert_eq!(a.1, b.1);
+    assert_eq!(a.1, c.1);
+}

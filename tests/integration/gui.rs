@@ -820,3 +820,145 @@ fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_say
     let line = one_line(&worst(&off));
     assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
 }
+
+#[test]
+fn at_1280_by_800_the_plot_is_the_largest_thing_and_the_side_panel_keeps_its_width() {
+    let mut harness = window(sample());
+    click(&mut harness, "Pin this curve");
+    click(&mut harness, "worst corner too");
+    let plot = harness.state().plot_rect().expect("the plot is drawn");
+    // The plot takes most of the middle: at least 540 × 330 points of a 1280 × 800 window (about a fifth of the
+    // window; before, with a pin and the worst corner on, it was about 150 points high).
+    assert!(plot.width() >= 540.0 && plot.height() >= 330.0, "plot {plot:?}");
+    // The side panel does not move when a caution appears (the first group of VCORE is polarised; a second
+    // rail with a different caution set is selected): its tab stays where it was.
+    let before = harness.get_by_label("Rail inputs").rect();
+    select_rail(&mut harness, "V3V3_IO");
+    select_rail(&mut harness, "VCORE");
+    harness.run();
+    let after = harness.get_by_label("Rail inputs").rect();
+    assert_eq!(before.left(), after.left(), "the side panel kept its width");
+    // The plot grows with the window.
+    harness.set_size(egui::vec2(1920.0, 1080.0));
+    harness.run();
+    harness.run();
+    let big = harness.state().plot_rect().unwrap();
+    assert!(big.width() > plot.width() + 400.0 && big.height() > plot.height() + 200.0, "{big:?} vs {plot:?}");
+}
+
+#[test]
+fn the_legend_names_each_groups_curve() {
+    let board = sample();
+    let mut harness = window(board.clone());
+    click(&mut harness, "each group's curve");
+    let result = hushrail::gui::results::compute_with(&board, 0, Default::default()).unwrap();
+    assert!(!result.plot.branches.is_empty());
+    for b in &result.plot.branches {
+        assert!(harness.query_by_label(&b.label).is_some(), "legend entry for {}", b.label);
+    }
+}
+
+#[test]
+fn lengths_are_typed_in_mm_um_and_mil_and_shown_without_noise() {
+    let board = sample();
+    let rail = board.rail_index("V3V3_IO").unwrap();
+    let mut harness = window(board);
+    select_rail(&mut harness, "V3V3_IO");
+    click(&mut harness, "mounting of group 1 from geometry");
+    select_all_and_type(&mut harness, "trace width", "0.3mm");
+    select_all_and_type(&mut harness, "pad-to-via trace length", "300um");
+    select_all_and_type(&mut harness, "via drill", "12 mil");
+    select_all_and_type(&mut harness, "power-to-ground via distance", "20mil");
+    let g = harness.state().board().rails[rail].decaps[0].mounting.unwrap();
+    let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b;
+    assert!(close(g.trace_width_m, 0.3e-3), "{}", g.trace_width_m);
+    assert!(close(g.trace_length_m, 300e-6), "{}", g.trace_length_m);
+    // 1 mil = 25.4 µm exactly (the inch is 25.4 mm by definition).
+    assert!(close(g.via_drill_m, 12.0 * 25.4e-6), "{}", g.via_drill_m);
+    assert!(close(g.via_pitch_m, 20.0 * 25.4e-6), "{}", g.via_pitch_m);
+    let shown = |h: &Harness<'_, App>, label: &str| h.get_by_label(label).value().unwrap_or_default();
+    assert_eq!(shown(&harness, "trace width"), "300 µm");
+    assert_eq!(shown(&harness, "via drill"), "304.8 µm");
+    assert_eq!(shown(&harness, "power-to-ground via distance"), "508 µm");
+    // A whole-number field shows a whole number; no field shows floating-point noise.
+    assert_eq!(shown(&harness, "vias per pad"), g.vias_per_pad.to_string());
+    for label in ["pad-to-via trace length", "trace height over its plane", "via length to the planes"] {
+        let text = shown(&harness, label);
+        assert!(text.len() <= 10 && (text.ends_with(" µm") || text.ends_with(" mm")), "{label}: {text}");
+    }
+}
+
+#[test]
+fn a_negative_entry_gives_one_message_in_the_words_typed() {
+    let mut harness = window(sample());
+    select_all_and_type(&mut harness, "Voltage", "-5n");
+    assert_eq!(harness.query_all_by_label_contains("Refused:").count(), 1, "one message");
+    assert!(harness.query_by_label_contains("not -5n").is_some(), "in the words typed");
+    assert!(harness.query_by_label_contains("e-9").is_none(), "never the raw SI value");
+}
+
+#[test]
+fn undo_says_what_it_undid_and_what_the_count_is_now() {
+    let board = sample();
+    let group = board.rails[0].decaps.iter().position(|g| g.part == "mlcc-100n-0402").unwrap();
+    let was = board.rails[0].decaps[group].count;
+    let mut harness = window(board);
+    select_all_and_type(&mut harness, "count of mlcc-100n-0402", "40");
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    let line = format!(
+        "Undone: count of mlcc-100n-0402 on VCORE to 40; the count of mlcc-100n-0402 on VCORE is back to {was}"
+    );
+    assert!(harness.query_by_label(&line).is_some(), "{line}");
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Y);
+    harness.run();
+    assert!(harness.query_by_label_contains("is now 40").is_some());
+}
+
+#[test]
+fn new_board_and_add_rail_from_the_window() {
+    let mut harness = window(sample());
+    click(&mut harness, "File");
+    click(&mut harness, "New board");
+    assert_eq!(harness.state().board().name, "New board");
+    assert_eq!(harness.state().board().rails.len(), 1);
+    click(&mut harness, "Add rail");
+    assert_eq!(harness.state().board().rails.len(), 2);
+    assert_eq!(harness.state().selected_rail(), 1);
+    // The new rail is analysed like any other (no capacitors yet: the engine's verdict is shown).
+    let a = engine(harness.state().board(), 1);
+    assert_shows(&harness, &a);
+}
+
+#[test]
+fn every_export_from_the_window_is_the_libraries_and_the_path_field_works_without_a_dialog() {
+    use hushrail::gui::FileAction;
+    let dir = tempfile::tempdir().unwrap();
+    let board = sample();
+    let mut harness = window(board.clone());
+    // The plot, drawn by the report's plotting code with title and verdict, at the chosen size.
+    let svg = String::from_utf8(harness.state().export_bytes(FileAction::PlotSvg).unwrap()).unwrap();
+    let check = hushrail::analysis::check_rail(&board, 0, &Default::default()).unwrap();
+    assert!(svg.contains("width=\"1200\"") && svg.contains("height=\"700\""), "size");
+    assert!(svg.contains("VCORE") && svg.contains(&hushrail::io::escape(&check.verdict_line())), "title and verdict");
+    assert!(svg.contains("frequency") && svg.contains("target"), "axes and legend");
+    let png = harness.state().export_bytes(FileAction::PlotPng).unwrap();
+    assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+    assert_eq!(u32::from_be_bytes(png[16..20].try_into().unwrap()), 1200, "PNG width");
+    // The bill of materials is the CLI's.
+    let bom = harness.state().export_bytes(FileAction::Bom).unwrap();
+    assert_eq!(String::from_utf8(bom).unwrap(), hushrail::io::bom_csv(&hushrail::io::bill_of_materials(&board)));
+    let s1p = String::from_utf8(harness.state().export_bytes(FileAction::Touchstone).unwrap()).unwrap();
+    assert!(s1p.contains("# Hz S RI R 50"));
+    let csv = String::from_utf8(harness.state().export_bytes(FileAction::Csv).unwrap()).unwrap();
+    assert!(csv.starts_with("freq_hz,z_re_ohm"));
+    let cir = String::from_utf8(harness.state().export_bytes(FileAction::Netlist).unwrap()).unwrap();
+    assert!(cir.to_ascii_lowercase().contains(".ac"));
+
+    // No file-dialog service here: the menu item opens the window's own path field.
+    let target = dir.path().join("bom.csv");
+    click(&mut harness, "File");
+    click(&mut harness, "Export the bill of materials (CSV)…");
+    select_all_and_type(&mut harness, "Path", target.to_str().unwrap());
+    assert!(target.exists(), "written through the path field");
+}

@@ -1,0 +1,23 @@
+//! A rail's impedance as CSV for other tools: frequency, real and imaginary parts, magnitude, phase and target,
+//! every number at full precision. Written by `hushrail export --csv` and the window's export alike.
+
+use crate::analysis::magnitude_phase;
+use crate::units::{full_precision, push_full_precision};
+use num_complex::Complex64;
+
+/// The CSV of an export, every number in full precision.
+pub fn impedance_csv(freq_hz: &[f64], z: &[Complex64], target_ohm: f64) -> String {
+    let mut text = String::with_capacity(128 * freq_hz.len() + 64);
+    text.push_str("freq_hz,z_re_ohm,z_im_ohm,z_mag_ohm,z_phase_deg,target_ohm\n");
+    let target = full_precision(target_ohm);
+    for (f, z) in freq_hz.iter().zip(z) {
+        let (mag, phase) = magnitude_phase(*z);
+        for x in [*f, z.re, z.im, mag, phase] {
+            push_full_precision(&mut text, x);
+            text.push(',');
+        }
+        text.push_str(&target);
+        text.push('\n');
+    }
+    text
+}
