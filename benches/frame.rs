@@ -42,7 +42,7 @@ fn frame(c: &mut Criterion) {
     let base = six_rails();
 
     drag_step(c, &base, "drag step: edit + analysis + plot data, 6 rails", Look::default(), false);
-    let both = Look { view: None, both_views: true, worst_corner: true };
+    let both = Look { view: None, both_views: true, worst_corner: true, load: None };
     drag_step(c, &base, "drag step with the worst corner and both views, 6 rails", both, false);
     drag_step(c, &base, "drag step with the time view's droop, 6 rails", Look::default(), true);
 

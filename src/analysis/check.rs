@@ -379,6 +379,8 @@ pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option
         view: options.view,
         corner: options.corner,
         search: options.search,
+        // The verdict is the rail's: its worst load's.
+        load: None,
     };
     let verdict = analyze_rail(board, index, &base)?;
     let plain = AnalysisOptions { curve: None, branch_curves: false, view: Some(verdict.view), ..base };

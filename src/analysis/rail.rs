@@ -24,6 +24,9 @@ pub struct AnalysisOptions {
     pub corner: Corner,
     /// How hard the worst corner searches the tolerance vertices.
     pub search: SearchOptions,
+    /// On a placed rail, the load whose figures and curve to give (its index); `None` (or an index past the
+    /// loads) gives the worst load's, the rail's verdict.
+    pub load: Option<usize>,
 }
 
 impl Default for AnalysisOptions {
@@ -35,6 +38,7 @@ impl Default for AnalysisOptions {
             view: None,
             corner: Corner::Typical,
             search: SearchOptions::default(),
+            load: None,
         }
     }
 }

@@ -7,7 +7,9 @@
 use super::app::{App, CentralTab};
 use super::results::RailResult;
 use super::theme;
-use crate::analysis::{AntiResonance, Severity, View, kept_words, search_words, summary, vertex_words, yield_words};
+use crate::analysis::{
+    AntiResonance, Severity, View, kept_words, load_line, search_words, summary, vertex_words, yield_words,
+};
 use crate::physics::Corner;
 use crate::units::{Unit, format, format_sig};
 use egui::{RichText, Ui};
@@ -196,6 +198,15 @@ impl App {
                 ui.label(RichText::new("seen at the board node (the check takes the verdict at the die)").weak());
             }
         });
+        // A placed rail: the shown load's own verdict line (the rail's is its worst load's), as `check` words it.
+        let shown_load = self.results.look().load.or_else(|| {
+            let worst = check.loads.iter().enumerate().max_by(|a, b| a.1.worst_ohm.total_cmp(&b.1.worst_ohm));
+            worst.map(|(k, _)| k)
+        });
+        if let Some(l) = shown_load.and_then(|k| check.loads.get(k)) {
+            let color = if l.meets_target { pal.ok } else { pal.fail };
+            ui.label(RichText::new(load_line(l, check.verdict.target_ohm)).small().color(color));
+        }
         // The cautions that fail the rail, where nobody can miss them.
         for c in check.failing_cautions() {
             ui.label(RichText::new(format!("Fails: {}", c.text)).strong().color(pal.fail));
@@ -285,6 +296,25 @@ impl App {
                 ui.checkbox(&mut self.show_group_curves, "each group's curve");
             }
             ui.checkbox(&mut look.worst_corner, "worst corner too").on_hover_text(Corner::Worst.words());
+            if let Some(rail) = self.doc.board.rails.get(self.selected_rail).filter(|r| r.placement.is_some()) {
+                // A placed rail: which load's effective impedance the plot shows.
+                ui.separator();
+                let l = ui.label("at load");
+                let name = |k: Option<usize>| match k.and_then(|k| rail.loads.get(k)) {
+                    Some(load) => load.name.clone(),
+                    None => "the worst (the verdict's)".to_string(),
+                };
+                egui::ComboBox::from_id_salt("plot-load")
+                    .selected_text(name(look.load))
+                    .show_ui(ui, |ui| {
+                        ui.selectable_value(&mut look.load, None, name(None));
+                        for k in 0..rail.loads.len() {
+                            ui.selectable_value(&mut look.load, Some(k), name(Some(k)));
+                        }
+                    })
+                    .response
+                    .labelled_by(l.id);
+            }
             if has_package {
                 ui.separator();
                 ui.label("seen from");
@@ -357,7 +387,16 @@ impl App {
         let show_groups = self.show_group_curves;
         let hover_result = result.clone();
 
-        let total_name = format!("|Z| {}", view_words(a.view));
+        // On a placed rail the curve is a load's effective impedance (its own and the other loads' steps through
+        // the planes, over the rail's step).
+        let total_name = match (&rail.placement, self.results.look().load.and_then(|k| rail.loads.get(k))) {
+            (Some(_), Some(load)) => format!("effective |Z| at {}", load.name),
+            (Some(_), None) => {
+                let worst = result.check.loads.iter().max_by(|a, b| a.worst_ohm.total_cmp(&b.worst_ohm));
+                format!("effective |Z| at {} (the worst load)", worst.map_or("—", |l| l.name.as_str()))
+            }
+            (None, _) => format!("|Z| {}", view_words(a.view)),
+        };
         let hover_name = total_name.clone();
         let dark = ui.visuals().dark_mode;
         let group_colors = theme::group_colors(dark);

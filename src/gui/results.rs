@@ -58,6 +58,9 @@ pub struct Look {
     pub both_views: bool,
     /// Also analyse the worst corner (the tolerance vertex search) and draw its curve.
     pub worst_corner: bool,
+    /// On a placed rail, the load whose effective impedance the plot shows; `None` is the worst load (the rail's
+    /// verdict). An index past the rail's loads is taken as `None`.
+    pub load: Option<usize>,
 }
 
 /// A second analysis of the rail (the other view, or the worst corner) and its drawn curve.
@@ -261,15 +264,18 @@ pub fn compute_with(board: &Board, index: usize, look: Look) -> Option<RailResul
         Some(View::Board) => View::Board,
         _ => check.verdict.view,
     };
+    // On a placed rail the plot may show another load than the worst (whose figures are the verdict's).
+    let shown_load = look.load.filter(|&k| rail.placement.is_some() && k < rail.loads.len());
     let options = AnalysisOptions {
         band_points: BAND_POINTS,
         curve,
         branch_curves: true,
         view: Some(shown_view),
         corner: check.verdict.corner,
+        load: shown_load,
         ..AnalysisOptions::default()
     };
-    let (analysis, findings) = if shown_view == check.verdict.view {
+    let (analysis, findings) = if shown_view == check.verdict.view && shown_load.is_none() {
         (check.verdict.clone(), check.findings.clone())
     } else {
         let analysis = analyze_rail(board, index, &options)?;

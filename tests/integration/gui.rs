@@ -962,3 +962,26 @@ fn every_export_from_the_window_is_the_libraries_and_the_path_field_works_withou
     select_all_and_type(&mut harness, "Path", target.to_str().unwrap());
     assert!(target.exists(), "written through the path field");
 }
+
+/// On a placed rail the plot shows the load chosen: its own verdict line (the words `check` prints) and its
+/// worst effective |Z| in the header, while the rail's verdict stays its worst load's.
+#[test]
+fn a_placed_rail_plots_the_load_chosen() {
+    let board = hushrail::io::read_board(&crate::common::root().join("tests/networks/placed/two_loads.json")).unwrap();
+    let check = hushrail::analysis::check_rail(&board, 0, &Default::default()).unwrap();
+    let mut harness = window(board.clone());
+    assert!(harness.query_by_label("at load").is_some(), "a placed rail offers the choice of load");
+    let verdict = if check.passes { "passes the check" } else { "fails the check" };
+    for k in 0..check.loads.len() {
+        harness.state_mut().set_look(hushrail::gui::results::Look { load: Some(k), ..Default::default() });
+        harness.run();
+        let l = &check.loads[k];
+        let line = hushrail::analysis::load_line(l, check.verdict.target_ohm);
+        assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
+        let worst = format!("worst |Z| {} at {}", format(l.worst_ohm, Unit::Ohm), format(l.worst_hz, Unit::Hertz));
+        assert!(harness.query_by_label(&worst).is_some(), "the header gives load {k}'s figures: {worst}");
+        assert!(harness.query_by_label(verdict).is_some(), "the rail's verdict stays its worst load's");
+        let shown = analyze_rail(&board, 0, &AnalysisOptions { load: Some(k), ..Default::default() }).unwrap();
+        assert_eq!(shown.worst_ohm, l.worst_ohm, "the engine's figures for that load");
+    }
+}

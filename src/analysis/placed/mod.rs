@@ -140,14 +140,17 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
     let mut lumped_rail = rail.clone();
     lumped_rail.placement = None;
     let mut a = analyze_lumped(board, &lumped_rail, &AnalysisOptions { curve: None, ..*options })?;
-    let w = &loads[worst_load];
+    // The figures shown: the load asked for, else the worst (the rail's verdict: it meets target only when every
+    // load does).
+    let shown = options.load.filter(|&k| k < loads.len()).unwrap_or(worst_load);
+    let w = &loads[shown];
     let network = Network::of_rail_in(board, &lumped_rail, options.corner);
     a.view = w.view;
     a.worst_ohm = w.worst_ohm;
     a.worst_hz = w.worst_hz;
     a.margin_ratio = w.margin_ratio;
     a.margin_db = w.margin_db;
-    a.meets_target = loads.iter().all(|l| l.meets_target);
+    a.meets_target = if shown == worst_load { loads.iter().all(|l| l.meets_target) } else { w.meets_target };
     a.violations = w.violations.clone();
     a.dips = w.dips.clone();
     a.antiresonances = w
@@ -174,7 +177,7 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
     a.scan = w.scan.clone();
     a.curve = options.curve.map(|(from, to, n)| {
         let freq_hz = log_grid(from, to, n);
-        let z = freq_hz.iter().map(|&f| eff_at(f)[worst_load]).collect();
+        let z = freq_hz.iter().map(|&f| eff_at(f)[shown]).collect();
         let branches = if options.branch_curves {
             network
                 .branches
