@@ -2,57 +2,93 @@
 # Screenshots of the planner window under Xvfb (no screen needed), for looking at the window and for the README.
 # Needs: xvfb x11-apps imagemagick xdotool mesa-vulkan-drivers libvulkan1 libgl1-mesa-dri libegl-mesa0.
 # Usage: scripts/screenshots.sh [BINARY] [OUT_DIR]   (defaults: target/release/hushrail, /tmp/hushrail-shots)
-# Writes sample.png (the built-in sample board), pin_finding.png (a pin, a changed count, a finding selected, the
-# pointer over the curve), time_view.png (the voltage after a load step with the worst-case pattern) and
-# suggest.png (suggested mixes pinned on the plot). Only the processes it starts are stopped, by their ids.
+#
+# At 1280x800 (a laptop) and 1920x1080, in the dark and the light theme, it writes
+#   sample-WxH-THEME.png       the built-in sample board as it opens
+#   pin_finding-WxH-THEME.png  a pin, a changed count, a finding selected, the pointer over the plot
+# and at 1280x800 in both themes
+#   time_view-1280x800-THEME.png  the voltage after a load step with the worst-case pattern
+#   suggest-1280x800-THEME.png    suggested mixes for the first rail, every option pinned on the plot.
+#
+# Every session starts with its own empty XDG_DATA_HOME and XDG_CONFIG_HOME (no recent files, autosave, pins or
+# window state from this machine's own sessions, nor from an earlier session of this script); the theme is set
+# through the window's own preferences file there. The clicks are at places in the window's layout: the left and
+# right columns keep their widths, so a point in the right column moves with the right edge and one in the
+# findings pane with the bottom edge; the plot grows in between. Only the processes it starts are stopped, by
+# their ids.
 set -euo pipefail
 bin=${1:-target/release/hushrail}
 out=${2:-/tmp/hushrail-shots}
 mkdir -p "$out"
 export XDG_RUNTIME_DIR=$(mktemp -d); chmod 700 "$XDG_RUNTIME_DIR"
-# A fresh data directory: no recent files or autosave from this machine's own sessions in the pictures.
-export HUSHRAIL_DATA_DIR=$(mktemp -d)
-Xvfb :99 -screen 0 1280x800x24 >/dev/null 2>&1 & xvfb=$!
-trap 'kill "$xvfb" 2>/dev/null || true' EXIT
-sleep 1
-shot() { xwd -root -display :99 | convert xwd:- "$1"; }
-x() { DISPLAY=:99 xdotool "$@"; }
+unset HUSHRAIL_DATA_DIR
+display=:99
+xvfb=
+app=
+cleanup() {
+    if [ -n "$app" ]; then kill "$app" 2>/dev/null || true; fi
+    if [ -n "$xvfb" ]; then kill "$xvfb" 2>/dev/null || true; fi
+}
+trap cleanup EXIT
 
-DISPLAY=:99 WAYLAND_DISPLAY= "$bin" & app=$!
-sleep 8
-x mousemove 1270 790
-sleep 1
-shot "$out/sample.png"
+x() { DISPLAY=$display xdotool "$@"; }
+shot() { xwd -root -display "$display" | convert xwd:- "$1"; }
 
-# Pin the curve, add two of the 10 µF parts, select the first finding, point at the curve.
-x mousemove 323 136 click 1; sleep 1
-x mousemove 979 403 click 1; sleep 0.5; x click 1; sleep 1
-x mousemove 550 632 click 1; sleep 1
-x mousemove 568 330; sleep 1.5
-shot "$out/pin_finding.png"
-kill "$app"
-wait "$app" 2>/dev/null || true
+# A fresh screen of W x H and the window on it in the given theme ("true" dark, "false" light), filling it.
+start() {
+    W=$1; H=$2; dark=$3
+    R=$((W - 1280)); B=$((H - 800))   # how far the right column and the findings pane moved from 1280x800
+    Xvfb "$display" -screen 0 "${W}x${H}x24" >/dev/null 2>&1 & xvfb=$!
+    sleep 1
+    XDG_DATA_HOME=$(mktemp -d); XDG_CONFIG_HOME=$(mktemp -d); export XDG_DATA_HOME XDG_CONFIG_HOME
+    mkdir -p "$XDG_DATA_HOME/hushrail"
+    printf '{"recent": [], "dark": %s}\n' "$dark" >"$XDG_DATA_HOME/hushrail/prefs.json"
+    DISPLAY=$display WAYLAND_DISPLAY= "$bin" & app=$!
+    sleep 8
+    local id
+    id=$(DISPLAY=$display xdotool search --sync --pid "$app" | head -1)
+    x windowmove "$id" 0 0 windowsize "$id" "$W" "$H"
+    sleep 3
+    x mousemove $((W - 10)) $((H - 10))
+    sleep 1
+}
 
-# The time view of the first rail, with the worst-case load pattern (a fresh data directory: the work left
-# unsaved above would be offered back).
-export HUSHRAIL_DATA_DIR=$(mktemp -d)
-DISPLAY=:99 WAYLAND_DISPLAY= "$bin" & app=$!
-sleep 8
-x mousemove 448 113 click 1; sleep 3
-x mousemove 300 189 click 1; sleep 4
-x mousemove 1270 790; sleep 1
-shot "$out/time_view.png"
-kill "$app"
-wait "$app" 2>/dev/null || true
+stop() {
+    kill "$app"; wait "$app" 2>/dev/null || true; app=
+    kill "$xvfb"; wait "$xvfb" 2>/dev/null || true; xvfb=
+}
 
-# Suggested mixes for the first rail from the built-in shelf, every option pinned.
-export HUSHRAIL_DATA_DIR=$(mktemp -d)
-DISPLAY=:99 WAYLAND_DISPLAY= "$bin" & app=$!
-sleep 8
-x mousemove 1031 41 click 1; sleep 1
-x mousemove 900 343 click 1; sleep 5
-x mousemove 960 395 click 1; sleep 1.5
-x mousemove 1270 790; sleep 1
-shot "$out/suggest.png"
-kill "$app"
-wait "$app" 2>/dev/null || true
+for size in 1280x800 1920x1080; do
+    for dark in true false; do
+        theme=$([ "$dark" = true ] && echo dark || echo light)
+        start "${size%x*}" "${size#*x}" "$dark"
+        shot "$out/sample-$size-$theme.png"
+        # Pin the curve, add two of the 10 µF parts (group 2's "+"), select the first finding, point into the plot.
+        x mousemove 543 67 click 1; sleep 1
+        x mousemove $((1004 + R)) 416 click 1; sleep 0.5; x click 1; sleep 1
+        x mousemove 540 $((650 + B)) click 1; sleep 1
+        x mousemove $((302 + (568 + R) * 48 / 100)) $((330 + B / 2)); sleep 1.5
+        shot "$out/pin_finding-$size-$theme.png"
+        stop
+    done
+done
+
+for dark in true false; do
+    theme=$([ "$dark" = true ] && echo dark || echo light)
+    # The time view of the first rail, with the worst-case load pattern.
+    start 1280 800 "$dark"
+    x mousemove 395 67 click 1; sleep 3
+    x mousemove 236 228 click 1; sleep 4
+    x mousemove 1270 790; sleep 1
+    shot "$out/time_view-1280x800-$theme.png"
+    stop
+
+    # Suggested mixes for the first rail from the built-in shelf, every option pinned.
+    start 1280 800 "$dark"
+    x mousemove 1058 41 click 1; sleep 1
+    x mousemove 926 480 click 1; sleep 12
+    x mousemove 1014 553 click 1; sleep 1.5
+    x mousemove 1270 790; sleep 1
+    shot "$out/suggest-1280x800-$theme.png"
+    stop
+done

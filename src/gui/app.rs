@@ -98,6 +98,9 @@ pub struct App {
     /// Go back to the selected rail's home view on the next frame (a double-click on the plot asked for it).
     pub(super) reset_plot: bool,
     pub(super) next_pin: usize,
+    /// The pins last kept in the store and the board file they were kept for: the store is written when the
+    /// pins or the file change.
+    kept_pins: Option<(PathBuf, Vec<Pin>)>,
     pub(super) fields: Fields,
     pub(super) store: Store,
     pub(super) prefs: Prefs,
@@ -146,6 +149,7 @@ impl App {
             path_prompt: None,
             plot_export_size: [1200, 700],
             next_pin: 1,
+            kept_pins: None,
             fields: Fields::default(),
             store: Store::new(None),
             prefs: Prefs::default(),
@@ -209,7 +213,44 @@ impl App {
         }
         app.left_over = store.find_left_over();
         app.store = store;
+        app.restore_pins();
         app
+    }
+
+    /// Take back the pins the store keeps for the board's file.
+    fn restore_pins(&mut self) {
+        self.kept_pins = None;
+        let Some(path) = self.doc.path.clone() else { return };
+        let pins = self.store.load_pins(&path);
+        // New pins go on numbering (and colouring) after the restored ones.
+        let after = pins.iter().map(|p| p.slot + 2).max().unwrap_or(1);
+        self.next_pin = self.next_pin.max(after);
+        self.pins = pins.clone();
+        self.kept_pins = Some((path, pins));
+    }
+
+    /// Keep the pins in the store when they or the board's file changed since they were last kept.
+    fn keep_pins(&mut self) {
+        if !self.store.keeps_files() {
+            return;
+        }
+        let Some(path) = self.doc.path.as_ref() else { return };
+        if self.kept_pins.as_ref().is_some_and(|(p, pins)| p == path && *pins == self.pins) {
+            return;
+        }
+        // A file saved under a new name starts with no pins kept; writing an empty list there is needless.
+        if self.pins.is_empty() && self.kept_pins.as_ref().is_none_or(|(p, _)| p != path) {
+            self.kept_pins = Some((path.clone(), Vec::new()));
+            return;
+        }
+        match self.store.save_pins(path, &self.pins) {
+            Ok(()) => self.kept_pins = Some((path.clone(), self.pins.clone())),
+            Err(e) => {
+                // Said once: the kept copy is updated so a failing store does not retry every frame.
+                self.status = Some((format!("Could not keep the pins: {e}"), true));
+                self.kept_pins = Some((path.clone(), self.pins.clone()));
+            }
+        }
     }
 
     /// The board as it stands.
@@ -361,6 +402,7 @@ impl App {
         self.pattern = None;
         self.load_error = None;
         self.path_prompt = None;
+        self.restore_pins();
     }
 
     /// Save to the board's file, or ask where when it has none. Returns true when saved.
@@ -478,6 +520,7 @@ impl App {
         self.dialogs(&ctx);
         self.update_title(&ctx);
         self.autosave(&ctx);
+        self.keep_pins();
     }
 
     fn handle_input(&mut self, ctx: &egui::Context) {

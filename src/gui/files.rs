@@ -1,10 +1,12 @@
-//! Where the window keeps things between sessions: recent files, the theme, and the autosave of unsaved work.
+//! Where the window keeps things between sessions: recent files, the theme, the autosave of unsaved work and
+//! each board file's pinned curves.
 //!
 //! Board files themselves are read and written by `io` (atomically). This module only decides where the
 //! window's own small files live and what is in them. A [`Store`] with no directory keeps nothing, which is what
 //! the tests use.
 
-use crate::io::{board_to_string, write_atomically};
+use super::pins::Pin;
+use crate::io::{board_to_string, read_limited, write_atomically};
 use crate::model::Board;
 use serde::{Deserialize, Serialize};
 use std::path::{Path, PathBuf};
@@ -12,6 +14,31 @@ use std::time::SystemTime;
 
 /// How many recent files the File menu lists.
 pub const MAX_RECENT: usize = 8;
+
+/// How many board files keep their pins; the least recently pinned one is forgotten first.
+pub const MAX_PINNED_BOARDS: usize = 32;
+
+/// How many pins one board file keeps (the newest).
+pub const MAX_PINS_PER_BOARD: usize = 64;
+
+/// The largest pins file read back (bytes): a pin of a 2 000-point curve is about 80 kB, so this holds every
+/// board's pins with room to spare, and a damaged or foreign file cannot make the window allocate without bound.
+const MAX_PINS_FILE: u64 = 64 << 20;
+
+/// One board file's pins, as the store keeps them.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+struct PinnedBoard {
+    /// The board file (canonical path), the key.
+    board: PathBuf,
+    pins: Vec<Pin>,
+}
+
+/// The whole pins file: boards, most recently pinned first.
+#[derive(Debug, Clone, Default, Serialize, Deserialize)]
+struct PinsFile {
+    #[serde(default)]
+    boards: Vec<PinnedBoard>,
+}
 
 /// The window's preferences.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -37,7 +64,7 @@ impl Default for Prefs {
 impl Prefs {
     /// Put `path` at the top of the recent files.
     pub fn add_recent(&mut self, path: &Path) {
-        let path = std::fs::canonicalize(path).unwrap_or_else(|_| path.to_path_buf());
+        let path = canonical(path);
         self.recent.retain(|p| *p != path);
         self.recent.insert(0, path);
         self.recent.truncate(MAX_RECENT);
@@ -154,11 +181,53 @@ impl Store {
         found.into_iter().next()
     }
 
+    fn load_pins_file(&self) -> PinsFile {
+        self.file("pins.json")
+            .and_then(|p| read_limited(&p, MAX_PINS_FILE).ok())
+            .and_then(|bytes| serde_json::from_slice(&bytes).ok())
+            .unwrap_or_default()
+    }
+
+    /// The pins kept for the board file at `board` (none when there are none or the pins file cannot be read:
+    /// a lost pin is a curve to take again, not worth refusing to open a board over).
+    pub fn load_pins(&self, board: &Path) -> Vec<Pin> {
+        let key = canonical(board);
+        let mut pins =
+            self.load_pins_file().boards.into_iter().find(|b| b.board == key).map(|b| b.pins).unwrap_or_default();
+        // Numbers read back are finite (JSON has no others), but a hand-edited file may still hold an empty or
+        // oversized list: keep only pins that can be drawn, at most the usual number.
+        pins.retain(|p| !p.points.is_empty() && p.points.iter().all(|q| q[0].is_finite() && q[1].is_finite()));
+        pins.truncate(MAX_PINS_PER_BOARD);
+        pins
+    }
+
+    /// Keep `pins` for the board file at `board` (an empty list forgets the board's pins).
+    pub fn save_pins(&self, board: &Path, pins: &[Pin]) -> Result<(), String> {
+        let Some(path) = self.file("pins.json") else { return Ok(()) };
+        let key = canonical(board);
+        let mut all = self.load_pins_file();
+        all.boards.retain(|b| b.board != key);
+        if !pins.is_empty() {
+            let newest = pins[pins.len().saturating_sub(MAX_PINS_PER_BOARD)..].to_vec();
+            all.boards.insert(0, PinnedBoard { board: key, pins: newest });
+        }
+        all.boards.truncate(MAX_PINNED_BOARDS);
+        let text = serde_json::to_string(&all).map_err(|e| e.to_string())?;
+        self.ensure_dir()?;
+        write_atomically(&path, text.as_bytes()).map_err(|e| format!("{}: {e}", path.display()))
+    }
+
     /// Drop a left-over autosave once the user restored or discarded it.
     pub fn forget_left_over(&self, left: &LeftOver) {
         let _ = std::fs::remove_file(&left.board_file);
         let _ = std::fs::remove_file(left.board_file.with_extension("origin"));
     }
+}
+
+/// The key a board file's pins are kept under: its canonical path when it exists, so the same file reached by
+/// another path finds its pins.
+fn canonical(path: &Path) -> PathBuf {
+    std::fs::canonicalize(path).unwrap_or_else(|_| path.to_path_buf())
 }
 
 /// Whether a process still runs. On Linux /proc says; elsewhere we cannot tell cheaply and treat another
@@ -249,6 +318,39 @@ mod tests {
         assert_eq!(crate::io::read_board(&left.board_file).unwrap(), board);
         store.forget_left_over(&left);
         assert_eq!(store.find_left_over(), None);
+    }
+
+    #[test]
+    fn pins_are_kept_per_board_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let store = Store::new(Some(dir.path().join("store")));
+        let a = dir.path().join("a.json");
+        let b = dir.path().join("b.json");
+        std::fs::write(&a, "{}").unwrap();
+        let pin = |name: &str| Pin {
+            name: name.into(),
+            rail: "VCORE".into(),
+            slot: 0,
+            visible: true,
+            points: vec![[3.0, -1.0], [9.0, 0.5]],
+            worst_ohm: 0.1,
+            worst_hz: 1e6,
+            margin_db: -2.0,
+            meets: false,
+        };
+        assert!(store.load_pins(&a).is_empty());
+        store.save_pins(&a, &[pin("before")]).unwrap();
+        store.save_pins(&b, &[pin("other")]).unwrap();
+        // The same file by another path finds its pins.
+        let a_again = dir.path().join(".").join("a.json");
+        assert_eq!(store.load_pins(&a_again), vec![pin("before")]);
+        assert_eq!(store.load_pins(&b), vec![pin("other")]);
+        store.save_pins(&a, &[]).unwrap();
+        assert!(store.load_pins(&a).is_empty());
+        assert_eq!(store.load_pins(&b), vec![pin("other")]);
+        // A damaged pins file gives no pins, not an error.
+        std::fs::write(dir.path().join("store/pins.json"), "{ not json").unwrap();
+        assert!(store.load_pins(&b).is_empty());
     }
 
     #[test]

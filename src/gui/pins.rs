@@ -1,13 +1,16 @@
 //! Pins: frozen copies of a rail's curve kept on the plot to compare a what-if against. A pin is not part of the
-//! board (it is not saved and not undone); it belongs to the window, to one rail by name.
+//! board (not in the board file, not undone); it belongs to the window, to one rail by name. The window's store
+//! keeps a board file's pins beside its other session files, keyed by the file's path (`files::Store::save_pins`),
+//! and gives them back when that file is opened again.
 
 use super::app::App;
 use super::results::RailResult;
 use super::theme;
 use egui::{Color32, RichText, Ui};
+use serde::{Deserialize, Serialize};
 
 /// A frozen curve with the figures it had.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Pin {
     /// A name the user can change.
     pub name: String,

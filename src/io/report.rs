@@ -42,7 +42,7 @@ pub fn escape(text: &str) -> String {
 
 const STYLE: &str = "body{font-family:sans-serif;max-width:62em;margin:1.5em auto;padding:0 1em;color:#222;\
 line-height:1.4}table{border-collapse:collapse;margin:.5em 0 1em}th,td{border:1px solid #bbb;padding:.2em .5em;\
-text-align:left;vertical-align:top}td.n{text-align:right}.pass{color:#155724;background:#e6f4ea}.fail{color:#7a1010;\
+text-align:left;vertical-align:top}td.n{text-align:right}.hint{color:#444}.pass{color:#155724;background:#e6f4ea}.fail{color:#7a1010;\
 background:#fbe9e9}p.verdict{padding:.4em .6em;font-weight:bold}li{margin-bottom:.5em}.meta{color:#555}\
 figure{margin:.5em 0}figcaption{color:#555;font-size:.9em}section.rail{border-top:2px solid #ccc;margin-top:2em}\
 div.unsaved{border:3px solid #a00;background:#fbe9e9;color:#7a1010;font-weight:bold;padding:.6em;margin:1em 0}\
@@ -236,9 +236,11 @@ fn rail_check(h: &mut String, rail: &Rail, c: &RailCheck) {
                 Severity::Fail => ("fail", "Fails"),
                 Severity::Note => ("note", "Note"),
             };
+            // The hint is the engine's sentence of its own (an action, or why a note matters), on its own line as the
+            // window shows it: no "Try:" before it, which would not fit a note's hint.
             let _ = writeln!(
                 h,
-                "<li class=\"{class}\"><strong>{word}:</strong> {}<br>Try: {}</li>",
+                "<li class=\"{class}\"><strong>{word}:</strong> {}<br><span class=\"hint\">{}</span></li>",
                 escape(&f.text),
                 escape(&f.hint)
             );

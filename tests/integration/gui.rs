@@ -304,6 +304,60 @@ fn pins_keep_the_old_curve_and_compare_against_it() {
     assert!(harness.query_by_label_contains("against pin").is_none());
 }
 
+/// A window on the board file at `path`, keeping its session files (prefs, autosave, pins) in `store_dir`.
+fn window_on_file(path: &Path, store_dir: &Path) -> Harness<'static, App> {
+    let app = App::open(Some(path), hushrail::gui::files::Store::new(Some(store_dir.to_path_buf())));
+    let mut harness =
+        Harness::builder().with_size([1280.0, 800.0]).build_ui_state(|ui, app: &mut App| app.show(ui), app);
+    harness.run();
+    harness
+}
+
+#[test]
+fn pins_come_back_when_the_board_file_is_opened_again() {
+    let dir = tempfile::tempdir().unwrap();
+    let store = dir.path().join("store");
+    let path = dir.path().join("camera.json");
+    let other = dir.path().join("other.json");
+    std::fs::write(&path, hushrail::io::board_to_string(&sample())).unwrap();
+    std::fs::write(&other, hushrail::io::board_to_string(&sample())).unwrap();
+
+    let pinned = engine(&sample(), 0);
+    let mut harness = window_on_file(&path, &store);
+    click(&mut harness, "Pin this curve");
+    click(&mut harness, "one more mlcc-100n-0402");
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::S);
+    harness.run();
+    assert!(!harness.state().is_dirty(), "Ctrl+S saved the board");
+    let saved = harness.state().board().clone();
+    drop(harness);
+
+    // Opened again in a new window: the pin is there with the curve and figures it had, compared with the
+    // board as saved (one more part than when it was pinned).
+    let mut harness = window_on_file(&path, &store);
+    assert!(harness.query_by_label("show pin 1").is_some(), "the pin came back");
+    let now = engine(&saved, 0);
+    let compare = format!(
+        "against pin “pin 1”: worst |Z| was {}, now {}",
+        format(pinned.worst_ohm, Unit::Ohm),
+        format(now.worst_ohm, Unit::Ohm)
+    );
+    assert!(harness.query_by_label_contains(&compare).is_some(), "{compare}");
+    // A new pin numbers on after it.
+    click(&mut harness, "Pin this curve");
+    assert!(harness.query_by_label("show pin 2").is_some());
+    click(&mut harness, "remove pin 1");
+    click(&mut harness, "remove pin 2");
+    drop(harness);
+
+    // Another file has no pins of its own; removed pins stay removed.
+    let harness = window_on_file(&other, &store);
+    assert!(harness.query_by_label_contains("show pin").is_none());
+    drop(harness);
+    let harness = window_on_file(&path, &store);
+    assert!(harness.query_by_label_contains("show pin").is_none(), "removed pins are not given back");
+}
+
 #[test]
 fn findings_are_the_engines_and_can_be_selected() {
     let board = sample();

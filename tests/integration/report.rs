@@ -85,6 +85,11 @@ fn check_report(what: &str, board: &Board, html: &str) -> Html {
             assert!(body.contains(&f.text), "{what}/{}: finding missing: {}", rail.name, f.text);
             assert!(body.contains(&f.hint), "{what}/{}: hint missing: {}", rail.name, f.hint);
         }
+        // Each hint is its own line as the window shows it, the engine's words with nothing put before them.
+        let hints: Vec<String> = section.select(&sel("li span.hint")).map(text_of).collect();
+        let want: Vec<String> = c.findings.iter().map(|f| f.hint.clone()).collect();
+        assert_eq!(hints, want, "{what}/{}", rail.name);
+        assert!(!body.contains("Try:"), "{what}/{}: no \"Try:\" before a hint", rail.name);
     }
     let all = text_of(doc.root_element());
     for c in hushrail::notes::all() {
