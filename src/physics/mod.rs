@@ -4,6 +4,7 @@
 mod branch;
 pub mod coupling;
 pub mod derating;
+pub mod loop_fit;
 mod jet;
 pub mod measured;
 pub mod mounting;
