@@ -174,7 +174,8 @@ pub fn fit_loop(freq_hz: &[f64], z: &[Complex64]) -> Result<LoopFit, String> {
         range_hz: [f_lo, f_hi],
         points: z.len(),
     };
-    if !(worst_mag <= MAX_MAGNITUDE_ERROR) {
+    // NaN is refused too.
+    if worst_mag.is_nan() || worst_mag > MAX_MAGNITUDE_ERROR {
         return Err(format!(
             "the best source R-L with a control loop is off by {:.0} % somewhere in the data (more than {:.0} %): \
              the data do not look like a regulator's output impedance",
@@ -248,17 +249,18 @@ fn levenberg_marquardt(mut x: [f64; 4], freq_hz: &[f64], ln_z: &[Complex64], buf
 fn solve4(mut a: [[f64; 4]; 4], mut b: [f64; 4]) -> Option<[f64; 4]> {
     for col in 0..4 {
         let piv = (col..4).max_by(|&i, &j| a[i][col].abs().total_cmp(&a[j][col].abs()))?;
-        if !(a[piv][col].abs() > 1e-300) {
+        if a[piv][col].is_nan() || a[piv][col].abs() <= 1e-300 {
             return None;
         }
         a.swap(col, piv);
         b.swap(col, piv);
-        for row in col + 1..4 {
-            let f = a[row][col] / a[col][col];
-            for k in col..4 {
-                a[row][k] -= f * a[col][k];
+        let (pivot_row, pivot_b) = (a[col], b[col]);
+        for (row, rb) in a.iter_mut().zip(b.iter_mut()).skip(col + 1) {
+            let f = row[col] / pivot_row[col];
+            for (v, p) in row.iter_mut().zip(pivot_row).skip(col) {
+                *v -= f * p;
             }
-            b[row] -= f * b[col];
+            *rb -= f * pivot_b;
         }
     }
     let mut x = [0.0; 4];

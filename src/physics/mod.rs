@@ -4,8 +4,8 @@
 mod branch;
 pub mod coupling;
 pub mod derating;
-pub mod loop_fit;
 mod jet;
+pub mod loop_fit;
 pub mod measured;
 pub mod mounting;
 pub mod plane_pair;

@@ -199,3 +199,39 @@ fn a_measured_source_is_refused_with_its_loop_or_a_bad_file() {
     assert!(kept.rails[0].source.as_ref().unwrap().unusable().is_some());
     assert!(Network::of_rail(&kept, &kept.rails[0]).branches.iter().all(|b| b.label != "source"));
 }
+
+/// ngspice (a general-purpose circuit simulator) on the netlist of a rail whose only branch is the fitted source
+/// gives the regulator's own impedance (Erickson's loop above): |Z| within the fit's worst error plus ngspice's
+/// agreement elsewhere (0.1 %), phase within 0.1° plus the fit's.
+#[test]
+fn ngspice_on_the_fitted_source_gives_the_regulators_impedance() {
+    use hushrail::analysis::{View, magnitude_phase};
+    use hushrail::io::{AcSweep, parse_wrdata, rail_netlist};
+    if !ngspice_available() {
+        return;
+    }
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::copy(root().join("tests/networks/regulator_measured_out.s1p"), dir.path().join("reg.s1p")).unwrap();
+    let p = dir.path().join("only_source.json");
+    std::fs::write(
+        &p,
+        r#"{"format": "hushrail-board", "version": 1, "name": "t", "parts": [],
+            "rails": [{"name": "R", "voltage_v": 1, "ripple_pct": 3, "band_hz": [1e3, 1e7],
+                       "source": {"touchstone": "reg.s1p"}, "loads": [{"name": "x", "step_a": 1}], "decaps": []}]}"#,
+    )
+    .unwrap();
+    let board = read_board(&p).unwrap();
+    let fit = *board.rails[0].source.as_ref().unwrap().loop_fit().unwrap();
+    let sweep = AcSweep { from_hz: 100.0, to_hz: 1e8, points_per_decade: 20 };
+    let rows =
+        parse_wrdata(&run_ngspice(&rail_netlist(&board, &board.rails[0], &sweep, View::Board, "z.txt"), "z.txt"))
+            .unwrap();
+    assert_eq!(rows.len(), 121);
+    for row in rows {
+        let (f, spice) = (row[0], Complex64::new(row[1], row[2]));
+        let (got_mag, got_phase) = magnitude_phase(spice);
+        let (want_mag, want_phase) = magnitude_phase(regulator_z(f));
+        assert!(rel(got_mag, want_mag) <= 1e-3 + fit.worst_magnitude_error, "at {f} Hz: {got_mag} vs {want_mag}");
+        assert!((got_phase - want_phase).abs() <= 0.1 + fit.worst_phase_error_deg, "at {f} Hz: phase");
+    }
+}
