@@ -289,6 +289,21 @@ mod tests {
         assert!(fit.worst_magnitude_error < 1e-6 && fit.rms_residual < 1e-6);
     }
 
+    /// Data with a ±2 % ripple on |Z| still give the source within a few percent, and the fit states an error of
+    /// the ripple's size.
+    #[test]
+    fn rippled_data_fit_near_and_say_their_error() {
+        let truth = [4e-3, 1e-9, 30e3, 25.0];
+        let f: Vec<f64> = (0..81).map(|i| 100.0 * 10f64.powf(i as f64 / 12.0)).collect();
+        let z: Vec<Complex64> =
+            f.iter().enumerate().map(|(k, &x)| model_z(&truth, x) * (1.0 + 0.02 * (k as f64 * 1.7).sin())).collect();
+        let fit = fit_loop(&f, &z).unwrap();
+        for (got, want) in [fit.r_ohm, fit.l_h, fit.crossover_hz, fit.phase_margin_deg].into_iter().zip(truth) {
+            assert!((got / want - 1.0).abs() < 0.05, "{got} vs {want}");
+        }
+        assert!(fit.worst_magnitude_error > 0.005 && fit.worst_magnitude_error < 0.05, "{fit:?}");
+    }
+
     #[test]
     fn data_no_loop_describes_are_refused() {
         // A capacitor's falling |Z| is no regulator's output.
