@@ -3,7 +3,7 @@
 
 use super::network::BranchKind;
 use super::rail::{AntiResonance, BranchRef, RailAnalysis};
-use crate::model::{Band, BandEdge, Board, Rail};
+use crate::model::{Band, BandEdge, Board, Rail, Source};
 use crate::physics::derating::temperature_class;
 use crate::units::{Unit, format};
 
@@ -75,7 +75,61 @@ pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Findi
     out.sort_by(|a, b| a.range_hz[0].total_cmp(&b.range_hz[0]));
     out.extend(derating_notes(board, rail, analysis));
     out.extend(measured_notes(board, rail, analysis));
+    out.extend(source_note(rail, analysis));
     out
+}
+
+/// What a measured source was fitted to and how well, in one sentence (the check's note, the report and the
+/// window say this); `None` for a source given by its numbers.
+pub fn source_fit_words(source: &Source) -> Option<String> {
+    let file = source.touchstone.as_ref()?;
+    let Some(fit) = source.loop_fit() else {
+        return Some(format!("The source is measured ({file}), but its file cannot be used."));
+    };
+    // Small errors keep their size rather than rounding to a misleading 0.
+    let pct = |x: f64| if x >= 1e-4 { format!("{:.2} %", x * 100.0) } else { "under 0.01 %".to_string() };
+    let deg = |x: f64| if x >= 0.01 { format!("{x:.2}°") } else { "under 0.01°".to_string() };
+    Some(format!(
+        "The source is fitted from measured data ({file}, {} points): R {}, L {}, loop crossing over at {} with \
+         {:.1}° phase margin; the fit's worst error from {} to {} is {} in |Z| and {} in phase (rms residual {}).",
+        fit.points,
+        format(fit.r_ohm, Unit::Ohm),
+        format(fit.l_h, Unit::Henry),
+        hz(fit.crossover_hz),
+        fit.phase_margin_deg,
+        hz(fit.range_hz[0]),
+        hz(fit.range_hz[1]),
+        pct(fit.worst_magnitude_error),
+        deg(fit.worst_phase_error_deg),
+        pct(fit.rms_residual)
+    ))
+}
+
+/// A measured source: the fit it stands for and its error (a note), or why it is out of the network (a fail).
+fn source_note(rail: &Rail, analysis: &RailAnalysis) -> Option<Finding> {
+    let source = rail.source.as_ref()?;
+    let band = analysis.band_hz;
+    if let Some(why) = source.unusable() {
+        return Some(Finding {
+            severity: Severity::Fail,
+            range_hz: band,
+            text: format!("The source cannot be used, so it is left out of this rail: {why}."),
+            hint: "Fix or replace the Touchstone file the source names, then open the board again.".into(),
+        });
+    }
+    let fit = source.loop_fit()?;
+    let [a, b] = fit.range_hz;
+    let outside = if band[0] < a || band[1] > b {
+        " The band reaches past the data; there the fitted circuit stands in."
+    } else {
+        ""
+    };
+    Some(Finding {
+        severity: Severity::Note,
+        range_hz: band,
+        text: format!("{}{outside}", source_fit_words(source)?),
+        hint: "Check the fit against the regulator's data; measure over the whole band.".into(),
+    })
 }
 
 /// Measured parts: one that cannot be used (its groups are out of the network), and one whose data do not cover

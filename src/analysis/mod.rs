@@ -14,7 +14,7 @@ mod rail;
 mod spread;
 mod worst;
 
-pub use advice::{Finding, Severity, explain, explain_band};
+pub use advice::{Finding, Severity, explain, explain_band, source_fit_words};
 pub use cautions::{Caution, CautionKind, cautions, derating_limit};
 pub use check::{
     CheckOptions, EdgeReach, Kept, RailCheck, bias_words, check_board, check_rail, edge_finding, edge_reach,

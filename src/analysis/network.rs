@@ -117,7 +117,8 @@ impl Network {
     /// tolerance vertex or a random draw); groups beyond `scales` are at the middle of their tolerance.
     pub fn of_rail_scaled(board: &Board, rail: &Rail, corner: Corner, scales: &[Scale]) -> Network {
         let mut branches = Vec::new();
-        if let Some(s) = rail.source {
+        // A measured source whose file cannot be used is left out, as a measured part's groups are.
+        if let Some(s) = rail.source.as_ref().filter(|s| s.unusable().is_none()) {
             branches.push(Branch {
                 kind: BranchKind::Source,
                 label: "source".into(),

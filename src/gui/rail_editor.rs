@@ -172,7 +172,10 @@ impl App {
                 toggle(ui, fields, doc, i, "source", text, rail.source.is_some(), pal.fail, |r, on| {
                     r.source = on.then_some(NEW_SOURCE)
                 });
-                if let Some(s) = rail.source {
+                if let Some(words) = rail.source.as_ref().and_then(crate::analysis::source_fit_words) {
+                    // A measured source's R, L and loop are its file's fit: shown, not edited.
+                    ui.label(words);
+                } else if let Some(s) = rail.source.clone() {
                     egui::Grid::new(("source-grid", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
                         rail_number(ui, fields, doc, i, "R", "source.r_ohm", s.r_ohm, Unit::Ohm, |r, v| {
                             if let Some(s) = &mut r.source {

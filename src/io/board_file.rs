@@ -11,6 +11,8 @@ use crate::model::{
     Board, Combine, DecapGroup, Die, Fixture, Load, MountingGeometry, Package, Part, PartKind, Plane, Problem, Rail,
     validate_board,
 };
+use crate::model::{SourceFit, SourceLoop};
+use crate::physics::loop_fit::fit_loop;
 use crate::physics::measured::ImpedanceTable;
 use serde::Serialize;
 use serde_json::{Map, Value};
@@ -59,12 +61,17 @@ pub(super) fn refuse_unusable(path: &Path, board: Board) -> Result<Board, BoardE
         .iter()
         .enumerate()
         .filter_map(|(i, p)| p.unusable().map(|why| Problem::new(format!("parts[{i}].touchstone"), why)))
+        .chain(board.rails.iter().enumerate().filter_map(|(i, r)| {
+            let why = r.source.as_ref()?.unusable()?;
+            Some(Problem::new(format!("rails[{i}].source.touchstone"), why))
+        }))
         .collect();
     if problems.is_empty() { Ok(board) } else { Err(BoardError::from_problems(&path.display().to_string(), problems)) }
 }
 
 /// Load every measured part's Touchstone file (paths relative to `dir`), fit it, and fill in the part's fitted C,
-/// ESR and ESL; a file that cannot be used marks the part unusable with the file, line and reason.
+/// ESR and ESL; a file that cannot be used marks the part unusable with the file, line and reason. Likewise every
+/// measured source's file: its R, L and loop become the fit's (`physics::loop_fit`).
 ///
 /// Each file is read once however many parts name it (twenty parts naming one large file read it once).
 pub fn load_measurements(board: &mut Board, dir: &Path) {
@@ -92,6 +99,30 @@ pub fn load_measurements(board: &mut Board, dir: &Path) {
                 part.measurement = Some(Measurement::Loaded(Arc::new(table)));
             }
             Err(why) => part.measurement = Some(Measurement::Unusable(why)),
+        }
+    }
+    // A source measured from a file: its one-port output impedance fitted to the R-L and crossover tank, which
+    // then stands for the source everywhere (scan, droop, netlists).
+    for source in board.rails.iter_mut().filter_map(|r| r.source.as_mut()) {
+        let Some(file) = &source.touchstone else { continue };
+        let path = dir.join(file);
+        let read = files
+            .entry(path.clone())
+            .or_insert_with(|| super::touchstone::read_touchstone(&path).map(Arc::new).map_err(|e| e.to_string()))
+            .clone();
+        let fitted = read.and_then(|t| {
+            let z = t.impedance(Fixture::OnePort).map_err(|e| format!("{}: {e}", path.display()))?;
+            fit_loop(&t.freq_hz, &z).map_err(|e| format!("{}: {e}", path.display()))
+        });
+        match fitted {
+            Ok(fit) => {
+                source.r_ohm = fit.r_ohm;
+                source.l_h = fit.l_h;
+                source.control =
+                    Some(SourceLoop { crossover_hz: fit.crossover_hz, phase_margin_deg: fit.phase_margin_deg });
+                source.fit = Some(SourceFit::Fitted(fit));
+            }
+            Err(why) => source.fit = Some(SourceFit::Unusable(why)),
         }
     }
 }

@@ -271,7 +271,7 @@ fn rail_inputs(h: &mut String, rail: &Rail, analysis: Option<&RailAnalysis>) {
         ("ΔI", format!("{}{combine}", format(step, Unit::Ampere))),
         ("target", format(crate::analysis::target_impedance(rail), Unit::Ohm)),
         ("band", format!("{} to {}{band_from}", format(band[0], Unit::Hertz), format(band[1], Unit::Hertz))),
-        ("source", rail.source.map_or_else(none, |s| rl(s.r_ohm, s.l_h))),
+        ("source", rail.source.as_ref().map_or_else(none, |s| rl(s.r_ohm, s.l_h))),
         ("plane", rail.plane.map_or_else(none, |p| rlc(p.capacitance_f, p.esr_ohm, Some(p.esl_h)))),
         ("package", rail.package.map_or_else(none, |p| rl(p.r_ohm, p.l_h))),
         ("die", rail.die.map_or_else(none, |d| rlc(d.capacitance_f, d.esr_ohm, None))),

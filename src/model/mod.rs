@@ -326,21 +326,38 @@ pub struct Rail {
 
 /// The regulator's output: a series R-L from the rail to AC ground, and optionally its control loop (then the
 /// crossover tank of `physics::regulator` sits in series: flat at `r_ohm` inside the loop's bandwidth, a peak near
-/// crossover set by the phase margin, the R-L beyond).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+/// crossover set by the phase margin, the R-L beyond). A source may instead name a Touchstone file of its measured
+/// output impedance: its R, L and loop are then the ones fitted to the data (`physics::loop_fit`, filled in when the
+/// file is loaded and never written back: the file is the data).
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Source {
     /// Output resistance, Ω: the flat level inside the loop's bandwidth when a loop is given.
     pub r_ohm: f64,
     /// Output inductance (including the path to the rail), H: with a loop, the inductance past it.
     pub l_h: f64,
-    /// The control loop, when given.
+    /// The control loop, when given (or fitted).
     pub control: Option<SourceLoop>,
+    /// The one-port Touchstone file of the measured output impedance (relative to the board file), when given.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub touchstone: Option<String>,
+    /// The fit to that file, once it is loaded.
+    #[serde(skip)]
+    pub fit: Option<SourceFit>,
+}
+
+/// A measured source's data as loaded from its file.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SourceFit {
+    /// The fitted R, L and loop with the fit's errors.
+    Fitted(crate::physics::loop_fit::LoopFit),
+    /// The file could not be used: why (file, line and reason).
+    Unusable(String),
 }
 
 impl Source {
     /// A plain series R-L source (no loop given).
     pub const fn rl(r_ohm: f64, l_h: f64) -> Source {
-        Source { r_ohm, l_h, control: None }
+        Source { r_ohm, l_h, control: None, touchstone: None, fit: None }
     }
 
     /// The crossover tank the loop adds in series, when the source gives a loop and a resistance to hold.
@@ -348,6 +365,25 @@ impl Source {
         let c = self.control?;
         (self.r_ohm > 0.0)
             .then(|| crate::physics::regulator::crossover_tank(self.r_ohm, c.crossover_hz, c.phase_margin_deg))
+    }
+
+    /// The fit of a measured source, when its file was loaded and fitted.
+    pub fn loop_fit(&self) -> Option<&crate::physics::loop_fit::LoopFit> {
+        match &self.fit {
+            Some(SourceFit::Fitted(f)) => Some(f),
+            _ => None,
+        }
+    }
+
+    /// Why a measured source cannot be used (its file unreadable, unfitted or not loaded); `None` for a source
+    /// that can.
+    pub fn unusable(&self) -> Option<String> {
+        let file = self.touchstone.as_ref()?;
+        match &self.fit {
+            Some(SourceFit::Fitted(_)) => None,
+            Some(SourceFit::Unusable(why)) => Some(why.clone()),
+            None => Some(format!("{file}: the measured output impedance is not loaded")),
+        }
     }
 }
 

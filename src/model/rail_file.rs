@@ -59,11 +59,16 @@ struct SourceFile<'a> {
 impl Serialize for SourceFile<'_> {
     fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
         let mut m = serializer.serialize_map(None)?;
-        m.serialize_entry("r_ohm", &self.source.r_ohm)?;
-        m.serialize_entry("l_h", &self.source.l_h)?;
-        if let Some(c) = self.source.control {
-            m.serialize_entry("loop_crossover_hz", &c.crossover_hz)?;
-            m.serialize_entry("loop_phase_margin_deg", &c.phase_margin_deg)?;
+        if let Some(file) = &self.source.touchstone {
+            // A measured source's R, L and loop are its file's fit: the file is written, never the fit.
+            m.serialize_entry("touchstone", file)?;
+        } else {
+            m.serialize_entry("r_ohm", &self.source.r_ohm)?;
+            m.serialize_entry("l_h", &self.source.l_h)?;
+            if let Some(c) = self.source.control {
+                m.serialize_entry("loop_crossover_hz", &c.crossover_hz)?;
+                m.serialize_entry("loop_phase_margin_deg", &c.phase_margin_deg)?;
+            }
         }
         if let Some(at) = self.at {
             m.serialize_entry("at_m", &at.at_m)?;

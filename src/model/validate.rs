@@ -214,7 +214,12 @@ fn check_rail(c: &mut Checker, path: &str, rail: &Rail, part_ids: &HashSet<&str>
             }
         }
     }
-    if let Some(Source { r_ohm, l_h, control }) = rail.source {
+    if let Some(Source { touchstone: Some(file), .. }) = &rail.source {
+        // R, L and the loop come from the file's fit when it is loaded; what the source needs is the file.
+        if file.trim().is_empty() {
+            c.push(format!("{path}.source.touchstone"), "must name a one-port Touchstone file (.s1p), not be empty");
+        }
+    } else if let Some(Source { r_ohm, l_h, control, .. }) = rail.source {
         c.range(format!("{path}.source.r_ohm"), r_ohm, &ranges::RESISTANCE);
         c.range(format!("{path}.source.l_h"), l_h, &ranges::SOURCE_INDUCTANCE);
         if let Some(SourceLoop { crossover_hz, phase_margin_deg }) = control {

@@ -5,6 +5,7 @@ mod branch;
 pub mod coupling;
 pub mod derating;
 mod jet;
+pub mod loop_fit;
 pub mod measured;
 pub mod mounting;
 pub mod plane_pair;

@@ -212,7 +212,7 @@ fn peak_causes_follow_the_susceptance_shares() {
     for peak in &a.antiresonances {
         let w = 2.0 * std::f64::consts::PI * peak.freq_hz;
         let mut b: Vec<(String, f64)> = Vec::new();
-        if let Some(s) = rail.source {
+        if let Some(s) = &rail.source {
             b.push((
                 "source".into(),
                 -1.0 / (w * s.l_h) * (w * s.l_h).powi(2) / (s.r_ohm.powi(2) + (w * s.l_h).powi(2)),

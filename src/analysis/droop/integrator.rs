@@ -293,7 +293,7 @@ pub(super) fn default_window(network: &Network, rail: &Rail, rise_s: f64) -> f64
     if let Some(p) = wide.peaks.first() {
         window = window.max(5.0 / p.freq_hz);
     }
-    if let Some(s) = rail.source
+    if let Some(s) = &rail.source
         && s.r_ohm > 0.0
         && s.l_h > 0.0
     {

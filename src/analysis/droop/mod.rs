@@ -285,7 +285,11 @@ fn check_range(v: f64, range: &Range) -> Result<f64, DroopError> {
 }
 
 fn plan(board: &Board, rail: &Rail, options: &DroopOptions) -> Result<Plan, DroopError> {
-    rail.source.ok_or_else(|| DroopError::NoDcPath { rail: rail.name.clone() })?;
+    // A measured source whose file cannot be used is out of the network, so it gives no DC path either.
+    rail.source
+        .as_ref()
+        .filter(|s| s.unusable().is_none())
+        .ok_or_else(|| DroopError::NoDcPath { rail: rail.name.clone() })?;
     let step_a = check_range(options.step_a.unwrap_or_else(|| rail.total_step_a()), &ranges::LOAD_STEP)?;
     let rise_s = check_range(options.rise_s.or_else(|| rail.fastest_rise_s()).unwrap_or(1e-9), &ranges::RISE_TIME)?;
     let points = options.points.unwrap_or(2000);

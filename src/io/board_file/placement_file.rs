@@ -41,19 +41,46 @@ impl Decoder {
         let f = self.sub_object(
             value,
             path,
-            &["r_ohm", "l_h", "loop_crossover_hz", "loop_phase_margin_deg", "at_m", "port_m"],
+            &["r_ohm", "l_h", "loop_crossover_hz", "loop_phase_margin_deg", "touchstone", "at_m", "port_m"],
             &empty,
         );
         if f.known.is_empty() {
             let spot = placed.then_some(SourcePlacement { at_m: NAN2, port_m: None });
             return (Source::rl(f64::NAN, f64::NAN), spot);
         }
+        let source = if f.map.contains_key("touchstone") { self.measured_source(&f) } else { self.given_source(&f) };
+        if !placed {
+            self.refuse_positions(&f, &["at_m", "port_m"]);
+            return (source, None);
+        }
+        let at_m = self.position(&f, "at_m", "the source");
+        (source, Some(SourcePlacement { at_m, port_m: self.opt_number(&f, "port_m") }))
+    }
+
+    /// A source measured from a file: R, L and the loop come from the fit when the file is loaded, so giving any
+    /// of them as well is refused (which of the two should hold would be a guess).
+    fn measured_source(&mut self, f: &Fields) -> Source {
+        for k in ["r_ohm", "l_h", "loop_crossover_hz", "loop_phase_margin_deg"] {
+            if f.map.contains_key(k) {
+                self.problem(
+                    join(&f.path, k),
+                    "a source gives its R, L and loop or a touchstone file of its measured output impedance, not \
+                     both: the file's fit sets them",
+                );
+            }
+        }
+        let file = self.string(f, "touchstone");
+        Source { touchstone: Some(file), ..Source::rl(f64::NAN, f64::NAN) }
+    }
+
+    /// A source given by its R, L and optionally its loop.
+    fn given_source(&mut self, f: &Fields) -> Source {
         // The loop is given by both its numbers or neither.
         let control = match (f.map.contains_key("loop_crossover_hz"), f.map.contains_key("loop_phase_margin_deg")) {
             (false, false) => None,
             (true, true) => Some(SourceLoop {
-                crossover_hz: self.number(&f, "loop_crossover_hz"),
-                phase_margin_deg: self.number(&f, "loop_phase_margin_deg"),
+                crossover_hz: self.number(f, "loop_crossover_hz"),
+                phase_margin_deg: self.number(f, "loop_phase_margin_deg"),
             }),
             (has_crossover, _) => {
                 let (given, missing) = if has_crossover {
@@ -68,13 +95,7 @@ impl Decoder {
                 None
             }
         };
-        let source = Source { r_ohm: self.number(&f, "r_ohm"), l_h: self.number(&f, "l_h"), control };
-        if !placed {
-            self.refuse_positions(&f, &["at_m", "port_m"]);
-            return (source, None);
-        }
-        let at_m = self.position(&f, "at_m", "the source");
-        (source, Some(SourcePlacement { at_m, port_m: self.opt_number(&f, "port_m") }))
+        Source { control, ..Source::rl(self.number(f, "r_ohm"), self.number(f, "l_h")) }
     }
 
     pub(super) fn load_stand_in(&mut self, placed: bool) -> Option<LoadPlacement> {
