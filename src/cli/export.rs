@@ -2,12 +2,8 @@
 
 use super::{EXIT_PASS, load_board};
 use crate::analysis::{log_grid, sweep_in, target_impedance};
-use crate::io::s1p_string;
 use clap::Args;
 use std::path::PathBuf;
-
-/// Reference impedance of exported Touchstone files, Ω (the usual 50 Ω of test equipment).
-pub const EXPORT_Z0_OHM: f64 = 50.0;
 
 /// Options of `hushrail export`.
 #[derive(Debug, Args)]
@@ -46,19 +42,8 @@ pub fn run(args: &ExportArgs) -> Result<i32, String> {
     let z = sweep_in(&board, rail, &grid, view, args.spec.corner.into());
     let mut outputs: Vec<(&PathBuf, String)> = Vec::new();
     if let Some(path) = &args.touchstone {
-        let comments = vec![
-            format!(
-                "hushrail {}: impedance of rail {} of board \"{}\", seen from the {}, {} corner",
-                env!("CARGO_PKG_VERSION"),
-                rail.name,
-                board.name,
-                view.name(),
-                crate::physics::Corner::from(args.spec.corner).name()
-            ),
-            format!("source: {file}"),
-            "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),
-        ];
-        outputs.push((path, s1p_string(&grid, &z, EXPORT_Z0_OHM, &comments)));
+        let corner = crate::physics::Corner::from(args.spec.corner);
+        outputs.push((path, crate::io::impedance_s1p(&board, rail, &grid, &z, view, corner, &file)));
     }
     if let Some(path) = &args.csv {
         outputs.push((path, crate::io::impedance_csv(&grid, &z, target_impedance(rail))));

@@ -10,7 +10,7 @@ use crate::analysis::{DroopOptions, droop};
 use crate::analysis::{log_grid, sweep_in};
 use crate::io::{
     AcSweep, ReportContext, SIZE_LIMITS, bill_of_materials, board_sha256, bom_csv, impedance_csv, impedance_png,
-    impedance_svg_titled, rail_netlist, report_html, s1p_string, utc_date_today, write_outputs, write_report,
+    impedance_s1p, impedance_svg_titled, rail_netlist, report_html, utc_date_today, write_outputs, write_report,
 };
 use crate::units::{Unit, format};
 use egui::Context;
@@ -224,19 +224,7 @@ impl App {
                 if action == FileAction::Csv {
                     Ok(impedance_csv(&grid, &z, a.target_ohm).into_bytes())
                 } else {
-                    let comments = vec![
-                        format!(
-                            "hushrail {}: impedance of rail {} of board \"{}\", seen from the {}, {} corner",
-                            env!("CARGO_PKG_VERSION"),
-                            rail.name,
-                            board.name,
-                            a.view.name(),
-                            a.corner.name()
-                        ),
-                        format!("source: {}", self.doc.label),
-                        "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),
-                    ];
-                    Ok(s1p_string(&grid, &z, 50.0, &comments).into_bytes())
+                    Ok(impedance_s1p(board, rail, &grid, &z, a.view, a.corner, &self.doc.label).into_bytes())
                 }
             }
             FileAction::Netlist => {

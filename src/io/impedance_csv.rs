@@ -21,3 +21,33 @@ pub fn impedance_csv(freq_hz: &[f64], z: &[Complex64], target_ohm: f64) -> Strin
     }
     text
 }
+
+/// The reference impedance of an exported one-port Touchstone file, Ω (the usual 50 Ω of test equipment).
+pub const EXPORT_Z0_OHM: f64 = 50.0;
+
+/// A rail's impedance as a one-port Touchstone file (S referred to [`EXPORT_Z0_OHM`]), with the comment lines that
+/// say what it is: the tool, the rail, the board, the view and corner, and where the board came from (`source`).
+/// Written by `hushrail export --touchstone` and the window's export alike.
+pub fn impedance_s1p(
+    board: &crate::model::Board,
+    rail: &crate::model::Rail,
+    freq_hz: &[f64],
+    z: &[Complex64],
+    view: crate::analysis::View,
+    corner: crate::physics::Corner,
+    source: &str,
+) -> String {
+    let comments = vec![
+        format!(
+            "hushrail {}: impedance of rail {} of board \"{}\", seen from the {}, {} corner",
+            env!("CARGO_PKG_VERSION"),
+            rail.name,
+            board.name,
+            view.name(),
+            corner.name()
+        ),
+        format!("source: {source}"),
+        "Z = 50 (1 + S11) / (1 - S11); lumped, idealised model: check against measurement".to_string(),
+    ];
+    super::s1p_string(freq_hz, z, EXPORT_Z0_OHM, &comments)
+}
