@@ -66,7 +66,6 @@ impl App {
             let name_response = ui
                 .horizontal(|ui| {
                     let name_response = ui.selectable_label(selected, RichText::new(&name).strong());
-                    ui.label(RichText::new(volts).weak());
                     ui.with_layout(egui::Layout::right_to_left(egui::Align::Center), |ui| match &result {
                         Some(r) => {
                             let color = if r.check.passes { pal.ok } else { pal.fail };
@@ -83,8 +82,9 @@ impl App {
                 // The card always gives the check's verdict (at the die when the rail has a package, typical
                 // corner), whatever view the plot shows.
                 let a = r.verdict();
+                // The voltage leads the small line: beside a long name on the first it ran into the verdict word.
                 let text = format!(
-                    "margin {:+.1} dB · worst at {} · {}",
+                    "{volts} · margin {:+.1} dB · worst at {} · {}",
                     a.margin_db,
                     format(a.worst_hz, Unit::Hertz),
                     a.corner.name()
@@ -100,6 +100,9 @@ impl App {
                             .color(pal.fail),
                     );
                 }
+            }
+            if result.is_none() {
+                ui.label(RichText::new(&volts).small().weak());
             }
             name_response
         });

@@ -533,7 +533,12 @@ fn switching_the_view_shows_the_engines_figures_for_that_view_and_both_curves_on
     assert!(harness.query_by_label(&board_worst).is_some(), "the window should say \"{board_worst}\"");
     assert!(harness.query_by_label(&die_verdict).is_some(), "the header keeps \"{die_verdict}\"");
     // The rails list keeps the check's verdict, taken at the die.
-    let card = format!("margin {:+.1} dB · worst at {} · typical", die.margin_db, format(die.worst_hz, Unit::Hertz));
+    let card = format!(
+        "{} · margin {:+.1} dB · worst at {} · typical",
+        format(board.rails[core].voltage_v, Unit::Volt),
+        die.margin_db,
+        format(die.worst_hz, Unit::Hertz)
+    );
     assert!(harness.query_by_label(&card).is_some(), "the rail's card still says {card}");
     assert!(harness.query_by_label("seen at the board node (the check takes the verdict at the die)").is_some());
 
