@@ -296,6 +296,21 @@ fn flag_value(
     range.problem(value).map_or(Ok(value), |why| Err(format!("--{flag}: {why}")))
 }
 
+/// A flag of two coordinates "X,Y" (`unit_words` says in what), each parsed by `parse`.
+fn flag_pair(
+    flag: &str,
+    text: &str,
+    unit_words: &str,
+    parse: &dyn Fn(&str) -> Result<f64, String>,
+) -> Result<[f64; 2], String> {
+    let xy: Vec<&str> = text.split(',').map(str::trim).collect();
+    let [x, y] = xy[..] else {
+        return Err(format!("--{flag}: give two coordinates \"X,Y\" {unit_words}, not \"{text}\""));
+    };
+    let value = |t: &str| parse(t).map_err(|e| format!("--{flag}: {e}"));
+    Ok([value(x)?, value(y)?])
+}
+
 /// A whole-number flag inside its documented range.
 fn flag_count(value: usize, range: &crate::model::ranges::Range, flag: &str) -> Result<usize, String> {
     let x = value as f64;

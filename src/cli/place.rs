@@ -84,14 +84,6 @@ fn read_text(path: &Path) -> Result<String, String> {
     crate::io::text_of(bytes).map_err(|(place, why)| BoardError::single(path, place, why).to_string())
 }
 
-/// "X,Y" as two numbers parsed by `parse`.
-fn pair(flag: &str, text: &str, parse: &dyn Fn(&str) -> Result<f64, String>) -> Result<[f64; 2], String> {
-    let xy: Vec<&str> = text.split(',').map(str::trim).collect();
-    let [x, y] = xy[..] else { return Err(format!("--{flag}: give two values \"X,Y\", not \"{text}\"")) };
-    let value = |t: &str| parse(t).map_err(|e| format!("--{flag}: {e}"));
-    Ok([value(x)?, value(y)?])
-}
-
 /// The plane pair the flags give, for a rail that has none.
 fn plane_pair_of(args: &PlaceArgs) -> Result<Option<PlanePair>, String> {
     let Some(size) = &args.size else {
@@ -101,7 +93,7 @@ fn plane_pair_of(args: &PlaceArgs) -> Result<Option<PlanePair>, String> {
         return Ok(None);
     };
     let metres = |t: &str| crate::units::parse(t, Unit::Metre).map_err(|e| e.to_string());
-    let size_m = pair("size", size, &metres)?;
+    let size_m = super::flag_pair("size", size, "in metres", &metres)?;
     let dielectric_m = match &args.dielectric {
         Some(d) => metres(d).map_err(|e| format!("--dielectric: {e}"))?,
         None => return Err("--size needs --dielectric (the dielectric's thickness) and --er".into()),
@@ -143,7 +135,8 @@ pub fn run(args: &PlaceArgs) -> Result<i32, String> {
         None => None,
     };
     let number = |t: &str| t.parse::<f64>().ok().filter(|v| v.is_finite()).ok_or(format!("\"{t}\" is not a number"));
-    let origin = pair("origin", &args.origin, &number)?.map(|v| v * centroid.unit.metres());
+    let origin = super::flag_pair("origin", &args.origin, "in the placement file's unit", &number)?
+        .map(|v| v * centroid.unit.metres());
     let options =
         ImportOptions { origin_m: origin, regulator: args.regulator.clone(), plane_pair: plane_pair_of(args)? };
     let (placed, report) = crate::io::place_rail(&board, index, &centroid, bom.as_deref(), &options)

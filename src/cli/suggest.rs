@@ -180,12 +180,8 @@ pub fn run(args: &SuggestArgs) -> Result<i32, String> {
 /// The spot for new parts the flags give: --spot's point, or beside --beside's load (on a placed rail only).
 fn spot_flag(args: &SuggestArgs, rail: &crate::model::Rail, file: &str) -> Result<Option<[f64; 2]>, String> {
     if let Some(text) = &args.spot {
-        let xy: Vec<&str> = text.split(',').map(str::trim).collect();
-        let [x, y] = xy[..] else {
-            return Err(format!("--spot: give two coordinates \"X,Y\" in metres, not \"{text}\""));
-        };
-        let coordinate = |t: &str| crate::units::parse(t, Unit::Metre).map_err(|e| format!("--spot: {e}"));
-        return Ok(Some([coordinate(x)?, coordinate(y)?]));
+        let metres = |t: &str| crate::units::parse(t, Unit::Metre).map_err(|e| e.to_string());
+        return super::flag_pair("spot", text, "in metres", &metres).map(Some);
     }
     let Some(name) = &args.beside else { return Ok(None) };
     let Some(placement) = &rail.placement else {

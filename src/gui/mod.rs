@@ -11,6 +11,7 @@ pub mod files;
 mod findings;
 mod help;
 pub mod history;
+mod load_choice;
 pub mod number_field;
 mod parts_table;
 mod pins;

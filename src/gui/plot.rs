@@ -5,8 +5,10 @@
 //! markers and the figures all come from `analysis` through [`super::results`].
 
 use super::app::{App, CentralTab};
+use super::load_choice::load_choice;
 use super::results::RailResult;
 use super::theme;
+use crate::analysis::placed::worst_load;
 use crate::analysis::{
     AntiResonance, Severity, View, kept_words, load_line, search_words, summary, vertex_words, yield_words,
 };
@@ -199,10 +201,7 @@ impl App {
             }
         });
         // A placed rail: the shown load's own verdict line (the rail's is its worst load's), as `check` words it.
-        let shown_load = self.results.look().load.or_else(|| {
-            let worst = check.loads.iter().enumerate().max_by(|a, b| a.1.worst_ohm.total_cmp(&b.1.worst_ohm));
-            worst.map(|(k, _)| k)
-        });
+        let shown_load = self.results.look().load.or_else(|| worst_load(&check.loads));
         if let Some(l) = shown_load.and_then(|k| check.loads.get(k)) {
             let color = if l.meets_target { pal.ok } else { pal.fail };
             ui.label(RichText::new(load_line(l, check.verdict.target_ohm)).small().color(color));
@@ -299,21 +298,7 @@ impl App {
             if let Some(rail) = self.doc.board.rails.get(self.selected_rail).filter(|r| r.placement.is_some()) {
                 // A placed rail: which load's effective impedance the plot shows.
                 ui.separator();
-                let l = ui.label("at load");
-                let name = |k: Option<usize>| match k.and_then(|k| rail.loads.get(k)) {
-                    Some(load) => load.name.clone(),
-                    None => "the worst (the verdict's)".to_string(),
-                };
-                egui::ComboBox::from_id_salt("plot-load")
-                    .selected_text(name(look.load))
-                    .show_ui(ui, |ui| {
-                        ui.selectable_value(&mut look.load, None, name(None));
-                        for k in 0..rail.loads.len() {
-                            ui.selectable_value(&mut look.load, Some(k), name(Some(k)));
-                        }
-                    })
-                    .response
-                    .labelled_by(l.id);
+                load_choice(ui, "plot-load", "at load", rail, "the worst (the verdict's)", &mut look.load);
             }
             if has_package {
                 ui.separator();
@@ -392,7 +377,7 @@ impl App {
         let total_name = match (&rail.placement, self.results.look().load.and_then(|k| rail.loads.get(k))) {
             (Some(_), Some(load)) => format!("effective |Z| at {}", load.name),
             (Some(_), None) => {
-                let worst = result.check.loads.iter().max_by(|a, b| a.worst_ohm.total_cmp(&b.worst_ohm));
+                let worst = worst_load(&result.check.loads).and_then(|k| result.check.loads.get(k));
                 format!("effective |Z| at {} (the worst load)", worst.map_or("—", |l| l.name.as_str()))
             }
             (None, _) => format!("|Z| {}", view_words(a.view)),

@@ -323,22 +323,16 @@ impl App {
         ui.checkbox(&mut s.settings.droop, "also keep the step droop within the allowed band (slower)");
         ui.checkbox(&mut s.settings.keep_existing, "keep the rail's existing groups (else the mix replaces them)");
         if rail.placement.is_some() {
-            let name = |k: Option<usize>| match k.and_then(|k| rail.loads.get(k)) {
-                Some(l) => l.name.clone(),
-                None => "the load that fares worst".to_string(),
-            };
             ui.horizontal(|ui| {
-                let l = ui.label("New parts go beside");
-                egui::ComboBox::from_id_salt("suggest-beside")
-                    .selected_text(name(s.beside))
-                    .show_ui(ui, |ui| {
-                        ui.selectable_value(&mut s.beside, None, name(None));
-                        for k in 0..rail.loads.len() {
-                            ui.selectable_value(&mut s.beside, Some(k), name(Some(k)));
-                        }
-                    })
-                    .response
-                    .labelled_by(l.id);
+                let none = "the load that fares worst";
+                super::load_choice::load_choice(
+                    ui,
+                    "suggest-beside",
+                    "New parts go beside",
+                    &rail,
+                    none,
+                    &mut s.beside,
+                );
             });
         }
         ui.label(

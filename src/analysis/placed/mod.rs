@@ -83,6 +83,11 @@ pub fn effective(circuit: &PlacedCircuit, m: &LoadMatrix, combine: Combine, step
         .collect()
 }
 
+/// The load a placed rail's verdict is taken at: the one with the highest worst effective |Z|. `None` without loads.
+pub fn worst_load(loads: &[LoadVerdict]) -> Option<usize> {
+    (0..loads.len()).max_by(|&a, &b| loads[a].worst_ohm.total_cmp(&loads[b].worst_ohm))
+}
+
 /// The noise at a load from each load's share |Z_kl|·ΔI_l: their sum, or their root-sum-square under
 /// [`Combine::Rss`]. The one rule the verdict and the optimizer apply.
 pub fn combine_terms(combine: Combine, terms: impl Iterator<Item = f64>) -> f64 {
@@ -135,7 +140,7 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
             scan: Curve { freq_hz: scan.freq_hz, z: scan.z, branches: Vec::new() },
         });
     }
-    let worst_load = (0..loads.len()).max_by(|&a, &b| loads[a].worst_ohm.total_cmp(&loads[b].worst_ohm)).unwrap_or(0);
+    let worst_load = worst_load(&loads).unwrap_or(0);
     // The rail's band, target and groups as the lumped engine gives them; its verdict figures from the worst load.
     let mut lumped_rail = rail.clone();
     lumped_rail.placement = None;
