@@ -55,6 +55,8 @@ pub enum CentralTab {
     Impedance,
     /// The voltage after a load step.
     Time,
+    /// Where the placed rail's parts sit, beside its |Z(f)|.
+    Map,
 }
 
 /// Which findings the findings list shows.
@@ -111,6 +113,8 @@ pub struct App {
     pub(super) show_worst_pattern: bool,
     pub(super) pattern: Option<super::time_view::PatternView>,
     pub(super) suggest: super::suggest_panel::SuggestState,
+    /// The board map's view, field and modes.
+    pub(super) map: super::board_map::MapState,
     /// Where the plot (or the time view's plot) was drawn last frame, in points.
     pub(super) plot_rect: Option<egui::Rect>,
     pub(super) coupling: super::coupling_tool::CouplingTool,
@@ -159,6 +163,7 @@ impl App {
             show_worst_pattern: false,
             pattern: None,
             suggest: Default::default(),
+            map: Default::default(),
             plot_rect: None,
             coupling: Default::default(),
             findings_tab: FindingsTab::Rail,
@@ -390,6 +395,7 @@ impl App {
         self.doc = Document { board, path, label, history, sha256 };
         self.results.clear();
         self.suggest.forget();
+        self.map = Default::default();
         self.fields.clear();
         self.pins.clear();
         self.home_views.clear();
@@ -512,6 +518,16 @@ impl App {
             egui::CentralPanel::no_frame().show(ui, |ui| match self.central_tab {
                 CentralTab::Impedance => self.plot(ui),
                 CentralTab::Time => self.time_view(ui),
+                CentralTab::Map => {
+                    // The map and the plot side by side: a drag on the map shows on the curve at once.
+                    let (left, right) = ui.available_rect_before_wrap().split_left_right_at_fraction(0.56);
+                    ui.scope_builder(egui::UiBuilder::new().max_rect(left.shrink2(egui::vec2(4.0, 0.0))), |ui| {
+                        self.board_map(ui)
+                    });
+                    ui.scope_builder(egui::UiBuilder::new().max_rect(right.shrink2(egui::vec2(4.0, 0.0))), |ui| {
+                        self.plot(ui)
+                    });
+                }
             });
         });
 

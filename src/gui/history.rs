@@ -185,9 +185,11 @@ impl Edit {
     }
 
     /// Edits of the same field that may fold into one undo step while a drag goes on.
-    fn merge_key(&self) -> Option<(usize, usize)> {
+    fn merge_key(&self) -> Option<(u8, usize, usize)> {
         match self {
-            Edit::SetCount { rail, group, .. } => Some((*rail, *group)),
+            Edit::SetCount { rail, group, .. } => Some((0, *rail, *group)),
+            // A part dragged on the board map: every step of one drag replaces the same rail.
+            Edit::SetRail { rail, .. } => Some((1, *rail, 0)),
             _ => None,
         }
     }

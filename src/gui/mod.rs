@@ -5,6 +5,7 @@
 //! through [`results`]. The window's state ([`App`]) is plain data that tests drive without a window.
 
 mod app;
+mod board_map;
 mod coupling_tool;
 mod exports;
 pub mod files;

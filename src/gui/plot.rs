@@ -283,8 +283,10 @@ impl App {
                 CentralTab::Time,
                 RichText::new("Voltage after a load step").strong(),
             );
+            ui.selectable_value(&mut self.central_tab, CentralTab::Map, RichText::new("Board map").strong())
+                .on_hover_text("Where the rail's parts sit on its plane pair, beside its impedance");
             ui.separator();
-            if self.central_tab == CentralTab::Impedance {
+            if self.central_tab != CentralTab::Time {
                 if ui
                     .button("Pin this curve")
                     .on_hover_text("Keep the current curve on the plot to compare against")
@@ -314,7 +316,7 @@ impl App {
             self.results.set_look(look);
             self.results.refresh(&self.doc.board);
         }
-        if self.central_tab == CentralTab::Impedance {
+        if self.central_tab != CentralTab::Time {
             self.pins_bar(ui);
         }
     }
@@ -355,6 +357,9 @@ impl App {
         let t = a.target_ohm.log10();
         let (b0, b1) = (a.band_hz[0].log10(), a.band_hz[1].log10());
         let (v0, v1) = (p.view_hz[0].log10(), p.view_hz[1].log10());
+        // Beside the board map with its field shown: the field's frequency on the plot.
+        let field_hz =
+            (self.central_tab == CentralTab::Map && self.map.field_on).then(|| self.map.field_hz.unwrap_or(a.worst_hz));
         // The view to start from and to come back to on a double-click. It is taken once per rail (and again
         // when the band changes or the user double-clicks), not every frame, so that the view stands still
         // while counts are dragged and the curve moves inside it.
@@ -427,6 +432,14 @@ impl App {
                     Polygon::new("selected finding", column(f0 - half, f1 + half))
                         .fill_color(pal.highlight)
                         .stroke(egui::Stroke::new(1.5, pal.note))
+                        .allow_hover(false),
+                );
+            }
+            if let Some(f) = field_hz {
+                pu.vline(
+                    VLine::new(format!("plane voltage shown at {}", format(f, Unit::Hertz)), f.log10())
+                        .color(pal.note)
+                        .width(1.5)
                         .allow_hover(false),
                 );
             }
@@ -503,6 +516,10 @@ impl App {
             });
             self.selected_finding = hit.map(|i| (index, i));
             self.scroll_to_finding = hit.is_some();
+            // Beside the board map, a click also chooses the frequency of the plane's voltage.
+            if self.central_tab == CentralTab::Map {
+                self.map.set_field_hz(f);
+            }
         }
         if shown.response.double_clicked() {
             // Take a fresh home view from the curve as it is now and go there on the next frame.

@@ -11,6 +11,7 @@ mod validate;
 pub use placement::{
     DEFAULT_CONDUCTIVITY_S_M, DEFAULT_PART_PORT_M, DEFAULT_PINS_M, DEFAULT_SOURCE_PORT_M, GroupPlacement, GroupSpots,
     LoadPlacement, PartSpot, Placement, PlanePair, SourcePlacement, placement_problems, spot_problem,
+    starting_placement,
 };
 pub use validate::{Problem, validate_board, validate_part, validate_rail};
 

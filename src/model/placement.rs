@@ -358,3 +358,78 @@ fn port_problem(port: PortRect, size: [f64; 2], what: &str) -> Option<String> {
         )
     })
 }
+
+/// Gap between a load's pin field and the first ring of parts around it, and between rings, m (1.5 mm: room for
+/// a 0402 part and its pads, common practice).
+const RING_GAP_M: f64 = 1.5e-3;
+
+/// A lumped rail placed on `plane_pair` in a starting arrangement the user then moves: the loads spread along the
+/// plane's middle line, the regulator at its left edge, every part of every group placed part by part (reference
+/// designators C1, C2, … in the rail's order) on rings around the loads, taken in turn, each part inside the
+/// outline. The lumped plane goes (the plane pair replaces it); the rail's package and die go to every load (on a
+/// rail with one load exactly what it was; with several, each load is given the one package the rail described).
+/// A placed rail is returned as it is. Err when the result breaks a rule of placed rails (a plane too small for
+/// the loads' pin fields).
+pub fn starting_placement(rail: &Rail, plane_pair: PlanePair) -> Result<Rail, String> {
+    if rail.placement.is_some() {
+        return Ok(rail.clone());
+    }
+    let [a, b] = plane_pair.size_m;
+    let mut out = rail.clone();
+    out.plane = None;
+    let (package, die) = (out.package.take(), out.die.take());
+    let n = rail.loads.len().max(1) as f64;
+    let loads: Vec<LoadPlacement> = (0..rail.loads.len())
+        .map(|k| LoadPlacement { at_m: [a * (k as f64 + 1.0) / (n + 1.0), b / 2.0], pins_m: None, package, die })
+        .collect();
+    let source = rail
+        .source
+        .as_ref()
+        .map(|_| SourcePlacement { at_m: [(DEFAULT_SOURCE_PORT_M / 2.0 + 1e-3).min(a / 2.0), b / 2.0], port_m: None });
+    // Every part's spot: rings around the loads in turn; a ring holds as many parts as fit on its perimeter.
+    let centres: Vec<[f64; 2]> =
+        if loads.is_empty() { vec![[a / 2.0, b / 2.0]] } else { loads.iter().map(|l| l.at_m).collect() };
+    let mut taken = vec![0usize; centres.len()];
+    let mut next_spot = |which: usize| -> [f64; 2] {
+        let c = centres[which];
+        let mut index = taken[which];
+        taken[which] += 1;
+        let mut radius = DEFAULT_PINS_M[0].max(DEFAULT_PINS_M[1]) / 2.0 + RING_GAP_M;
+        loop {
+            let fits = ((std::f64::consts::TAU * radius) / (2.0 * DEFAULT_PART_PORT_M + RING_GAP_M)).floor().max(4.0);
+            let fits = fits as usize;
+            if index < fits {
+                let angle = std::f64::consts::TAU * index as f64 / fits as f64;
+                let half = DEFAULT_PART_PORT_M / 2.0;
+                let x = (c[0] + radius * angle.cos()).clamp(half, a - half);
+                let y = (c[1] + radius * angle.sin()).clamp(half, b - half);
+                return [x, y];
+            }
+            index -= fits;
+            radius += RING_GAP_M + DEFAULT_PART_PORT_M;
+        }
+    };
+    let mut number = 0usize;
+    let mut turn = 0usize;
+    let groups = rail
+        .decaps
+        .iter()
+        .map(|g| {
+            let spots: Vec<PartSpot> = (0..g.count)
+                .map(|_| {
+                    number += 1;
+                    let which = turn % centres.len();
+                    turn += 1;
+                    PartSpot { reference: format!("C{number}"), at_m: next_spot(which) }
+                })
+                .collect();
+            let spots = if spots.is_empty() { GroupSpots::At(next_spot(0)) } else { GroupSpots::Each(spots) };
+            GroupPlacement { spots, port_m: None }
+        })
+        .collect();
+    out.placement = Some(Placement { plane_pair, source, groups, loads });
+    match placement_problems(&out, "rail").into_iter().next() {
+        Some(p) => Err(format!("{}: {}", p.path, p.reason)),
+        None => Ok(out),
+    }
+}

@@ -398,6 +398,65 @@ pub fn double_sum(st: &Stackup, pi: &PortRect, pj: &PortRect, f_hz: f64, m_max: 
     st.series_per_square(f_hz) * total / (a * b)
 }
 
+/// The voltage averaged over each cell of a `cells` = [nx, ny] grid covering the plane, driven by the currents
+/// `currents[j]` injected at `ports[j]`, without the common (0, 0) term (the plate's voltage, which the caller
+/// adds). Written as the double sum of the cavity model (the same series as [`double_sum`], with a cell in place
+/// of the first port), in separable form: the modes' amplitudes Σ_j I_j·X_mj·Y_nj once, then the cells' averages
+/// (a cos·sinc factor each) along x and y, so the cost is modes × (ports + cells) rather than their product. The
+/// series is cut at `modes_per_cell` modes per cell along each axis; the cells' own sinc factors make the tail
+/// fall as 1/(m·n·k²). Row-major by y: entry [iy·nx + ix] is the cell from (ix·a/nx, iy·b/ny).
+pub fn cell_voltages(
+    st: &Stackup,
+    ports: &[PortRect],
+    currents: &[C],
+    f_hz: f64,
+    cells: [usize; 2],
+    modes_per_cell: usize,
+) -> Vec<C> {
+    let [a, b] = st.size_m;
+    let [nx, ny] = [cells[0].max(1), cells[1].max(1)];
+    let (mm, nn) = ((modes_per_cell * nx).max(8), (modes_per_cell * ny).max(8));
+    let k2 = st.k2(f_hz);
+    let x_of: Vec<Vec<f64>> = ports.iter().map(|p| (0..mm).map(|m| mode_factor(m, a, p.along(0))).collect()).collect();
+    let y_of: Vec<Vec<f64>> = ports.iter().map(|p| (0..nn).map(|n| mode_factor(n, b, p.along(1))).collect()).collect();
+    // G[m][n] = ε_m·ε_n·Σ_j I_j·X_mj·Y_nj / (k_mn² − k²), the (0, 0) term left out.
+    let mut g = vec![C::new(0.0, 0.0); mm * nn];
+    let mut weighted = vec![C::new(0.0, 0.0); ports.len()];
+    for m in 0..mm {
+        for (j, w) in weighted.iter_mut().enumerate() {
+            *w = currents[j] * x_of[j][m];
+        }
+        let km2 = (m as f64 * PI / a).powi(2);
+        let em = if m == 0 { 1.0 } else { 2.0 };
+        for n in 0..nn {
+            if m == 0 && n == 0 {
+                continue;
+            }
+            let amp: C = weighted.iter().zip(&y_of).map(|(w, y)| w * y[n]).sum();
+            let en = if n == 0 { 1.0 } else { 2.0 };
+            let kmn2 = km2 + (n as f64 * PI / b).powi(2);
+            g[m * nn + n] = em * en * amp / (kmn2 - k2);
+        }
+    }
+    let cell = |i: usize, size: f64, count: usize| Interval {
+        lo: size * i as f64 / count as f64,
+        hi: size * (i + 1) as f64 / count as f64,
+    };
+    let cx: Vec<Vec<f64>> = (0..nx).map(|i| (0..mm).map(|m| mode_factor(m, a, cell(i, a, nx))).collect()).collect();
+    let cy: Vec<Vec<f64>> = (0..ny).map(|i| (0..nn).map(|n| mode_factor(n, b, cell(i, b, ny))).collect()).collect();
+    let scale = st.series_per_square(f_hz) / (a * b);
+    let mut out = vec![C::new(0.0, 0.0); nx * ny];
+    for (iy, cyi) in cy.iter().enumerate() {
+        // T_m = Σ_n G[m][n]·cy_n for this row of cells, then each cell's Σ_m cx_m·T_m.
+        let t: Vec<C> = (0..mm).map(|m| g[m * nn..(m + 1) * nn].iter().zip(cyi).map(|(gv, c)| gv * c).sum()).collect();
+        for (ix, cxi) in cx.iter().enumerate() {
+            let v: C = t.iter().zip(cxi).map(|(tv, c)| tv * c).sum();
+            out[iy * nx + ix] = scale * v;
+        }
+    }
+    out
+}
+
 /// The length two intervals share, m.
 fn overlap(p: Interval, q: Interval) -> f64 {
     (p.hi.min(q.hi) - p.lo.max(q.lo)).max(0.0)

@@ -24,7 +24,7 @@ fn window(board: Board) -> Harness<'static, App> {
     harness
 }
 
-fn engine(board: &Board, rail: usize) -> RailAnalysis {
+pub(crate) fn engine(board: &Board, rail: usize) -> RailAnalysis {
     analyze_rail(board, rail, &AnalysisOptions::default()).expect("rail analyses")
 }
 
@@ -38,7 +38,7 @@ fn shown_figures(a: &RailAnalysis) -> (String, String) {
     )
 }
 
-fn assert_shows(harness: &Harness<'_, App>, a: &RailAnalysis) {
+pub(crate) fn assert_shows(harness: &Harness<'_, App>, a: &RailAnalysis) {
     let (verdict, worst) = shown_figures(a);
     assert!(harness.query_by_label(&verdict).is_some(), "the window should say \"{verdict}\"");
     assert!(harness.query_by_label(&worst).is_some(), "the window should say \"{worst}\"");

@@ -1,5 +1,6 @@
 //! Every integration test in one binary: each extra test binary would link the whole window again.
 
+mod board_map;
 mod cli;
 mod common;
 mod droop;

@@ -91,37 +91,28 @@ pub fn placed_findings(board: &Board, rail: &Rail, circuit: &PlacedCircuit, targ
         for (i, bp) in circuit.branches.iter().enumerate() {
             let PortOwner::Group { group, reference } = &bp.owner else { continue };
             let p = circuit.plane.ports[i];
-            let (k, dist) = load_ports
+            let k = load_ports
                 .iter()
                 .enumerate()
                 .map(|(k, c)| (k, ((p.x - c.x).powi(2) + (p.y - c.y).powi(2)).sqrt()))
                 .min_by(|x, y| x.1.total_cmp(&y.1))
-                .unwrap_or((0, 0.0));
-            let c = np + k;
-            let plane_l = (circuit.plane.spreading_inductance_h(i, i) + circuit.plane.spreading_inductance_h(c, c)
-                - 2.0 * circuit.plane.spreading_inductance_h(i, c))
-            .max(0.0);
-            let g = &rail.decaps[*group];
-            let mounting = crate::physics::mounting::group_mounting_h(g);
-            if plane_l <= mounting {
+                .map_or(0, |(k, _)| k);
+            let Some(path) = part_path(board, rail, circuit, i, k, target_ohm) else { continue };
+            if path.plane_h <= path.mounting_h {
                 continue;
             }
-            let esl = board.part(&g.part).map_or(0.0, |p| p.esl_h);
-            let count = if reference.is_some() { 1 } else { g.count.max(1) };
-            let path_l = (esl + mounting) / count as f64 + plane_l;
-            let helps_below = target_ohm / (TWO_PI * path_l);
-            let name = reference.clone().unwrap_or_else(|| format!("The {} group", g.part));
+            let name = reference.clone().unwrap_or_else(|| format!("The {} group", rail.decaps[*group].part));
             let load = &circuit.loads[k].name;
             out.push(Finding {
                 severity: Severity::Note,
-                range_hz: [helps_below, helps_below],
+                range_hz: [path.helps_below_hz, path.helps_below_hz],
                 text: format!(
                     "{name} is {} from {load}: the planes add {} between them, more than its mounting ({}); its \
                      path to {load} stays under target only below {}.",
-                    mm(dist),
-                    format(plane_l, Unit::Henry),
-                    format(mounting, Unit::Henry),
-                    format(helps_below, Unit::Hertz)
+                    mm(path.distance_m),
+                    format(path.plane_h, Unit::Henry),
+                    format(path.mounting_h, Unit::Henry),
+                    format(path.helps_below_hz, Unit::Hertz)
                 ),
                 hint: format!("Move it closer to {load}'s power pins, or count on it only below that frequency."),
             });
@@ -182,4 +173,47 @@ pub fn placed_findings(board: &Board, rail: &Rail, circuit: &PlacedCircuit, targ
     }
     out.sort_by(|x, y| x.range_hz[0].total_cmp(&y.range_hz[0]));
     out
+}
+
+/// A part's path to a load through the planes.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct PartPath {
+    /// Centre to centre, m.
+    pub distance_m: f64,
+    /// The loop inductance the planes add between the part's port and the load's pins, L_ii + L_kk − 2·L_ik, H.
+    pub plane_h: f64,
+    /// The part's mounting inductance, H.
+    pub mounting_h: f64,
+    /// The frequency below which the path (part and mounting over the parts at that port, plus the planes) stays
+    /// under the rail's target: target / (2π·L), Hz.
+    pub helps_below_hz: f64,
+}
+
+/// The path from branch port `i` (a decap group's port) to load `k` on a placed rail's circuit, against
+/// `target_ohm`. `None` for the regulator's port or an index out of range.
+pub fn part_path(
+    board: &Board,
+    rail: &Rail,
+    circuit: &PlacedCircuit,
+    i: usize,
+    k: usize,
+    target_ohm: f64,
+) -> Option<PartPath> {
+    let PortOwner::Group { group, reference } = &circuit.branches.get(i)?.owner else { return None };
+    circuit.loads.get(k)?;
+    let c = circuit.branches.len() + k;
+    let (p, q) = (circuit.plane.ports[i], circuit.plane.ports[c]);
+    let l = |x: usize, y: usize| circuit.plane.spreading_inductance_h(x, y);
+    let plane_h = (l(i, i) + l(c, c) - 2.0 * l(i, c)).max(0.0);
+    let g = rail.decaps.get(*group)?;
+    let mounting_h = crate::physics::mounting::group_mounting_h(g);
+    let esl = board.part(&g.part).map_or(0.0, |p| p.esl_h);
+    let count = if reference.is_some() { 1 } else { g.count.max(1) };
+    let path_h = (esl + mounting_h) / count as f64 + plane_h;
+    Some(PartPath {
+        distance_m: (p.x - q.x).hypot(p.y - q.y),
+        plane_h,
+        mounting_h,
+        helps_below_hz: target_ohm / (TWO_PI * path_h),
+    })
 }

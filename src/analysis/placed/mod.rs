@@ -12,11 +12,13 @@
 
 mod advice;
 mod circuit;
+mod field;
 mod lanes;
 mod ldl;
 
-pub use advice::{PlacedFinding, placed_findings};
+pub use advice::{PartPath, PlacedFinding, part_path, placed_findings};
 pub use circuit::{BranchPort, Drag, LoadMatrix, LoadPort, PlacedCircuit, PortOwner, Workspace};
+pub use field::{PlaneField, plane_field, port_currents};
 
 use super::findings::{self, Extremum, ViolationBand};
 use super::grid::log_grid;
