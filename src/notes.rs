@@ -2,6 +2,12 @@
 //! The help page, the report and `hushrail check` show these; README.md repeats them word for word (a test holds
 //! the two together).
 
+/// What a position on a placed rail stands for (the board map shows it beside its legend).
+pub const POSITIONS: &str = "On the board map and in the file, a position is the centre of a square port seen from the top (a part's \
+     port 0.5 mm, the regulator's 2 mm and a load's pin field 5 mm × 5 mm unless the file gives them): the pads' \
+     own shapes, the layer a part sits on and its rotation are not in the model, and the plane's edges are ideal \
+     (no current crosses them).";
+
 /// What the model really leaves out (and what it does include, so nobody thinks it is missing).
 pub const LEAVES_OUT: &[&str] = &[
     "On a lumped rail the model is one node: each capacitor group is one series R-L-C (or its measured data), \
@@ -14,6 +20,7 @@ pub const LEAVES_OUT: &[&str] = &[
      resonances are in it. It leaves out fringing and radiation at the plane's edges, antipads and cut-outs, \
      non-rectangular outlines and several plane pairs joined by vias; the droop still treats a placed rail's \
      parts as one node (the check, suggest, the report and the window's plot judge at the loads).",
+    POSITIONS,
     "Both leave out a regulator's control loop beyond a second-order loop of a given crossover and phase \
      margin (without them, beyond its output R-L), ageing of class II ceramics, ESR and \
      ESL changing with frequency and bias, and any coupling between rails.",

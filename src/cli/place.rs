@@ -77,13 +77,6 @@ pub struct PlaceArgs {
     pub col_rotation: Option<String>,
 }
 
-/// A CSV file's text, or a message naming it.
-fn read_text(path: &Path) -> Result<String, String> {
-    let bytes = crate::io::read_limited(path, crate::model::ranges::MAX_BOARD_BYTES)
-        .map_err(|why| BoardError::single(path, crate::io::Place::Whole, why).to_string())?;
-    crate::io::text_of(bytes).map_err(|(place, why)| BoardError::single(path, place, why).to_string())
-}
-
 /// The plane pair the flags give, for a rail that has none.
 fn plane_pair_of(args: &PlaceArgs) -> Result<Option<PlanePair>, String> {
     let Some(size) = &args.size else {
@@ -126,12 +119,13 @@ pub fn run(args: &PlaceArgs) -> Result<i32, String> {
         side: args.col_side.clone(),
         rotation: args.col_rotation.clone(),
     };
-    let centroid = parse_centroid(&read_text(&args.centroid)?, &columns, unit)
+    let centroid = parse_centroid(&crate::io::read_text_file(&args.centroid)?, &columns, unit)
         .map_err(|(place, why)| BoardError::single(&args.centroid, place, why).to_string())?;
     let bom = match &args.bom {
-        Some(p) => {
-            Some(parse_bom(&read_text(p)?).map_err(|(place, why)| BoardError::single(p, place, why).to_string())?)
-        }
+        Some(p) => Some(
+            parse_bom(&crate::io::read_text_file(p)?)
+                .map_err(|(place, why)| BoardError::single(p, place, why).to_string())?,
+        ),
         None => None,
     };
     let number = |t: &str| t.parse::<f64>().ok().filter(|v| v.is_finite()).ok_or(format!("\"{t}\" is not a number"));
@@ -158,30 +152,9 @@ pub fn run(args: &PlaceArgs) -> Result<i32, String> {
         args.origin,
         unit = centroid.unit.name(),
     );
-    for g in &report.groups {
-        let count = if g.count_before as usize == g.placed.len() {
-            String::new()
-        } else {
-            format!(" (count {} -> {}, as the layout has them)", g.count_before, g.placed.len())
-        };
-        let _ = writeln!(t, "  group {} {}: {} from {}{count}", g.group + 1, g.part, g.placed.join(", "), g.from);
+    for line in crate::io::layout_import::report_lines(&report) {
+        let _ = writeln!(t, "  {line}");
     }
-    for k in &report.kept {
-        let _ = writeln!(t, "  {k}: no designator of its in the files; kept where it was");
-    }
-    for (name, r) in &report.loads {
-        let _ = writeln!(t, "  load {name}: {r}");
-    }
-    if let Some(r) = &report.regulator {
-        let _ = writeln!(t, "  regulator: {r}");
-    }
-    if !report.not_in_layout.is_empty() {
-        let _ = writeln!(t, "  not in the placement file: {}", report.not_in_layout.join(", "));
-    }
-    for (line, refs) in &report.unused_bom {
-        let _ = writeln!(t, "  BOM line {line} ({refs}) is not a group of this rail");
-    }
-    let _ = writeln!(t, "  {} other parts of the placement file are not on this rail", report.unused_parts);
     let _ = writeln!(t, "Wrote {}.", args.output.display());
     super::emit(&t);
     Ok(EXIT_PASS)

@@ -533,6 +533,7 @@ impl App {
 
         self.coupling_window(&ctx);
         self.path_prompt_window(&ctx);
+        self.import_window(&ctx);
         self.dialogs(&ctx);
         self.update_title(&ctx);
         self.autosave(&ctx);
@@ -635,6 +636,11 @@ impl App {
                         ui.close();
                         self.choose_file(action);
                     }
+                }
+                ui.separator();
+                if ui.button("Import the rail's placement (centroid and BOM CSV)…").clicked() {
+                    ui.close();
+                    self.open_import();
                 }
                 ui.separator();
                 if ui.button("Quit").clicked() {

@@ -290,3 +290,33 @@ fn capacitance_of(value: &str) -> Option<f64> {
     let v = v.strip_suffix('F').or_else(|| v.strip_suffix('f')).unwrap_or(v);
     crate::units::parse(v, crate::units::Unit::Farad).ok().filter(|c| *c > 0.0 && c.is_finite())
 }
+
+/// What a placing matched and what it could not use, one line each, in the words every face shows.
+pub fn report_lines(report: &ImportReport) -> Vec<String> {
+    let mut out = Vec::new();
+    for g in &report.groups {
+        let count = if g.count_before as usize == g.placed.len() {
+            String::new()
+        } else {
+            format!(" (count {} -> {}, as the layout has them)", g.count_before, g.placed.len())
+        };
+        out.push(format!("group {} {}: {} from {}{count}", g.group + 1, g.part, g.placed.join(", "), g.from));
+    }
+    for k in &report.kept {
+        out.push(format!("{k}: no designator of its in the files; kept where it was"));
+    }
+    for (name, r) in &report.loads {
+        out.push(format!("load {name}: {r}"));
+    }
+    if let Some(r) = &report.regulator {
+        out.push(format!("regulator: {r}"));
+    }
+    if !report.not_in_layout.is_empty() {
+        out.push(format!("not in the placement file: {}", report.not_in_layout.join(", ")));
+    }
+    for (line, refs) in &report.unused_bom {
+        out.push(format!("BOM line {line} ({refs}) is not a group of this rail"));
+    }
+    out.push(format!("{} other parts of the placement file are not on this rail", report.unused_parts));
+    out
+}

@@ -7,7 +7,7 @@ mod bom_csv;
 mod centroid;
 mod csv_table;
 mod impedance_csv;
-mod layout_import;
+pub mod layout_import;
 mod mesh_netlist;
 mod netlist;
 mod png_image;
@@ -150,6 +150,14 @@ pub fn read_limited(path: &Path, max_bytes: u64) -> Result<Vec<u8>, String> {
         return Err(format!("the file grew past the {} MiB hushrail reads while it was read", max_bytes >> 20));
     }
     Ok(bytes)
+}
+
+/// A text file's contents (a CSV from the layout tool), read as board files are (regular file, size cap, UTF-8),
+/// or a message naming the file, the place and the reason.
+pub fn read_text_file(path: &Path) -> Result<String, String> {
+    let bytes = read_limited(path, crate::model::ranges::MAX_BOARD_BYTES)
+        .map_err(|why| BoardError::single(path, Place::Whole, why).to_string())?;
+    text_of(bytes).map_err(|(place, why)| BoardError::single(path, place, why).to_string())
 }
 
 /// Text from a file's bytes: UTF-8, with a leading byte-order mark dropped (JSON allows a reader to ignore one).

@@ -3,7 +3,7 @@
 //! voltage the map draws, against the cavity model's single sum and the engine's own load matrix.
 
 use crate::common::root;
-use crate::gui::{assert_shows, engine};
+use crate::gui::{assert_shows, click, engine, select_all_and_type};
 use egui::{Key, Modifiers, vec2};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
@@ -158,4 +158,40 @@ fn the_fields_port_currents_agree_with_the_engines_load_matrix() {
         assert!((total - plate).norm() <= 1e-9 * step, "{total} against {plate}");
         assert!(field.max_v.is_finite() && field.max_v > 0.0);
     }
+}
+
+/// File ▸ Import the rail's placement gives the board `hushrail place` writes from the same files (one library
+/// path), says what matched, and is one undo step.
+#[test]
+fn importing_the_placement_in_the_window_gives_what_the_command_line_gives() {
+    let layout = root().join("tests/networks/layout");
+    let board = hushrail::io::read_board(&layout.join("lumped_board.json")).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("placed.json");
+    let o = crate::common::hushrail()
+        .args(["place", layout.join("lumped_board.json").to_str().unwrap(), "--rail", "V1V2"])
+        .args(["--centroid", layout.join("centroid_mm.csv").to_str().unwrap()])
+        .args(["--bom", layout.join("bom.csv").to_str().unwrap(), "--regulator", "U3"])
+        .args(["--size", "0.1,0.06", "--dielectric", "100u", "--er", "4.3", "--loss-tangent", "0.02"])
+        .args(["-o", out.to_str().unwrap()])
+        .output()
+        .unwrap();
+    assert_eq!(o.status.code(), Some(0), "{}", String::from_utf8_lossy(&o.stderr));
+    let expected = hushrail::io::read_board(&out).unwrap();
+
+    let mut harness = map_window(board.clone());
+    // The rail is lumped: the map's form gives the plane pair.
+    select_all_and_type(&mut harness, "width (x)", "100mm");
+    select_all_and_type(&mut harness, "height (y)", "60 mm");
+    click(&mut harness, "File");
+    click(&mut harness, "Import the rail's placement (centroid and BOM CSV)…");
+    select_all_and_type(&mut harness, "placement CSV", layout.join("centroid_mm.csv").to_str().unwrap());
+    select_all_and_type(&mut harness, "BOM CSV (optional)", layout.join("bom.csv").to_str().unwrap());
+    select_all_and_type(&mut harness, "regulator's designator", "U3");
+    click(&mut harness, "Import");
+    assert_eq!(harness.state().board(), &expected, "the window places the rail as `hushrail place` does");
+    assert!(harness.query_by_label_contains("group 1 c100n-0402: C1, C2, C3, C4 from the BOM (line 2)").is_some());
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run();
+    assert_eq!(harness.state().board(), &board, "the import is one undo step");
 }

@@ -45,7 +45,7 @@ pub(crate) fn assert_shows(harness: &Harness<'_, App>, a: &RailAnalysis) {
 }
 
 /// Click a widget by its accessible name, scrolling it into view first as a user would.
-fn click(harness: &mut Harness<'_, App>, label: &str) {
+pub(crate) fn click(harness: &mut Harness<'_, App>, label: &str) {
     harness.get_by_label(label).scroll_to_me();
     harness.run();
     harness.get_by_label(label).click();
@@ -58,7 +58,7 @@ fn select_rail(harness: &mut Harness<'_, App>, name: &str) {
     harness.run();
 }
 
-fn select_all_and_type(harness: &mut Harness<'_, App>, label: &str, text: &str) {
+pub(crate) fn select_all_and_type(harness: &mut Harness<'_, App>, label: &str, text: &str) {
     harness.get_by_label(label).scroll_to_me();
     harness.run();
     harness.get_by_label(label).focus();

@@ -7,6 +7,7 @@
 
 mod draw;
 mod geometry;
+mod import;
 mod place_form;
 
 pub use geometry::{Item, Thing, Transform, items, moved, with_part_added, with_part_removed};
@@ -64,6 +65,8 @@ pub struct MapState {
     pub add_group: Option<usize>,
     /// The form that places a lumped rail.
     place: place_form::PlaceForm,
+    /// The import window (File ▸ Import the placement).
+    pub import: import::ImportForm,
     /// The transform the map was drawn with last frame (tests find things on screen through it).
     last_transform: Option<Transform>,
 }
@@ -81,6 +84,7 @@ impl Default for MapState {
             field: None,
             add_group: None,
             place: place_form::PlaceForm::default(),
+            import: Default::default(),
             last_transform: None,
         }
     }
@@ -249,7 +253,8 @@ impl App {
                 draw::swatch(ui.painter(), r, g, dark);
                 ui.label(format!("{} ×{}", d.part, d.count));
             }
-            ui.label(RichText::new("· outlined: a load's power pins · grey: the regulator").weak());
+            ui.label(RichText::new("· outlined: a load's power pins · grey: the regulator ·").weak());
+            ui.label(RichText::new("what a position means").weak().underline()).on_hover_text(crate::notes::POSITIONS);
         });
         ui.label(
             RichText::new(
