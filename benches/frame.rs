@@ -12,6 +12,9 @@
 //!   second: each new droop runs on its own thread as soon as the last one lands, so a frame pays only for
 //!   asking.
 //! - "droop of one rail": one droop as the window runs it, the work that thread does.
+//! - "map drag step": one step of a part dragged on the board map of a placed rail (tests/networks/placed/
+//!   two_loads.json: a regulator, six parts, two loads with packages): the rail replaced through the history,
+//!   then its check at every load, its curve at the shown load and its findings brought up to date.
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use hushrail::gui::App;
@@ -57,6 +60,8 @@ fn frame(c: &mut Criterion) {
             black_box(results.refresh(black_box(&base)))
         })
     });
+
+    map_drag_step(c);
 
     for (name, time_view, look) in [
         ("whole frame during a drag (layout, no drawing), 6 rails", false, Look::default()),
@@ -134,6 +139,30 @@ fn whole_frame(c: &mut Criterion, base: &Board, name: &str, time_view: bool, loo
             count = if count >= 40 { 10 } else { count + 1 };
             app.edit(Edit::SetCount { rail: 0, group: 2, count }, "drag", true).expect("edit lands");
             black_box(frame(&mut app))
+        })
+    });
+}
+
+/// One step of a part dragged on the board map: the rail with the part moved, through the history, then the
+/// results brought up to date (the placed rail checked at every load again).
+fn map_drag_step(c: &mut Criterion) {
+    let path = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/networks/placed/two_loads.json");
+    let mut board = hushrail::io::read_board(std::path::Path::new(path)).expect("test network reads");
+    let mut history = History::new();
+    let mut results = Results::default();
+    results.refresh(&board);
+    let mut step = 0usize;
+    c.bench_function("map drag step: a part moved on a placed rail (2 loads, 6 parts)", |b| {
+        b.iter(|| {
+            step = (step + 1) % 20;
+            let mut rail = board.rails[0].clone();
+            if let Some(p) = rail.placement.as_mut()
+                && let hushrail::model::GroupSpots::Each(spots) = &mut p.groups[2].spots
+            {
+                spots[0].at_m = [0.010 + 0.0005 * step as f64, 0.017];
+            }
+            history.apply(&mut board, Edit::SetRail { rail: 0, value: Box::new(rail) }, "move", true).expect("edit lands");
+            black_box(results.refresh(&board))
         })
     });
 }
