@@ -161,7 +161,9 @@ fn map_drag_step(c: &mut Criterion) {
             {
                 spots[0].at_m = [0.010 + 0.0005 * step as f64, 0.017];
             }
-            history.apply(&mut board, Edit::SetRail { rail: 0, value: Box::new(rail) }, "move", true).expect("edit lands");
+            history
+                .apply(&mut board, Edit::SetRail { rail: 0, value: Box::new(rail) }, "move", true)
+                .expect("edit lands");
             black_box(results.refresh(&board))
         })
     });

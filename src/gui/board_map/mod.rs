@@ -244,6 +244,11 @@ impl App {
                 self.map.zoom = 1.0;
                 self.map.pan = Vec2::ZERO;
             }
+            ui.label(RichText::new("how to use").weak().underline()).on_hover_text(
+                "Drag a part to move it (Shift: its whole group); right-click it to take it out; click a load to \
+                 show its impedance on the plot; hover a part for what the planes add between it and that load; \
+                 the wheel zooms, the middle button pans.",
+            );
         });
         ui.horizontal_wrapped(|ui| {
             // The legend: each group's colour (and shape past eight groups), then the other things.
@@ -253,16 +258,9 @@ impl App {
                 draw::swatch(ui.painter(), r, g, dark);
                 ui.label(format!("{} ×{}", d.part, d.count));
             }
-            ui.label(RichText::new("· outlined: a load's power pins · grey: the regulator ·").weak());
+            ui.label(RichText::new("· outlined: load pins · grey: regulator ·").weak());
             ui.label(RichText::new("what a position means").weak().underline()).on_hover_text(crate::notes::POSITIONS);
         });
-        ui.label(
-            RichText::new(
-                "Drag a part to move it (Shift: its whole group); right-click it to take it out; click a load to \
-                 show its impedance; wheel to zoom, middle button to pan.",
-            )
-            .weak(),
-        );
     }
 
     /// The field for the shown load at the chosen frequency, computed when the board, the load or the frequency
