@@ -62,27 +62,27 @@ impl Pin {
 impl App {
     /// Pin the selected rail's current curve.
     pub fn pin_current(&mut self) {
-        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
-        let Some(result) = self.results.get(self.selected_rail) else { return };
-        let slot = self.next_pin - 1;
-        let name = format!("pin {}", self.next_pin);
-        self.next_pin += 1;
-        self.pins.push(Pin::of(name, rail.name.clone(), slot, result));
+        let Some(rail) = self.doc.board.rails.get(self.view.selected_rail) else { return };
+        let Some(result) = self.view.results.get(self.view.selected_rail) else { return };
+        let slot = self.view.next_pin - 1;
+        let name = format!("pin {}", self.view.next_pin);
+        self.view.next_pin += 1;
+        self.view.pins.push(Pin::of(name, rail.name.clone(), slot, result));
     }
 
     /// The pin button and the selected rail's pins: show/hide, name, figures, remove.
     pub(super) fn pins_bar(&mut self, ui: &mut Ui) {
-        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
+        let Some(rail) = self.doc.board.rails.get(self.view.selected_rail) else { return };
         let rail_name = rail.name.clone();
         let mut remove = None;
         let dark = ui.visuals().dark_mode;
         let pal = theme::palette(dark);
-        if !self.pins.iter().any(|p| p.rail == rail_name) {
+        if !self.view.pins.iter().any(|p| p.rail == rail_name) {
             return;
         }
         ui.horizontal_wrapped(|ui| {
             ui.label(RichText::new("pins:").small());
-            for (i, pin) in self.pins.iter_mut().enumerate().filter(|(_, p)| p.rail == rail_name) {
+            for (i, pin) in self.view.pins.iter_mut().enumerate().filter(|(_, p)| p.rail == rail_name) {
                 let shown = ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
                 let show_label = format!("show {}", pin.name);
                 shown.widget_info(|| egui::WidgetInfo::selected(egui::Role::CheckBox, true, pin.visible, &show_label));
@@ -105,7 +105,7 @@ impl App {
             }
         });
         if let Some(i) = remove {
-            self.pins.remove(i);
+            self.view.pins.remove(i);
         }
     }
 }

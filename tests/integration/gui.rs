@@ -759,6 +759,7 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     let mut app = App::open(Some(&board_path), hushrail::gui::files::Store::new(None));
     let out = dir.path().join("report.html");
     assert!(app.save_report_to(&out));
+    assert!(app.finish_report(), "the report is written");
     let written = std::fs::read_to_string(&out).unwrap();
     let droops: Vec<_> = (0..board.rails.len())
         .map(|i| hushrail::analysis::droop(&board, i, &hushrail::analysis::DroopOptions::default()))
@@ -777,6 +778,7 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     let read_hash = context.sha256.clone();
     std::fs::write(&board_path, format!("{}\n\n", std::fs::read_to_string(&board_path).unwrap())).unwrap();
     assert!(app.save_report_to(&out));
+    assert!(app.finish_report(), "the report is written");
     let again = std::fs::read_to_string(&out).unwrap();
     assert!(again.contains(&read_hash), "the hash of the bytes read at opening");
     assert!(!again.contains(&hushrail::io::sha256_hex(&std::fs::read(&board_path).unwrap())));
@@ -784,6 +786,7 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     let count = app.board().rails[0].decaps[0].count + 1;
     app.edit(hushrail::gui::history::Edit::SetCount { rail: 0, group: 0, count }, "one more", false).unwrap();
     assert!(app.save_report_to(&out));
+    assert!(app.finish_report(), "the report is written");
     let written = std::fs::read_to_string(&out).unwrap();
     assert!(written.contains("UNSAVED EDITS"), "the warning is there");
     assert!(written.contains(&hushrail::io::board_sha256(app.board())));
