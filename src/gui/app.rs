@@ -492,6 +492,8 @@ impl App {
             self.theme_applied = Some(self.prefs.dark);
         }
         self.handle_input(&ctx);
+        // A report finished on its own thread is said on this frame's status line.
+        self.poll_report();
         self.view.results.refresh(&self.doc.board);
         if self.view.selected_rail >= self.doc.board.rails.len() {
             self.view.selected_rail = self.doc.board.rails.len().saturating_sub(1);
@@ -541,7 +543,6 @@ impl App {
         if self.apply_commands() {
             ctx.request_repaint();
         }
-        self.poll_report();
         if self.report_job.is_some() {
             // Look for the report's outcome even if the user does nothing meanwhile.
             ctx.request_repaint_after(std::time::Duration::from_millis(50));

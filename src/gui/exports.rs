@@ -12,7 +12,7 @@ use crate::analysis::{DroopOptions, droop, plural};
 use crate::analysis::{log_grid, sweep_in};
 use crate::io::{
     AcSweep, ReportContext, SIZE_LIMITS, bill_of_materials, board_sha256, bom_csv, impedance_csv, impedance_png,
-    impedance_s1p, impedance_svg_titled, rail_netlist, report_html, utc_date_today, write_outputs, write_report,
+    impedance_s1p, impedance_svg_titled, rail_netlist, report_html, utc_date_today, write_outputs,
 };
 use crate::units::{Unit, format};
 use egui::Context;
@@ -25,7 +25,7 @@ pub struct ReportJob {
     pub path: PathBuf,
     /// The board's revision it shows: edits made meanwhile are kept in the window and are not in the report.
     pub revision: u64,
-    job: Job<std::io::Result<()>>,
+    job: Job<Result<(), String>>,
 }
 
 impl App {
@@ -59,9 +59,13 @@ impl App {
         };
         let context = ReportContext { source, sha256, command, date: utc_date_today(), unsaved_edits };
         let target = path.to_path_buf();
+        // Never over the board's own file; whole or not at all (io::write).
+        let input = self.doc.path.clone();
         let job = Job::start("report", move || {
             let droops: Vec<_> = (0..board.rails.len()).map(|i| droop(&board, i, &DroopOptions::default())).collect();
-            write_report(&target, &report_html(&board, &context, Some(&droops)))
+            let html = report_html(&board, &context, Some(&droops));
+            let inputs: Vec<&Path> = input.iter().map(PathBuf::as_path).collect();
+            write_outputs(&[(&target, html.as_bytes())], &inputs)
         });
         let rails = self.doc.board.rails.len();
         self.status = Some(Status::busy(format!(
@@ -99,8 +103,10 @@ impl App {
     }
 
     /// Say how the report went (`None`: its thread ended without an answer). Returns true when written.
-    fn report_done(&mut self, path: &Path, revision: u64, outcome: Option<std::io::Result<()>>) -> bool {
-        let outcome = outcome.unwrap_or_else(|| Err(std::io::Error::other("the report could not be made (a bug)")));
+    fn report_done(&mut self, path: &Path, revision: u64, outcome: Option<Result<(), String>>) -> bool {
+        let outcome = outcome.unwrap_or_else(|| {
+            Err(format!("{}: the report could not be made (a bug: please report it)", path.display()))
+        });
         let written = outcome.is_ok();
         self.status = Some(match outcome {
             Ok(()) if revision != self.doc.history.revision() => Status::info(format!(
@@ -108,7 +114,7 @@ impl App {
                 path.display()
             )),
             Ok(()) => Status::info(format!("Wrote the report {}.", path.display())),
-            Err(e) => Status::error(format!("{}: cannot write: {e}", path.display())),
+            Err(e) => Status::error(e),
         });
         written
     }

@@ -1047,3 +1047,70 @@ fn a_placed_rail_plots_the_load_chosen() {
         assert_eq!(shown.worst_ohm, l.worst_ohm, "the engine's figures for that load");
     }
 }
+
+/// Run the window until the report it writes is done (its thread shares the machine with other tests).
+fn until_report_written(harness: &mut Harness<'_, App>) {
+    for _ in 0..3000 {
+        if !harness.state().is_writing_report() {
+            return;
+        }
+        harness.step();
+        std::thread::sleep(std::time::Duration::from_millis(10));
+    }
+    panic!("the report was never written");
+}
+
+#[test]
+fn the_report_is_written_beside_the_window_and_an_edit_made_meanwhile_is_kept() {
+    use hushrail::gui::StatusKind;
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("report.html");
+    let board = sample();
+    let part = board.rails[0].decaps[0].part.clone();
+    let count = board.rails[0].decaps[0].count;
+    let mut harness = window(board.clone());
+    assert!(harness.state_mut().save_report_to(&out));
+    // Asked, not yet done: the status line says it is working, and asking again while it works is refused.
+    let busy = harness.state().status().cloned().expect("a status");
+    assert_eq!(busy.kind, StatusKind::Busy);
+    assert!(busy.text.starts_with("Writing the report"), "{}", busy.text);
+    assert!(!harness.state_mut().save_report_to(&out), "one report at a time");
+    assert_eq!(harness.state().status().unwrap().kind, StatusKind::Error);
+    // The user goes on editing while the report is written: the first frame draws (the window is not blocked)
+    // and takes the edit.
+    click(&mut harness, &format!("one more {part}"));
+    until_report_written(&mut harness);
+    assert_eq!(harness.state().board().rails[0].decaps[0].count, count + 1, "the edit made meanwhile is kept");
+    let done = harness.state().status().cloned().unwrap();
+    assert_eq!(done.kind, StatusKind::Info);
+    assert!(done.text.contains("the edits made since are not in it"), "{}", done.text);
+    assert!(harness.query_by_label(&done.text).is_some(), "the status line shows it");
+    // The report is of the board as it was when asked: its hash, not the edited board's.
+    let written = std::fs::read_to_string(&out).unwrap();
+    assert!(written.contains(&hushrail::io::board_sha256(&board)));
+    assert!(!written.contains(&hushrail::io::board_sha256(harness.state().board())));
+    assert!(written.trim_end().ends_with("</html>"), "a whole document");
+}
+
+#[test]
+fn a_report_that_cannot_be_written_says_why_and_leaves_no_part_file() {
+    use hushrail::gui::StatusKind;
+    let dir = tempfile::tempdir().unwrap();
+    // A folder where the file should go: the write is refused, and nothing is left beside it.
+    let out = dir.path().join("taken");
+    std::fs::create_dir(&out).unwrap();
+    let mut harness = window(sample());
+    assert!(harness.state_mut().save_report_to(&out));
+    until_report_written(&mut harness);
+    let status = harness.state().status().cloned().unwrap();
+    assert_eq!(status.kind, StatusKind::Error);
+    assert!(status.text.contains(&out.display().to_string()), "{}", status.text);
+    assert!(harness.query_by_label(&status.text).is_some(), "the status line shows it");
+    let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert_eq!(left, vec![std::ffi::OsString::from("taken")], "no temporary file left behind");
+    // An edit clears an old message; undo with nothing left to undo says so as information.
+    harness.state_mut().ask(hushrail::gui::Command::Redo);
+    harness.run();
+    let status = harness.state().status().cloned().unwrap();
+    assert_eq!((status.kind, status.text.as_str()), (StatusKind::Info, "Nothing to redo."));
+}
