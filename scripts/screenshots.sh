@@ -22,7 +22,7 @@ out=${2:-/tmp/hushrail-shots}
 mkdir -p "$out"
 export XDG_RUNTIME_DIR=$(mktemp -d); chmod 700 "$XDG_RUNTIME_DIR"
 unset HUSHRAIL_DATA_DIR
-display=:99
+display=${SHOTS_DISPLAY:-:99}   # another number when several sessions share the machine
 xvfb=
 app=
 cleanup() {

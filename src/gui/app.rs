@@ -108,6 +108,8 @@ pub struct DocView {
     /// The last yield estimated: the rail, the board it was drawn for (shown only while the board is unchanged)
     /// and the answer.
     pub(super) yield_shown: Option<(usize, Board, crate::analysis::YieldEstimate)>,
+    /// A yield being estimated: the rail, the board it draws from and the job.
+    pub(super) yield_job: Option<(usize, Board, super::jobs::Job<Option<crate::analysis::YieldEstimate>>)>,
     /// The worst-case pattern's response in the time view.
     pub(super) pattern: Option<super::time_view::PatternView>,
     /// A board file that could not be opened, shown until dismissed or until another document comes.

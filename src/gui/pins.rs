@@ -59,6 +59,11 @@ impl Pin {
     }
 }
 
+/// The width of one pin's controls on the pins' lines (points, body font).
+const PIN_W: f32 = 225.0;
+/// The width of the "pins:" label.
+const PINS_LABEL_W: f32 = 44.0;
+
 impl App {
     /// Pin the selected rail's current curve.
     pub fn pin_current(&mut self) {
@@ -80,30 +85,46 @@ impl App {
         if !self.view.pins.iter().any(|p| p.rail == rail_name) {
             return;
         }
-        ui.horizontal_wrapped(|ui| {
-            ui.label(RichText::new("pins:").small());
-            for (i, pin) in self.view.pins.iter_mut().enumerate().filter(|(_, p)| p.rail == rail_name) {
-                let shown = ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
-                let show_label = format!("show {}", pin.name);
-                shown.widget_info(|| egui::WidgetInfo::selected(egui::Role::CheckBox, true, pin.visible, &show_label));
-                let (rect, _) = ui.allocate_exact_size(egui::vec2(14.0, 14.0), egui::Sense::hover());
-                ui.painter().rect_filled(rect, 3.0, pin.color(dark));
-                ui.add(egui::TextEdit::singleline(&mut pin.name).desired_width(70.0)).on_hover_text(format!(
-                    "worst |Z| {} at {}, margin {:+.1} dB when pinned",
-                    crate::units::format(pin.worst_ohm, crate::units::Unit::Ohm),
-                    crate::units::format(pin.worst_hz, crate::units::Unit::Hertz),
-                    pin.margin_db
-                ));
-                let (verdict, color) = if pin.meets { ("meets", pal.ok) } else { ("misses", pal.fail) };
-                ui.label(RichText::new(format!("{:+.1} dB, {verdict}", pin.margin_db)).small().color(color));
-                let remove_button = ui.small_button("×").on_hover_text("Remove this pin");
-                let label = format!("remove {}", pin.name);
-                remove_button.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &label));
-                if remove_button.clicked() {
-                    remove = Some(i);
+        // A pin's controls stay together; as many pins a line as fit, counted before drawing (a wrapped row
+        // would split a pin from its name or its verdict).
+        let per_line = ((ui.available_width() - PINS_LABEL_W) / PIN_W).floor().max(1.0) as usize;
+        let shown: Vec<usize> = (0..self.view.pins.len()).filter(|&i| self.view.pins[i].rail == rail_name).collect();
+        for (line, chunk) in shown.chunks(per_line).enumerate() {
+            ui.horizontal(|ui| {
+                // Only the first line says "pins:"; the others keep their pins aligned under it.
+                let size = egui::vec2(PINS_LABEL_W - 8.0, 14.0);
+                if line == 0 {
+                    ui.add_sized(size, egui::Label::new(RichText::new("pins:").weak()));
+                } else {
+                    ui.allocate_exact_size(size, egui::Sense::hover());
                 }
-            }
-        });
+                for &i in chunk {
+                    let pin = &mut self.view.pins[i];
+                    let shown = ui.checkbox(&mut pin.visible, "").on_hover_text("Show or hide this pin");
+                    let show_label = format!("show {}", pin.name);
+                    shown.widget_info(|| {
+                        egui::WidgetInfo::selected(egui::Role::CheckBox, true, pin.visible, &show_label)
+                    });
+                    let (rect, _) = ui.allocate_exact_size(egui::vec2(14.0, 14.0), egui::Sense::hover());
+                    ui.painter().rect_filled(rect, 3.0, pin.color(dark));
+                    ui.add(egui::TextEdit::singleline(&mut pin.name).desired_width(70.0)).on_hover_text(format!(
+                        "worst |Z| {} at {}, margin {:+.1} dB when pinned",
+                        crate::units::format(pin.worst_ohm, crate::units::Unit::Ohm),
+                        crate::units::format(pin.worst_hz, crate::units::Unit::Hertz),
+                        pin.margin_db
+                    ));
+                    let (verdict, color) = if pin.meets { ("meets", pal.ok) } else { ("misses", pal.fail) };
+                    ui.label(RichText::new(format!("{:+.1} dB, {verdict}", pin.margin_db)).small().color(color));
+                    let remove_button = ui.small_button("×").on_hover_text("Remove this pin");
+                    let label = format!("remove {}", pin.name);
+                    remove_button.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &label));
+                    if remove_button.clicked() {
+                        remove = Some(i);
+                    }
+                    ui.add_space(6.0);
+                }
+            });
+        }
         if let Some(i) = remove {
             self.view.pins.remove(i);
         }

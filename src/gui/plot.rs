@@ -5,6 +5,7 @@
 //! markers and the figures all come from `analysis` through [`super::results`].
 
 use super::app::{App, CentralTab};
+use super::jobs::{Job, Poll};
 use super::load_choice::load_choice;
 use super::results::RailResult;
 use super::theme;
@@ -184,19 +185,29 @@ impl App {
         let color = if check.passes { pal.ok } else { pal.fail };
         ui.horizontal_wrapped(|ui| {
             ui.spacing_mut().item_spacing.x = 6.0;
-            ui.label(RichText::new(&rail.name).heading().strong());
+            // Each piece whole: where the line is too narrow a piece moves down, never splits in two.
+            let piece = |ui: &mut Ui, text: RichText| ui.add(egui::Label::new(text).extend());
+            piece(ui, RichText::new(&rail.name).heading().strong());
             // The check's own sentence on hover: the header stays one line.
-            ui.label(RichText::new(format!("{} the check", check.word())).heading().color(color))
+            piece(ui, RichText::new(format!("{} the check", check.word())).heading().color(color))
                 .on_hover_text(check.verdict_line());
-            ui.label(RichText::new(format!("margin {:+.1} dB", check.verdict.margin_db)).strong().color(color));
-            ui.label(format!("worst |Z| {} at {}", format(a.worst_ohm, Unit::Ohm), format(a.worst_hz, Unit::Hertz)));
-            ui.label(format!("({:.2}× target)", a.worst_ohm / a.target_ohm));
-            ui.label(RichText::new(format!("{} corner", check.verdict.corner.name())).weak())
+            piece(ui, RichText::new(format!("margin {:+.1} dB", check.verdict.margin_db)).strong().color(color));
+            piece(
+                ui,
+                RichText::new(format!(
+                    "worst |Z| {} at {}",
+                    format(a.worst_ohm, Unit::Ohm),
+                    format(a.worst_hz, Unit::Hertz)
+                )),
+            );
+            piece(ui, RichText::new(format!("({:.2}× target)", a.worst_ohm / a.target_ohm)));
+            piece(ui, RichText::new(format!("{} corner", check.verdict.corner.name())).weak())
                 .on_hover_text(check.verdict.corner.words());
             if a.view == View::Die {
                 // With a package the verdict is taken at the die, as the check takes it; say so.
                 ui.label(RichText::new("seen at the die, through the package").weak());
             } else if rail.package.is_some() {
+                // Long: this one may wrap inside itself where the column is narrow.
                 ui.label(RichText::new("seen at the board node (the check takes the verdict at the die)").weak());
             }
         });
@@ -276,13 +287,13 @@ impl App {
     pub(super) fn options_row(&mut self, ui: &mut Ui) {
         let has_package = self.doc.board.rails.get(self.view.selected_rail).is_some_and(|r| r.package.is_some());
         let mut look = self.view.results.look();
+        // The tabs, the curve options and the yield on one line (wrapped only in a narrow window); a placed rail's
+        // load and a packaged rail's view on a line of their own, so nothing moves when a rail gains one.
         ui.horizontal_wrapped(|ui| {
-            ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong());
-            ui.selectable_value(
-                &mut self.central_tab,
-                CentralTab::Time,
-                RichText::new("Voltage after a load step").strong(),
-            );
+            ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong())
+                .on_hover_text("|Z(f)| against the target");
+            ui.selectable_value(&mut self.central_tab, CentralTab::Time, RichText::new("Load step").strong())
+                .on_hover_text("The voltage after a load step, and the worst-case on/off pattern");
             ui.separator();
             if self.central_tab == CentralTab::Impedance {
                 if ui
@@ -292,24 +303,29 @@ impl App {
                 {
                     self.pin_current();
                 }
-                ui.checkbox(&mut self.show_group_curves, "each group's curve");
+                ui.checkbox(&mut self.show_group_curves, "each group")
+                    .on_hover_text("Draw each group's own |Z| in its own colour, named in the legend");
             }
-            ui.checkbox(&mut look.worst_corner, "worst corner too").on_hover_text(Corner::Worst.words());
-            if let Some(rail) = self.doc.board.rails.get(self.view.selected_rail).filter(|r| r.placement.is_some()) {
-                // A placed rail: which load's effective impedance the plot shows.
-                ui.separator();
-                load_choice(ui, "plot-load", "at load", rail, "the worst (the verdict's)", &mut look.load);
-            }
-            if has_package {
-                ui.separator();
-                ui.label("seen from");
-                ui.radio_value(&mut look.view, None, "the die (the verdict's view)");
-                ui.radio_value(&mut look.view, Some(View::Board), "the board node");
-                ui.checkbox(&mut look.both_views, "draw both");
-            }
+            ui.checkbox(&mut look.worst_corner, "worst corner")
+                .on_hover_text(format!("Also draw the worst corner's curve: {}", Corner::Worst.words()));
             ui.separator();
             self.yield_button(ui);
         });
+        let placed = self.doc.board.rails.get(self.view.selected_rail).filter(|r| r.placement.is_some());
+        if placed.is_some() || has_package {
+            ui.horizontal_wrapped(|ui| {
+                if let Some(rail) = placed {
+                    // A placed rail: which load's effective impedance the plot shows.
+                    load_choice(ui, "plot-load", "at load", rail, "the worst (the verdict's)", &mut look.load);
+                }
+                if has_package {
+                    ui.label("seen from");
+                    ui.radio_value(&mut look.view, None, "the die (the verdict's view)");
+                    ui.radio_value(&mut look.view, Some(View::Board), "the board node");
+                    ui.checkbox(&mut look.both_views, "draw both");
+                }
+            });
+        }
         if look != self.view.results.look() {
             self.view.results.set_look(look);
             self.view.results.refresh(&self.doc.board);
@@ -319,10 +335,26 @@ impl App {
         }
     }
 
-    /// The button that draws random boards within the parts' tolerances; the answer shows under the header
-    /// while the board stays as it was.
+    /// The button that draws random boards within the parts' tolerances (on a [`Job`]: ten thousand boards take
+    /// about half a second); the answer shows under the header while the board stays as it was.
     fn yield_button(&mut self, ui: &mut Ui) {
         let index = self.view.selected_rail;
+        let polled = self.view.yield_job.as_mut().map(|(_, _, job)| job.poll());
+        match polled {
+            Some(Poll::Running) => {
+                ui.add(egui::Spinner::new());
+                ui.label(format!("drawing {YIELD_SAMPLES} boards…"));
+                ui.ctx().request_repaint_after(std::time::Duration::from_millis(50));
+                return;
+            }
+            Some(Poll::Done(answer)) => {
+                if let (Some((rail, board, _)), Some(y)) = (self.view.yield_job.take(), answer) {
+                    self.view.yield_shown = Some((rail, board, y));
+                }
+            }
+            Some(Poll::Lost) => self.view.yield_job = None,
+            None => {}
+        }
         if ui
             .small_button("Estimate yield")
             .on_hover_text(format!(
@@ -330,17 +362,15 @@ impl App {
                  tolerances (one draw per group: its parts come from one reel), and count the boards that meet target"
             ))
             .clicked()
-            && let Some(y) = crate::analysis::yield_estimate(
-                &self.doc.board,
-                index,
-                self.view.results.get(index).map_or(View::Board, |r| r.verdict().view),
-                super::results::BAND_POINTS,
-                YIELD_SAMPLES,
-                crate::analysis::DEFAULT_SEED,
-                2,
-            )
         {
-            self.view.yield_shown = Some((index, self.doc.board.clone(), y));
+            let view = self.view.results.get(index).map_or(View::Board, |r| r.verdict().view);
+            let board = self.doc.board.clone();
+            let drawn = board.clone();
+            let job = Job::start("yield", move || {
+                let (points, seed) = (super::results::BAND_POINTS, crate::analysis::DEFAULT_SEED);
+                crate::analysis::yield_estimate(&drawn, index, view, points, YIELD_SAMPLES, seed, 2)
+            });
+            self.view.yield_job = Some((index, board, job));
         }
     }
 

@@ -30,6 +30,8 @@ const NEW_PACKAGE: Package = Package { r_ohm: 1e-3, l_h: 50e-12 };
 const NEW_DIE: Die = Die { capacitance_f: 100e-9, esr_ohm: 1e-3 };
 /// Width of a number field.
 const FIELD_W: f32 = 96.0;
+/// Width a group's count and mounting take on one line (points, measured in the body font).
+const COUNT_AND_MOUNTING_W: f32 = 350.0;
 
 /// Ask to replace rail `index` with a changed copy (applied with the frame's commands). The error names what went wrong at `key`.
 fn set_rail(
@@ -78,8 +80,11 @@ impl App {
             ui.selectable_value(&mut self.side_tab, SideTab::Help, RichText::new("Help and cautions").strong());
         });
         ui.separator();
-        // Both directions: content wider than the panel scrolls instead of widening the panel under the pointer.
+        // The column keeps its width: its text and rows wrap to it (a group's count and mounting, a caution), and
+        // anything still wider scrolls sideways rather than widening the panel under the pointer.
+        let width = ui.available_width() - ui.spacing().scroll.bar_width - ui.spacing().scroll.bar_inner_margin;
         egui::ScrollArea::both().id_salt("side-scroll").auto_shrink([false, false]).show(ui, |ui| {
+            ui.set_max_width(width);
             match self.side_tab {
                 SideTab::Rail => self.rail_editor(ui),
                 SideTab::Parts => self.parts_table(ui),
@@ -316,51 +321,18 @@ impl App {
                     }
                 });
                 show_error(ui, &self.view.fields, &format!("{key}.part"), pal.fail);
-                ui.horizontal(|ui| {
-                    self.count_editor(ui, i, gi, g, &rail.name);
-                    ui.add_space(8.0);
-                    let l = ui.label("mounting");
-                    let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
-                    let mkey = format!("{key}.mounting_h");
-                    let label = format!("mounting of group {} of {}", gi + 1, rail.name);
-                    if g.mounting.is_some() {
-                        // The file gives the mounting as geometry; the engine computes the inductance from it.
-                        let computed = self
-                            .view
-                            .results
-                            .get(i)
-                            .and_then(|r| r.analysis.groups.get(gi))
-                            .map(|g| g.mounting_h)
-                            .unwrap_or(g.mounting_h);
-                        ui.label(format!("{} from geometry", format(computed, Unit::Henry)))
-                            .on_hover_text("Computed from the pad, trace and via geometry in the board file");
-                        if ui.small_button("use a value").on_hover_text("Replace the geometry by this value").clicked()
-                        {
-                            let result = set_rail(doc, i, &mkey, label, |r| {
-                                r.decaps[gi].mounting = None;
-                                r.decaps[gi].mounting_h = computed;
-                            });
-                            match result {
-                                Ok(()) => fields.forget(&mkey),
-                                Err(reason) => fields.set_error(&mkey, String::new(), reason),
-                            }
-                        }
-                    } else {
-                        number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
-                            set_rail(doc, i, &mkey, label.clone(), |r| r.decaps[gi].mounting_h = v)
-                        });
-                        let from_geometry = ui.small_button("from geometry");
-                        let text = format!("mounting of group {} from geometry", gi + 1);
-                        from_geometry.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &text));
-                        if from_geometry.on_hover_text("Compute the inductance from pads, traces and vias").clicked() {
-                            let result = set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting = Some(NEW_GEOMETRY));
-                            match result {
-                                Ok(()) => fields.forget(&mkey),
-                                Err(reason) => fields.set_error(&mkey, String::new(), reason),
-                            }
-                        }
-                    }
-                });
+                // Count and mounting side by side where the column is wide enough, one under the other where not
+                // (decided before drawing, so the row never overflows the column nor jumps between frames).
+                if ui.available_width() >= COUNT_AND_MOUNTING_W {
+                    ui.horizontal(|ui| {
+                        self.count_editor(ui, i, gi, g, &rail.name);
+                        ui.add_space(8.0);
+                        self.mounting_editor(ui, i, gi, g, &rail.name);
+                    });
+                } else {
+                    ui.horizontal(|ui| self.count_editor(ui, i, gi, g, &rail.name));
+                    ui.horizontal(|ui| self.mounting_editor(ui, i, gi, g, &rail.name));
+                }
                 show_error(ui, &self.view.fields, &format!("{key}.mounting_h"), pal.fail);
                 if let Some(geometry) = g.mounting {
                     let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
@@ -428,6 +400,51 @@ impl App {
                 r.decaps.push(DecapGroup::new(part, 1, NEW_MOUNTING_H))
             });
             self.report(&key, result);
+        }
+    }
+
+    /// A group's mounting inductance: typed, or computed from its geometry.
+    fn mounting_editor(&mut self, ui: &mut Ui, i: usize, gi: usize, g: &DecapGroup, rail_name: &str) {
+        let key = format!("rails[{i}].decaps[{gi}]");
+        let l = ui.label("mounting");
+        let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
+        let mkey = format!("{key}.mounting_h");
+        let label = format!("mounting of group {} of {}", gi + 1, rail_name);
+        if g.mounting.is_some() {
+            // The file gives the mounting as geometry; the engine computes the inductance from it.
+            let computed = self
+                .view
+                .results
+                .get(i)
+                .and_then(|r| r.analysis.groups.get(gi))
+                .map(|g| g.mounting_h)
+                .unwrap_or(g.mounting_h);
+            ui.label(format!("{} from geometry", format(computed, Unit::Henry)))
+                .on_hover_text("Computed from the pad, trace and via geometry in the board file");
+            if ui.small_button("use a value").on_hover_text("Replace the geometry by this value").clicked() {
+                let result = set_rail(doc, i, &mkey, label, |r| {
+                    r.decaps[gi].mounting = None;
+                    r.decaps[gi].mounting_h = computed;
+                });
+                match result {
+                    Ok(()) => fields.forget(&mkey),
+                    Err(reason) => fields.set_error(&mkey, String::new(), reason),
+                }
+            }
+        } else {
+            number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
+                set_rail(doc, i, &mkey, label.clone(), |r| r.decaps[gi].mounting_h = v)
+            });
+            let from_geometry = ui.small_button("from geometry");
+            let text = format!("mounting of group {} from geometry", gi + 1);
+            from_geometry.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &text));
+            if from_geometry.on_hover_text("Compute the inductance from pads, traces and vias").clicked() {
+                let result = set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting = Some(NEW_GEOMETRY));
+                match result {
+                    Ok(()) => fields.forget(&mkey),
+                    Err(reason) => fields.set_error(&mkey, String::new(), reason),
+                }
+            }
         }
     }
 

@@ -310,7 +310,8 @@ impl App {
             .labelled_by(l.id);
             ui.end_row();
             ui.label("Meet target in");
-            ui.horizontal(|ui| {
+            // One under the other: side by side they are wider than the column.
+            ui.vertical(|ui| {
                 ui.radio_value(&mut s.settings.corner, VERDICT_CORNER, "the check's corner");
                 ui.radio_value(&mut s.settings.corner, Corner::Worst, "the worst corner");
             });

@@ -563,7 +563,7 @@ fn the_worst_corner_shows_the_engines_worst_figures_and_the_parts_that_lose_most
     select_rail(&mut harness, "V3V3_IO");
     let line = one_line(&worst);
     assert!(harness.query_by_label(&line).is_none(), "not shown until asked for");
-    click(&mut harness, "worst corner too");
+    click(&mut harness, "worst corner");
     assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
     // The typical verdict stays the main one.
     assert_shows(&harness, &nominal);
@@ -580,7 +580,7 @@ fn the_time_view_shows_the_engines_droop_and_follows_a_count_change() {
     let mut harness = window(board.clone());
     select_rail(&mut harness, "V3V3_IO");
     // The droop is computed on its own thread: the view says so until it lands.
-    harness.get_by_label("Voltage after a load step").click();
+    harness.get_by_label("Load step").click();
     let lines = hushrail::gui::droop_lines(&d);
     step_until(&mut harness, &lines[0], 3000);
     harness.run();
@@ -617,7 +617,7 @@ fn a_rail_without_a_source_has_its_missing_droop_explained() {
     board.rails[0].source = None;
     let reason = hushrail::analysis::droop(&board, 0, &hushrail::gui::results::droop_options()).unwrap_err();
     let mut harness = window(board);
-    harness.get_by_label("Voltage after a load step").click();
+    harness.get_by_label("Load step").click();
     step_until(&mut harness, "No droop for this rail", 3000);
     harness.run();
     assert!(harness.query_by_label(&reason.to_string()).is_some());
@@ -872,7 +872,7 @@ fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_say
         |b: &Board| analyze_rail(b, rail, &AnalysisOptions { corner: Corner::Worst, ..Default::default() }).unwrap();
     let mut harness = window(board.clone());
     select_rail(&mut harness, "V3V3_IO");
-    click(&mut harness, "worst corner too");
+    click(&mut harness, "worst corner");
     click(&mut harness, "Parts");
     click(&mut harness, "Board temperature and derating");
     click(&mut harness, "generic DC-bias model for class II ceramics without their own curve (typical, recalled)");
@@ -887,7 +887,7 @@ fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_say
 fn at_1280_by_800_the_plot_is_the_largest_thing_and_the_side_panel_keeps_its_width() {
     let mut harness = window(sample());
     click(&mut harness, "Pin this curve");
-    click(&mut harness, "worst corner too");
+    click(&mut harness, "worst corner");
     let plot = harness.state().plot_rect().expect("the plot is drawn");
     // The plot takes most of the middle: at least 540 × 330 points of a 1280 × 800 window (about a fifth of the
     // window; before, with a pin and the worst corner on, it was about 150 points high).
@@ -912,7 +912,7 @@ fn at_1280_by_800_the_plot_is_the_largest_thing_and_the_side_panel_keeps_its_wid
 fn the_legend_names_each_groups_curve() {
     let board = sample();
     let mut harness = window(board.clone());
-    click(&mut harness, "each group's curve");
+    click(&mut harness, "each group");
     let result = hushrail::gui::results::compute_with(&board, 0, Default::default()).unwrap();
     assert!(!result.plot.branches.is_empty());
     for b in &result.plot.branches {
