@@ -158,3 +158,50 @@ impl App {
         }
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn app() -> App {
+        App::new_with_board(crate::samples::default_board().expect("the sample reads"), "sample", None)
+    }
+
+    #[test]
+    fn an_edit_is_checked_when_asked_and_lands_once_when_the_commands_are_applied() {
+        let mut app = app();
+        let before = app.board().clone();
+        let count = before.rails[0].decaps[0].count;
+        let edit = Edit::SetCount { rail: 0, group: 0, count: count + 1 };
+        app.propose(edit, "one more".into(), false, Some("rails[0].decaps[0].count")).unwrap();
+        assert_eq!(app.board(), &before, "asked, not yet applied");
+        assert!(app.apply_commands());
+        assert_eq!(app.board().rails[0].decaps[0].count, count + 1);
+        assert!(!app.apply_commands(), "applied once");
+        // A refused edit comes back at once and queues nothing.
+        let bad = Edit::SetRail {
+            rail: 0,
+            value: Box::new(crate::model::Rail { voltage_v: -1.0, ..before.rails[0].clone() }),
+        };
+        assert!(app.propose(bad, "negative".into(), false, None).is_err());
+        assert!(!app.apply_commands());
+        // Undo is a command too, and takes the edit back.
+        app.ask(Command::Undo);
+        app.apply_commands();
+        assert_eq!(app.board(), &before);
+    }
+
+    #[test]
+    fn a_new_rail_is_selected_once_it_is_there() {
+        let mut app = app();
+        let at = app.board().rails.len();
+        let rail = super::super::app::new_rail("EXTRA");
+        app.propose(Edit::AddRail { at, value: Box::new(rail) }, "add".into(), false, None).unwrap();
+        app.ask(Command::SelectRail(at));
+        // Asking to select a rail that is not there changes nothing.
+        app.ask(Command::SelectRail(at + 5));
+        app.apply_commands();
+        assert_eq!(app.selected_rail(), at);
+        assert_eq!(app.board().rails[at].name, "EXTRA");
+    }
+}
