@@ -92,7 +92,7 @@ for dark in true false; do
     [ "$parts" = extra ] && shot "$out/suggest_plain-1280x800-$theme.png"
     x mousemove 926 528 click 1; sleep 12
     [ "$parts" = extra ] && shot "$out/suggest_found-1280x800-$theme.png"
-    x mousemove 1000 622 click 1; sleep 1.5
+    x mousemove 1012 607 click 1; sleep 1.5
     x mousemove 1270 790; sleep 1
     shot "$out/suggest-1280x800-$theme.png"
     stop

@@ -423,7 +423,7 @@ impl App {
             .legend(
                 egui_plot::Legend::default()
                     .position(egui_plot::Corner::LeftTop)
-                    .text_style(egui::TextStyle::Body)
+                    .text_style(egui::TextStyle::Small)
                     .background_alpha(0.85)
                     .follow_insertion_order(true),
             )
