@@ -22,7 +22,7 @@ out=${2:-/tmp/hushrail-shots}
 mkdir -p "$out"
 export XDG_RUNTIME_DIR=$(mktemp -d); chmod 700 "$XDG_RUNTIME_DIR"
 unset HUSHRAIL_DATA_DIR
-display=:99
+display=${SHOTS_DISPLAY:-:99}   # another number when several sessions share the machine
 xvfb=
 app=
 cleanup() {
@@ -58,14 +58,16 @@ stop() {
     kill "$xvfb"; wait "$xvfb" 2>/dev/null || true; xvfb=
 }
 
-for size in 1280x800 1920x1080; do
+# SHOTS_PARTS=extra takes only the time view and suggest pictures (to check their clicks after a layout change).
+parts=${SHOTS_PARTS:-all}
+[ "$parts" = extra ] || for size in 1280x800 1920x1080; do
     for dark in true false; do
         theme=$([ "$dark" = true ] && echo dark || echo light)
         start "${size%x*}" "${size#*x}" "$dark"
         shot "$out/sample-$size-$theme.png"
         # Pin the curve, add two of the 10 µF parts (group 2's "+"), select the first finding, point into the plot.
-        x mousemove 543 67 click 1; sleep 1
-        x mousemove $((1004 + R)) 416 click 1; sleep 0.5; x click 1; sleep 1
+        x mousemove 455 67 click 1; sleep 1
+        x mousemove $((1004 + R)) 461 click 1; sleep 0.5; x click 1; sleep 1
         x mousemove 540 $((650 + B)) click 1; sleep 1
         x mousemove $((302 + (568 + R) * 48 / 100)) $((330 + B / 2)); sleep 1.5
         shot "$out/pin_finding-$size-$theme.png"
@@ -77,8 +79,9 @@ for dark in true false; do
     theme=$([ "$dark" = true ] && echo dark || echo light)
     # The time view of the first rail, with the worst-case load pattern.
     start 1280 800 "$dark"
-    x mousemove 395 67 click 1; sleep 3
-    x mousemove 236 228 click 1; sleep 4
+    x mousemove 352 67 click 1; sleep 3
+    [ "$parts" = extra ] && shot "$out/time_view_plain-1280x800-$theme.png"
+    x mousemove 236 249 click 1; sleep 4
     x mousemove 1270 790; sleep 1
     shot "$out/time_view-1280x800-$theme.png"
     stop
@@ -86,8 +89,10 @@ for dark in true false; do
     # Suggested mixes for the first rail from the built-in shelf, every option pinned.
     start 1280 800 "$dark"
     x mousemove 1058 41 click 1; sleep 1
-    x mousemove 926 480 click 1; sleep 12
-    x mousemove 1014 553 click 1; sleep 1.5
+    [ "$parts" = extra ] && shot "$out/suggest_plain-1280x800-$theme.png"
+    x mousemove 926 528 click 1; sleep 12
+    [ "$parts" = extra ] && shot "$out/suggest_found-1280x800-$theme.png"
+    x mousemove 1012 607 click 1; sleep 1.5
     x mousemove 1270 790; sleep 1
     shot "$out/suggest-1280x800-$theme.png"
     stop

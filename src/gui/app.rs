@@ -1,11 +1,13 @@
 //! The planner window's state and the order of one frame's work: input and shortcuts, analysis, panels, dialogs,
 //! title and autosave. Each panel lives in its own file as a method of [`App`].
 
+use super::commands::Command;
 use super::files::{self, LeftOver, Prefs, Store};
 use super::history::{Edit, History, Refusal};
 use super::number_field::Fields;
 use super::pins::Pin;
 use super::results::Results;
+use super::status::{Status, StatusKind};
 use super::theme;
 use crate::io::{BoardError, read_board_keeping_unusable, read_board_keeping_unusable_traced, write_board};
 use crate::model::Board;
@@ -81,9 +83,11 @@ pub enum Pending {
     New,
 }
 
-/// The planner window.
-pub struct App {
-    pub(super) doc: Document,
+/// What the window shows of one document, reset in one place ([`App::replace_document`]) whenever another
+/// document takes its place: selections, typed texts, pins, plot views, the cache of the engine's answers.
+#[derive(Default)]
+pub struct DocView {
+    /// The engine's answers for the document's rails (its `Look` is the window's and outlives the document).
     pub(super) results: Results,
     pub(super) selected_rail: usize,
     /// (rail, index into that rail's findings).
@@ -91,42 +95,76 @@ pub struct App {
     /// The selection was made on the plot: bring it into view in the findings list.
     pub(super) scroll_to_finding: bool,
     pub(super) pins: Vec<Pin>,
-    /// Each rail's home view on the plot, by rail index.
-    pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
-    /// The window's own path field, open when a file dialog gave no answer.
-    pub(super) path_prompt: Option<super::exports::PathPrompt>,
-    /// The size of an exported plot, pixels.
-    pub(super) plot_export_size: [u32; 2],
-    /// Go back to the selected rail's home view on the next frame (a double-click on the plot asked for it).
-    pub(super) reset_plot: bool,
+    /// The number of the next pin (pins restored from the store count before it).
     pub(super) next_pin: usize,
     /// The pins last kept in the store and the board file they were kept for: the store is written when the
     /// pins or the file change.
-    kept_pins: Option<(PathBuf, Vec<Pin>)>,
+    pub(super) kept_pins: Option<(PathBuf, Vec<Pin>)>,
+    /// Each rail's home view on the plot, by rail index.
+    pub(super) home_views: std::collections::HashMap<usize, super::plot::HomeView>,
+    /// Go back to the selected rail's home view on the next frame (a double-click on the plot asked for it).
+    pub(super) reset_plot: bool,
+    /// Texts typed into fields and their refusals.
     pub(super) fields: Fields,
-    pub(super) store: Store,
+    pub(super) selected_part: usize,
+    /// The last yield estimated: the rail, the board it was drawn for (shown only while the board is unchanged)
+    /// and the answer.
+    pub(super) yield_shown: Option<(usize, Board, crate::analysis::YieldEstimate)>,
+    /// A yield being estimated: the rail, the board it draws from and the job.
+    pub(super) yield_job: Option<(usize, Board, super::jobs::Job<Option<crate::analysis::YieldEstimate>>)>,
+    /// The worst-case pattern's response in the time view.
+    pub(super) pattern: Option<super::time_view::PatternView>,
+    /// A board file that could not be opened, shown until dismissed or until another document comes.
+    pub(super) load_error: Option<BoardError>,
+    /// The window's own path field, open when a file dialog gave no answer.
+    pub(super) path_prompt: Option<super::exports::PathPrompt>,
+    /// The board map's view, field, modes and forms.
+    pub(super) map: super::board_map::MapState,
+}
+
+impl DocView {
+    /// A fresh view of a document, looking at rails the way `look` says.
+    fn new(look: super::results::Look) -> DocView {
+        let mut view = DocView { next_pin: 1, ..DocView::default() };
+        view.results.set_look(look);
+        view
+    }
+}
+
+/// The planner window: its state in four groups, so that a change knows where it belongs.
+///
+/// - `prefs` (with `store`, where they live): kept between sessions (theme, recent files).
+/// - `doc`: the document (board, file, history).
+/// - `view`: what the window shows of this document; replaced with the document.
+/// - the rest: the window's own state for this session (tabs, options, dialogs, the status line, background jobs),
+///   which outlives a document.
+///
+/// Panels do not change the board themselves: they queue [`Command`]s, applied once per frame in
+/// [`App::apply_commands`].
+pub struct App {
     pub(super) prefs: Prefs,
+    pub(super) store: Store,
+    pub(super) doc: Document,
+    pub(super) view: DocView,
+    /// What the panels asked for this frame, applied after they are drawn.
+    pub(super) commands: Vec<Command>,
+    /// The review report being written on its own thread, if any.
+    pub(super) report_job: Option<super::exports::ReportJob>,
+    /// The size of an exported plot, pixels.
+    pub(super) plot_export_size: [u32; 2],
     pub(super) show_group_curves: bool,
     pub(super) side_tab: SideTab,
     pub(super) central_tab: CentralTab,
     /// The time view also draws the worst-case load pattern.
     pub(super) show_worst_pattern: bool,
-    pub(super) pattern: Option<super::time_view::PatternView>,
+    /// The suggest panel's choices (kept across documents) and its search (forgotten with the document).
     pub(super) suggest: super::suggest_panel::SuggestState,
-    /// The board map's view, field and modes.
-    pub(super) map: super::board_map::MapState,
     /// Where the plot (or the time view's plot) was drawn last frame, in points.
     pub(super) plot_rect: Option<egui::Rect>,
     pub(super) coupling: super::coupling_tool::CouplingTool,
     pub(super) findings_tab: FindingsTab,
-    pub(super) selected_part: usize,
-    /// The last yield estimated: the rail, the board it was drawn for (shown only while the board is unchanged)
-    /// and the answer.
-    pub(super) yield_shown: Option<(usize, Board, crate::analysis::YieldEstimate)>,
-    /// A board file that could not be opened, shown until dismissed.
-    pub(super) load_error: Option<BoardError>,
-    /// The last thing that happened, for the status line (text, is an error).
-    pub(super) status: Option<(String, bool)>,
+    /// The last thing that happened, for the status line.
+    pub(super) status: Option<Status>,
     pub(super) pending: Option<Pending>,
     pub(super) left_over: Option<LeftOver>,
     allow_close: bool,
@@ -142,34 +180,21 @@ impl App {
     /// A window on `board`, keeping nothing on disk (no recent files, no autosave): for tests and benchmarks.
     pub fn new_with_board(board: Board, label: impl Into<String>, path: Option<PathBuf>) -> App {
         App {
-            doc: Document { board, path, label: label.into(), history: History::new(), sha256: None },
-            results: Results::default(),
-            selected_rail: 0,
-            selected_finding: None,
-            scroll_to_finding: false,
-            pins: Vec::new(),
-            home_views: Default::default(),
-            reset_plot: false,
-            path_prompt: None,
-            plot_export_size: [1200, 700],
-            next_pin: 1,
-            kept_pins: None,
-            fields: Fields::default(),
-            store: Store::new(None),
             prefs: Prefs::default(),
+            store: Store::new(None),
+            doc: Document { board, path, label: label.into(), history: History::new(), sha256: None },
+            view: DocView::new(Default::default()),
+            commands: Vec::new(),
+            report_job: None,
+            plot_export_size: [1200, 700],
             show_group_curves: false,
             side_tab: SideTab::Rail,
             central_tab: CentralTab::Impedance,
             show_worst_pattern: false,
-            pattern: None,
             suggest: Default::default(),
-            map: Default::default(),
             plot_rect: None,
             coupling: Default::default(),
             findings_tab: FindingsTab::Rail,
-            selected_part: 0,
-            yield_shown: None,
-            load_error: None,
             status: None,
             pending: None,
             left_over: None,
@@ -206,13 +231,13 @@ impl App {
                 }
                 Err(e) => {
                     let mut app = sample();
-                    app.load_error = Some(e);
+                    app.view.load_error = Some(e);
                     app
                 }
             },
         };
         app.prefs = store.load_prefs();
-        if let Some(p) = path.filter(|_| app.load_error.is_none()) {
+        if let Some(p) = path.filter(|_| app.view.load_error.is_none()) {
             app.prefs.add_recent(p);
             let _ = store.save_prefs(&app.prefs);
         }
@@ -224,14 +249,14 @@ impl App {
 
     /// Take back the pins the store keeps for the board's file.
     fn restore_pins(&mut self) {
-        self.kept_pins = None;
+        self.view.kept_pins = None;
         let Some(path) = self.doc.path.clone() else { return };
         let pins = self.store.load_pins(&path);
         // New pins go on numbering (and colouring) after the restored ones.
         let after = pins.iter().map(|p| p.slot + 2).max().unwrap_or(1);
-        self.next_pin = self.next_pin.max(after);
-        self.pins = pins.clone();
-        self.kept_pins = Some((path, pins));
+        self.view.next_pin = self.view.next_pin.max(after);
+        self.view.pins = pins.clone();
+        self.view.kept_pins = Some((path, pins));
     }
 
     /// Keep the pins in the store when they or the board's file changed since they were last kept.
@@ -240,20 +265,20 @@ impl App {
             return;
         }
         let Some(path) = self.doc.path.as_ref() else { return };
-        if self.kept_pins.as_ref().is_some_and(|(p, pins)| p == path && *pins == self.pins) {
+        if self.view.kept_pins.as_ref().is_some_and(|(p, pins)| p == path && *pins == self.view.pins) {
             return;
         }
         // A file saved under a new name starts with no pins kept; writing an empty list there is needless.
-        if self.pins.is_empty() && self.kept_pins.as_ref().is_none_or(|(p, _)| p != path) {
-            self.kept_pins = Some((path.clone(), Vec::new()));
+        if self.view.pins.is_empty() && self.view.kept_pins.as_ref().is_none_or(|(p, _)| p != path) {
+            self.view.kept_pins = Some((path.clone(), Vec::new()));
             return;
         }
-        match self.store.save_pins(path, &self.pins) {
-            Ok(()) => self.kept_pins = Some((path.clone(), self.pins.clone())),
+        match self.store.save_pins(path, &self.view.pins) {
+            Ok(()) => self.view.kept_pins = Some((path.clone(), self.view.pins.clone())),
             Err(e) => {
                 // Said once: the kept copy is updated so a failing store does not retry every frame.
-                self.status = Some((format!("Could not keep the pins: {e}"), true));
-                self.kept_pins = Some((path.clone(), self.pins.clone()));
+                self.status = Some(Status::error(format!("Could not keep the pins: {e}")));
+                self.view.kept_pins = Some((path.clone(), self.view.pins.clone()));
             }
         }
     }
@@ -270,7 +295,7 @@ impl App {
 
     /// Change where rails are seen from and which curves are drawn beside the main one.
     pub fn set_look(&mut self, look: super::results::Look) {
-        self.results.set_look(look);
+        self.view.results.set_look(look);
     }
 
     /// True when the board has changes not yet saved.
@@ -283,14 +308,19 @@ impl App {
         self.plot_rect
     }
 
+    /// What the status line says now, if anything.
+    pub fn status(&self) -> Option<&Status> {
+        self.status.as_ref()
+    }
+
     /// The selected rail's index.
     pub fn selected_rail(&self) -> usize {
-        self.selected_rail
+        self.view.selected_rail
     }
 
     /// The finding marked on the plot: (rail index, index in that rail's findings).
     pub fn selected_finding(&self) -> Option<(usize, usize)> {
-        self.selected_finding
+        self.view.selected_finding
     }
 
     /// The file the board is saved to, if any.
@@ -319,7 +349,7 @@ impl App {
                 let now = now_words(&before, &self.doc.board, "back to");
                 self.after_history(format!("Undone: {label}{now}"))
             }
-            None => self.status = Some(("Nothing to undo.".into(), false)),
+            None => self.status = Some(Status::info("Nothing to undo.")),
         }
     }
 
@@ -331,14 +361,14 @@ impl App {
                 let now = now_words(&before, &self.doc.board, "now");
                 self.after_history(format!("Redone: {label}{now}"))
             }
-            None => self.status = Some(("Nothing to redo.".into(), false)),
+            None => self.status = Some(Status::info("Nothing to redo.")),
         }
     }
 
     fn after_history(&mut self, message: String) {
         // Typed texts belonged to the values before; show the board's values again.
-        self.fields.clear();
-        self.status = Some((message, false));
+        self.view.fields.clear();
+        self.status = Some(Status::info(message));
     }
 
     /// Ask to open a file; asks first when there are unsaved changes.
@@ -373,17 +403,18 @@ impl App {
                 self.autosaved_revision = self.doc.history.revision();
                 self.prefs.add_recent(path);
                 self.save_prefs();
-                self.status = Some((format!("Opened {}.", path.display()), false));
+                self.status = Some(Status::info(format!("Opened {}.", path.display())));
             }
             Err(e) => {
-                self.status = Some((format!("Could not open {}; the current board is kept.", path.display()), true));
-                self.load_error = Some(e);
+                self.status =
+                    Some(Status::error(format!("Could not open {}; the current board is kept.", path.display())));
+                self.view.load_error = Some(e);
             }
         }
     }
 
     /// Put another document in the window (open, sample, restore, new) and reset every per-document view state
-    /// with it, in this one place: selections, typed texts, pins, plot views, suggestions, the yield shown.
+    /// with it, in this one place: the whole [`DocView`], and the search the suggest panel ran for the old board.
     pub(super) fn replace_document(
         &mut self,
         board: Board,
@@ -393,21 +424,8 @@ impl App {
         sha256: Option<String>,
     ) {
         self.doc = Document { board, path, label, history, sha256 };
-        self.results.clear();
+        self.view = DocView::new(self.view.results.look());
         self.suggest.forget();
-        self.map = Default::default();
-        self.fields.clear();
-        self.pins.clear();
-        self.home_views.clear();
-        self.reset_plot = false;
-        self.selected_rail = 0;
-        self.selected_finding = None;
-        self.scroll_to_finding = false;
-        self.selected_part = 0;
-        self.yield_shown = None;
-        self.pattern = None;
-        self.load_error = None;
-        self.path_prompt = None;
         self.restore_pins();
     }
 
@@ -424,7 +442,7 @@ impl App {
         match files::pick_save(self.doc.path.as_deref(), &self.doc.board.name) {
             Some(path) => self.save_to(&path),
             None => {
-                self.path_prompt = Some(super::exports::PathPrompt {
+                self.view.path_prompt = Some(super::exports::PathPrompt {
                     action: super::exports::FileAction::SaveBoard,
                     text: self
                         .doc
@@ -433,7 +451,7 @@ impl App {
                         .map(|p| p.display().to_string())
                         .unwrap_or_else(|| format!("{}.json", files::slug(&self.doc.board.name))),
                 });
-                self.status = Some((NO_FILE_CHOSEN.into(), false));
+                self.status = Some(Status::info(NO_FILE_CHOSEN));
                 false
             }
         }
@@ -450,11 +468,11 @@ impl App {
                 self.store.remove_autosave();
                 self.prefs.add_recent(path);
                 self.save_prefs();
-                self.status = Some((format!("Saved {}.", path.display()), false));
+                self.status = Some(Status::info(format!("Saved {}.", path.display())));
                 true
             }
             Err(e) => {
-                self.status = Some((e.lines().join("; "), true));
+                self.status = Some(Status::error(e.lines().join("; ")));
                 false
             }
         }
@@ -462,7 +480,7 @@ impl App {
 
     fn save_prefs(&mut self) {
         if let Err(e) = self.store.save_prefs(&self.prefs) {
-            self.status = Some((format!("Could not keep the preferences: {e}"), true));
+            self.status = Some(Status::error(format!("Could not keep the preferences: {e}")));
         }
     }
 
@@ -480,14 +498,16 @@ impl App {
             self.theme_applied = Some(self.prefs.dark);
         }
         self.handle_input(&ctx);
-        self.results.refresh(&self.doc.board);
-        if self.selected_rail >= self.doc.board.rails.len() {
-            self.selected_rail = self.doc.board.rails.len().saturating_sub(1);
+        // A report finished on its own thread is said on this frame's status line.
+        self.poll_report();
+        self.view.results.refresh(&self.doc.board);
+        if self.view.selected_rail >= self.doc.board.rails.len() {
+            self.view.selected_rail = self.doc.board.rails.len().saturating_sub(1);
         }
-        if let Some((r, i)) = self.selected_finding
-            && self.results.get(r).is_none_or(|res| i >= res.findings.len())
+        if let Some((r, i)) = self.view.selected_finding
+            && self.view.results.get(r).is_none_or(|res| i >= res.findings.len())
         {
-            self.selected_finding = None;
+            self.view.selected_finding = None;
         }
 
         egui::Panel::top("menu").show(ui, |ui| self.menu_bar(ui));
@@ -505,7 +525,7 @@ impl App {
             .size_range(330.0..=620.0)
             .show(ui, |ui| self.side_panel(ui));
         egui::CentralPanel::default().show(ui, |ui| {
-            if self.load_error.is_some() {
+            if self.view.load_error.is_some() {
                 self.load_error_box(ui);
             }
             self.rail_header(ui);
@@ -535,6 +555,15 @@ impl App {
         self.path_prompt_window(&ctx);
         self.import_window(&ctx);
         self.dialogs(&ctx);
+        // What the panels and menus asked for this frame lands here, once, after everything was drawn from one
+        // board; the next frame shows it.
+        if self.apply_commands() {
+            ctx.request_repaint();
+        }
+        if self.report_job.is_some() {
+            // Look for the report's outcome even if the user does nothing meanwhile.
+            ctx.request_repaint_after(std::time::Duration::from_millis(50));
+        }
         self.update_title(&ctx);
         self.autosave(&ctx);
         self.keep_pins();
@@ -544,7 +573,7 @@ impl App {
         // A file dropped onto the window opens (asking first if there are unsaved changes).
         let dropped: Vec<PathBuf> = ctx.input(|i| i.raw.dropped_files.iter().map(|f| f.path().to_path_buf()).collect());
         if let Some(path) = dropped.into_iter().next() {
-            self.request(Pending::Open(path));
+            self.ask(Command::Request(Pending::Open(path)));
         }
 
         // Shortcuts. While a text field has the keyboard, Ctrl+Z belongs to the field's own text.
@@ -561,18 +590,18 @@ impl App {
             (redo, redo_y, undo, open, save_as, save)
         });
         if redo || redo_y {
-            self.redo();
+            self.ask(Command::Redo);
         }
         if undo {
-            self.undo();
+            self.ask(Command::Undo);
         }
         if open {
-            self.request(Pending::OpenDialog);
+            self.ask(Command::Request(Pending::OpenDialog));
         }
         if save_as {
-            self.save_as();
+            self.ask(Command::SaveAs);
         } else if save {
-            self.save();
+            self.ask(Command::Save);
         }
 
         // Closing with unsaved changes asks first.
@@ -591,10 +620,10 @@ impl App {
             ui.menu_button("File", |ui| {
                 if ui.button("New board").clicked() {
                     ui.close();
-                    self.request(Pending::New);
+                    self.ask(Command::Request(Pending::New));
                 }
                 if ui.add(egui::Button::new("Open…").shortcut_text("Ctrl+O")).clicked() {
-                    self.request(Pending::OpenDialog);
+                    self.ask(Command::Request(Pending::OpenDialog));
                     ui.close();
                 }
                 ui.menu_button("Open recent", |ui| {
@@ -603,23 +632,23 @@ impl App {
                     }
                     for path in self.prefs.recent.clone() {
                         if ui.button(path.display().to_string()).clicked() {
-                            self.request(Pending::Open(path));
+                            self.ask(Command::Request(Pending::Open(path)));
                             ui.close();
                         }
                     }
                 });
                 if ui.button("Open the built-in sample").clicked() {
                     ui.close();
-                    self.open_sample();
+                    self.ask(Command::OpenSample);
                 }
                 ui.separator();
                 if ui.add(egui::Button::new("Save").shortcut_text("Ctrl+S")).clicked() {
                     ui.close();
-                    self.save();
+                    self.ask(Command::Save);
                 }
                 if ui.add(egui::Button::new("Save as…").shortcut_text("Ctrl+Shift+S")).clicked() {
                     ui.close();
-                    self.save_as();
+                    self.ask(Command::SaveAs);
                 }
                 ui.separator();
                 use super::exports::FileAction;
@@ -634,7 +663,7 @@ impl App {
                 ] {
                     if ui.button(words).clicked() {
                         ui.close();
-                        self.choose_file(action);
+                        self.ask(Command::ChooseFile(action));
                     }
                 }
                 ui.separator();
@@ -653,12 +682,12 @@ impl App {
                 let redo = self.doc.history.redo_label().map(|l| format!("Redo: {l}"));
                 let undo_button = egui::Button::new(undo.unwrap_or_else(|| "Undo".into())).shortcut_text("Ctrl+Z");
                 if ui.add_enabled(self.doc.history.undo_label().is_some(), undo_button).clicked() {
-                    self.undo();
+                    self.ask(Command::Undo);
                     ui.close();
                 }
                 let redo_button = egui::Button::new(redo.unwrap_or_else(|| "Redo".into())).shortcut_text("Ctrl+Y");
                 if ui.add_enabled(self.doc.history.redo_label().is_some(), redo_button).clicked() {
-                    self.redo();
+                    self.ask(Command::Redo);
                     ui.close();
                 }
             });
@@ -668,7 +697,7 @@ impl App {
                 if ui.radio_value(&mut dark, true, "Dark theme").clicked()
                     || ui.radio_value(&mut dark, false, "Light theme").clicked()
                 {
-                    self.set_dark(dark);
+                    self.ask(Command::SetDark(dark));
                 }
             });
             ui.menu_button("Tools", |ui| {
@@ -683,9 +712,9 @@ impl App {
         });
     }
 
-    fn open_sample(&mut self) {
+    pub(super) fn open_sample(&mut self) {
         if self.is_dirty() {
-            self.status = Some(("Save or undo the changes first: the sample would replace this board.".into(), true));
+            self.status = Some(Status::error("Save or undo the changes first: the sample would replace this board."));
             return;
         }
         if let Ok(board) = crate::samples::default_board() {
@@ -699,19 +728,13 @@ impl App {
         let pal = theme::palette(ui.visuals().dark_mode);
         ui.horizontal(|ui| {
             let dirty = if self.is_dirty() { "unsaved changes" } else { "saved" };
-            ui.label(RichText::new(format!("{} · {dirty}", self.doc.label)).small());
+            ui.label(format!("{} · {dirty}", self.doc.label));
             ui.separator();
             match &self.status {
-                Some((text, true)) => {
-                    ui.label(RichText::new(text).small().color(pal.fail));
-                }
-                Some((text, false)) => {
-                    ui.label(RichText::new(text).small());
-                }
+                Some(status) => status_line(ui, status, pal.fail),
                 None => {
                     ui.label(
                         RichText::new("A lumped, idealised model: check against the parts' data and a measurement.")
-                            .small()
                             .weak(),
                     );
                 }
@@ -720,7 +743,7 @@ impl App {
     }
 
     fn load_error_box(&mut self, ui: &mut Ui) {
-        let Some(err) = &self.load_error else { return };
+        let Some(err) = &self.view.load_error else { return };
         let pal = theme::palette(ui.visuals().dark_mode);
         let mut dismiss = false;
         egui::Frame::group(ui.style()).stroke(egui::Stroke::new(1.5, pal.fail)).show(ui, |ui| {
@@ -738,7 +761,7 @@ impl App {
             });
         });
         if dismiss {
-            self.load_error = None;
+            self.view.load_error = None;
         }
     }
 
@@ -814,9 +837,9 @@ impl App {
                 };
                 self.replace_document(board, left.origin.clone(), label, History::new_unsaved(), None);
                 self.store.forget_left_over(left);
-                self.status = Some(("Restored the unsaved work; save it to keep it.".into(), false));
+                self.status = Some(Status::info("Restored the unsaved work; save it to keep it."));
             }
-            Err(e) => self.load_error = Some(e),
+            Err(e) => self.view.load_error = Some(e),
         }
     }
 
@@ -842,7 +865,7 @@ impl App {
         self.last_autosave_s = now;
         self.autosaved_revision = revision;
         if let Err(e) = self.store.write_autosave(&self.doc.board, self.doc.path.as_deref()) {
-            self.status = Some((format!("Autosave failed: {e}"), true));
+            self.status = Some(Status::error(format!("Autosave failed: {e}")));
         }
     }
 }
@@ -910,6 +933,18 @@ pub(super) fn new_rail(name: &str) -> crate::model::Rail {
         decaps: Vec::new(),
         placement: None,
     }
+}
+
+/// The status line's message, drawn as its kind says: an error in the fail colour, work under way with a spinner.
+fn status_line(ui: &mut Ui, status: &Status, fail: egui::Color32) {
+    match status.kind {
+        StatusKind::Error => ui.label(RichText::new(&status.text).color(fail)),
+        StatusKind::Info => ui.label(&status.text),
+        StatusKind::Busy => {
+            ui.add(egui::Spinner::new());
+            ui.label(&status.text)
+        }
+    };
 }
 
 /// A modal question with three answers; the index of the one clicked this frame, if any.

@@ -6,24 +6,43 @@
 
 use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
-use crate::analysis::{DroopOptions, droop};
+use super::jobs::{Job, Poll};
+use super::status::Status;
+use crate::analysis::{DroopOptions, droop, plural};
 use crate::analysis::{log_grid, sweep_in};
 use crate::io::{
     AcSweep, ReportContext, SIZE_LIMITS, bill_of_materials, board_sha256, bom_csv, impedance_csv, impedance_png,
-    impedance_s1p, impedance_svg_titled, rail_netlist, report_html, utc_date_today, write_outputs, write_report,
+    impedance_s1p, impedance_svg_titled, rail_netlist, report_html, utc_date_today, write_outputs,
 };
 use crate::units::{Unit, format};
 use egui::Context;
 use std::path::{Path, PathBuf};
 
+/// The review report being written on its own thread: the droops of every rail take longer than a frame.
+#[derive(Debug)]
+pub struct ReportJob {
+    /// Where it goes.
+    pub path: PathBuf,
+    /// The board's revision it shows: edits made meanwhile are kept in the window and are not in the report.
+    pub revision: u64,
+    job: Job<Result<(), String>>,
+}
+
 impl App {
-    /// Write the review report of the board as it stands to `path`: the same document `hushrail report` writes
-    /// for the same board (with the droop of each rail). With unsaved edits the report says so prominently and
-    /// carries the hash of the board as shown (the file on disk is another board). Returns true when written;
-    /// the status line says.
+    /// Start writing the review report of the board as it stands to `path`, on its own thread: the same document
+    /// `hushrail report` writes for the same board (with the droop of each rail). The board is copied, so the
+    /// user may go on editing; the file is written atomically (whole or not at all). With unsaved edits the
+    /// report says so prominently and carries the hash of the board as shown (the file on disk is another
+    /// board). Returns false, with the reason on the status line, when a report is already being written.
     pub fn save_report_to(&mut self, path: &Path) -> bool {
-        let board = &self.doc.board;
-        let droops: Vec<_> = (0..board.rails.len()).map(|i| droop(board, i, &DroopOptions::default())).collect();
+        if let Some(running) = &self.report_job {
+            self.status = Some(Status::error(format!(
+                "The report {} is still being written; ask again when it is done.",
+                running.path.display()
+            )));
+            return false;
+        }
+        let board = self.doc.board.clone();
         let unsaved_edits = self.is_dirty();
         let (source, command) = match &self.doc.path {
             Some(p) => (
@@ -36,20 +55,68 @@ impl App {
         // on disk may have changed since, and the report names what it judged. Else of the board as shown.
         let sha256 = match (&self.doc.sha256, unsaved_edits) {
             (Some(read), false) => read.clone(),
-            _ => board_sha256(board),
+            _ => board_sha256(&board),
         };
         let context = ReportContext { source, sha256, command, date: utc_date_today(), unsaved_edits };
-        let html = report_html(board, &context, Some(&droops));
-        match write_report(path, &html) {
-            Ok(()) => {
-                self.status = Some((format!("Wrote the report {}.", path.display()), false));
-                true
-            }
-            Err(e) => {
-                self.status = Some((format!("{}: cannot write: {e}", path.display()), true));
-                false
-            }
+        let target = path.to_path_buf();
+        // Never over the board's own file; whole or not at all (io::write).
+        let input = self.doc.path.clone();
+        let job = Job::start("report", move || {
+            let droops: Vec<_> = (0..board.rails.len()).map(|i| droop(&board, i, &DroopOptions::default())).collect();
+            let html = report_html(&board, &context, Some(&droops));
+            let inputs: Vec<&Path> = input.iter().map(PathBuf::as_path).collect();
+            write_outputs(&[(&target, html.as_bytes())], &inputs)
+        });
+        let rails = self.doc.board.rails.len();
+        self.status = Some(Status::busy(format!(
+            "Writing the report {} (the step response of {})…",
+            path.display(),
+            plural(rails as u64, "rail", "rails")
+        )));
+        self.report_job = Some(ReportJob { path: path.to_path_buf(), revision: self.doc.history.revision(), job });
+        true
+    }
+
+    /// Take the report's outcome when it has come, and say it on the status line.
+    pub(super) fn poll_report(&mut self) {
+        let Some(running) = &mut self.report_job else { return };
+        let outcome = match running.job.poll() {
+            Poll::Running => return,
+            Poll::Done(outcome) => Some(outcome),
+            Poll::Lost => None,
+        };
+        if let Some(running) = self.report_job.take() {
+            self.report_done(&running.path, running.revision, outcome);
         }
+    }
+
+    /// Wait until the report being written (if any) is done, and say how it went: for tests and callers that
+    /// need the file now. Returns true when a report was written.
+    pub fn finish_report(&mut self) -> bool {
+        let Some(ReportJob { path, revision, job }) = self.report_job.take() else { return false };
+        self.report_done(&path, revision, job.wait())
+    }
+
+    /// True while the review report is being written.
+    pub fn is_writing_report(&self) -> bool {
+        self.report_job.is_some()
+    }
+
+    /// Say how the report went (`None`: its thread ended without an answer). Returns true when written.
+    fn report_done(&mut self, path: &Path, revision: u64, outcome: Option<Result<(), String>>) -> bool {
+        let outcome = outcome.unwrap_or_else(|| {
+            Err(format!("{}: the report could not be made (a bug: please report it)", path.display()))
+        });
+        let written = outcome.is_ok();
+        self.status = Some(match outcome {
+            Ok(()) if revision != self.doc.history.revision() => Status::info(format!(
+                "Wrote the report {}. It shows the board as it was when asked: the edits made since are not in it.",
+                path.display()
+            )),
+            Ok(()) => Status::info(format!("Wrote the report {}.", path.display())),
+            Err(e) => Status::error(e),
+        });
+        written
     }
 }
 
@@ -130,14 +197,14 @@ impl App {
             }
             None => {
                 let suggested = self.suggested_path(action);
-                self.path_prompt = Some(PathPrompt { action, text: suggested.display().to_string() });
-                self.status = Some((NO_FILE_CHOSEN.into(), false));
+                self.view.path_prompt = Some(PathPrompt { action, text: suggested.display().to_string() });
+                self.status = Some(Status::info(NO_FILE_CHOSEN));
             }
         }
     }
 
     fn export_suffix(&self, action: FileAction) -> String {
-        let rail = self.doc.board.rails.get(self.selected_rail).map_or("rail", |r| r.name.as_str()).to_string();
+        let rail = self.doc.board.rails.get(self.view.selected_rail).map_or("rail", |r| r.name.as_str()).to_string();
         match action {
             FileAction::Report => "-report".into(),
             FileAction::Bom => "-bom".into(),
@@ -170,17 +237,17 @@ impl App {
                     let inputs: Vec<&Path> = self.doc.path.iter().map(PathBuf::as_path).collect();
                     match write_outputs(&[(path, &bytes)], &inputs) {
                         Ok(()) => {
-                            self.status = Some((format!("Wrote {}.", path.display()), false));
+                            self.status = Some(Status::info(format!("Wrote {}.", path.display())));
                             true
                         }
                         Err(e) => {
-                            self.status = Some((e, true));
+                            self.status = Some(Status::error(e));
                             false
                         }
                     }
                 }
                 Err(e) => {
-                    self.status = Some((format!("{}: {e}", path.display()), true));
+                    self.status = Some(Status::error(format!("{}: {e}", path.display())));
                     false
                 }
             },
@@ -194,9 +261,9 @@ impl App {
         if action == FileAction::Bom {
             return Ok(bom_csv(&bill_of_materials(board)).into_bytes());
         }
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
         let rail = board.rails.get(index).ok_or("there is no rail to export")?;
-        let result = self.results.get(index).ok_or("this rail cannot be analysed")?;
+        let result = self.view.results.get(index).ok_or("this rail cannot be analysed")?;
         let a = &result.analysis;
         let (from, to) = crate::io::plot_range_hz(a.band_hz);
         let points = ((to / from).log10() * EXPORT_PER_DECADE as f64).round() as usize + 1;
@@ -237,7 +304,7 @@ impl App {
 
     /// The window's own path field, when a file dialog gave no answer.
     pub(super) fn path_prompt_window(&mut self, ctx: &Context) {
-        let Some(prompt) = self.path_prompt.as_mut() else { return };
+        let Some(prompt) = self.view.path_prompt.as_mut() else { return };
         let (what, _) = prompt.action.kind();
         let mut go = false;
         let mut cancel = false;
@@ -268,12 +335,12 @@ impl App {
             },
         );
         if cancel {
-            self.path_prompt = None;
+            self.view.path_prompt = None;
         } else if go {
             let action = prompt.action;
             let path = PathBuf::from(prompt.text.trim());
             if self.file_action(action, &path) {
-                self.path_prompt = None;
+                self.view.path_prompt = None;
             }
         }
     }

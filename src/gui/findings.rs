@@ -52,13 +52,14 @@ fn finding_row(
 impl App {
     pub(super) fn findings_panel(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
-        let rail_count = self.results.get(self.selected_rail).map_or(0, |r| r.findings.len());
+        let rail_count = self.view.results.get(self.view.selected_rail).map_or(0, |r| r.findings.len());
         let board_count: usize =
-            (0..self.doc.board.rails.len()).map(|i| self.results.get(i).map_or(0, |r| r.findings.len())).sum();
+            (0..self.doc.board.rails.len()).map(|i| self.view.results.get(i).map_or(0, |r| r.findings.len())).sum();
         // Every rail's cautions, from its check: (rail, caution).
         let cautions: Vec<(usize, Caution)> = (0..self.doc.board.rails.len())
             .flat_map(|r| {
-                self.results
+                self.view
+                    .results
                     .get(r)
                     .map(|res| res.check.cautions.clone())
                     .unwrap_or_default()
@@ -83,7 +84,7 @@ impl App {
         egui::ScrollArea::vertical().id_salt("findings-scroll").auto_shrink([false, false]).show(ui, |ui| {
             match self.findings_tab {
                 FindingsTab::Rail => {
-                    let Some(result) = self.results.get(self.selected_rail).cloned() else { return };
+                    let Some(result) = self.view.results.get(self.view.selected_rail).cloned() else { return };
                     if result.findings.is_empty() {
                         let words = if result.check.passes {
                             "Nothing to look at: the rail meets its target with no anti-resonance inside the band."
@@ -93,27 +94,27 @@ impl App {
                         ui.label(words);
                     }
                     for (i, f) in result.findings.iter().enumerate() {
-                        let selected = self.selected_finding == Some((self.selected_rail, i));
+                        let selected = self.view.selected_finding == Some((self.view.selected_rail, i));
                         if finding_row(
                             ui,
-                            egui::Id::unique(("finding", self.selected_rail, i)),
-                            self.scroll_to_finding,
+                            egui::Id::unique(("finding", self.view.selected_rail, i)),
+                            self.view.scroll_to_finding,
                             &pal,
                             f,
                             selected,
                             None,
                         ) {
-                            clicked = Some((self.selected_rail, i));
+                            clicked = Some((self.view.selected_rail, i));
                         }
                     }
                     // Failing cautions are among the findings above; the others are reminders.
-                    for (_, c) in cautions.iter().filter(|(r, c)| *r == self.selected_rail && !c.fails) {
+                    for (_, c) in cautions.iter().filter(|(r, c)| *r == self.view.selected_rail && !c.fails) {
                         ui.label(RichText::new(format!("Caution: {}", c.text)).color(pal.note));
                     }
                 }
                 FindingsTab::Board => {
                     for r in 0..self.doc.board.rails.len() {
-                        let Some(result) = self.results.get(r).cloned() else { continue };
+                        let Some(result) = self.view.results.get(r).cloned() else { continue };
                         let name = self.doc.board.rails[r].name.clone();
                         let (fails, notes) = self.finding_counts(r);
                         let color = if result.check.passes { pal.ok } else { pal.fail };
@@ -123,11 +124,11 @@ impl App {
                                 .color(color),
                         );
                         for (i, f) in result.findings.iter().enumerate() {
-                            let selected = self.selected_finding == Some((r, i));
+                            let selected = self.view.selected_finding == Some((r, i));
                             if finding_row(
                                 ui,
                                 egui::Id::unique(("board-finding", r, i)),
-                                self.scroll_to_finding,
+                                self.view.scroll_to_finding,
                                 &pal,
                                 f,
                                 selected,
@@ -151,7 +152,7 @@ impl App {
                 }
             }
         });
-        self.scroll_to_finding = false;
+        self.view.scroll_to_finding = false;
         if let Some((r, i)) = clicked {
             self.toggle_finding(r, i);
         }

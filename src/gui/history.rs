@@ -92,6 +92,14 @@ impl Edit {
         Ok(inverse)
     }
 
+    /// Whether this edit would land on `board`, leaving `board` as it is: the problems if it would be refused.
+    pub fn check(&self, board: &Board) -> Result<(), Refusal> {
+        let mut next = board.clone();
+        self.apply_unchecked(&mut next)?;
+        let problems = validate_board(&next);
+        if problems.is_empty() { Ok(()) } else { Err(problems) }
+    }
+
     /// Apply without the board's rules (they are checked by [`Edit::apply`] on the result).
     fn apply_unchecked(&self, board: &mut Board) -> Result<Edit, Refusal> {
         match self {

@@ -1,17 +1,20 @@
 //! The planner window (eframe/egui): every rail at a glance, the selected rail's |Z(f)| against its target, its
 //! inputs, the board's parts, the findings and pins.
 //!
-//! One file per panel; every change to the board goes through [`history`]; every figure comes from `analysis`
-//! through [`results`]. The window's state ([`App`]) is plain data that tests drive without a window.
+//! One file per panel; panels queue [`commands`], and every change to the board goes through [`history`]; every
+//! figure comes from `analysis` through [`results`]; work longer than a frame runs as a [`jobs::Job`]. The
+//! window's state ([`App`]) is plain data that tests drive without a window.
 
 mod app;
 mod board_map;
+pub mod commands;
 mod coupling_tool;
 mod exports;
 pub mod files;
 mod findings;
 mod help;
 pub mod history;
+pub mod jobs;
 mod load_choice;
 pub mod number_field;
 mod parts_table;
@@ -20,14 +23,17 @@ mod plot;
 mod rail_editor;
 mod rails_list;
 pub mod results;
+pub mod status;
 pub mod suggest_panel;
 pub mod theme;
 mod time_view;
 
-pub use app::{App, CentralTab, Document, FindingsTab, Pending, SideTab};
+pub use app::{App, CentralTab, DocView, Document, FindingsTab, Pending, SideTab};
+pub use commands::Command;
 pub use exports::{FileAction, PathPrompt};
 pub use pins::Pin;
 pub use plot::{log_label, log_marks};
+pub use status::{Status, StatusKind};
 pub use time_view::droop_lines;
 
 use std::path::PathBuf;

@@ -1,7 +1,8 @@
 //! The board's parts: a table to pick one, and the picked part's fields below it. Add, duplicate and remove; a
 //! part that groups still use is not removed, and the groups are named.
 
-use super::app::{App, Document};
+use super::app::App;
+use super::commands::{Command, Draft};
 use super::history::{Edit, part_users};
 use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
 use super::theme;
@@ -14,9 +15,9 @@ fn new_part(id: String) -> Part {
     Part::new(id, PartKind::Ceramic, 100e-9, 0.02, 0.4e-9)
 }
 
-/// Replace part `at` with a changed copy, through the history.
+/// Ask to replace part `at` with a changed copy (applied with the frame's commands).
 fn set_part(
-    doc: &mut Document,
+    doc: &mut Draft,
     at: usize,
     key: &str,
     label: String,
@@ -24,16 +25,14 @@ fn set_part(
 ) -> Result<(), String> {
     let Some(mut part) = doc.board.parts.get(at).cloned() else { return Err("no such part".into()) };
     change(&mut part);
-    doc.history
-        .apply(&mut doc.board, Edit::SetPart { at, value: Box::new(part) }, label, false)
-        .map_err(|p| refusal_text(key, &p))
+    doc.propose(Edit::SetPart { at, value: Box::new(part) }, label, false, Some(key)).map_err(|p| refusal_text(key, &p))
 }
 
 /// An id not used yet, built from `base`.
-fn free_id(doc: &Document, base: &str) -> String {
+fn free_id(board: &crate::model::Board, base: &str) -> String {
     (1..)
         .map(|n| if n == 1 { base.to_string() } else { format!("{base}-{n}") })
-        .find(|id| doc.board.part(id).is_none())
+        .find(|id| board.part(id).is_none())
         .unwrap_or_default()
 }
 
@@ -47,23 +46,22 @@ impl App {
     pub(super) fn parts_table(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
         let n = self.doc.board.parts.len();
-        if self.selected_part >= n {
-            self.selected_part = n.saturating_sub(1);
+        if self.view.selected_part >= n {
+            self.view.selected_part = n.saturating_sub(1);
         }
         ui.horizontal(|ui| {
             let l = ui.label("Board name");
-            let (fields, doc) = (&mut self.fields, &mut self.doc);
+            let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
             let old = doc.board.name.clone();
             text_field(ui, fields, "name", l.id, &old, 220.0, |t| {
                 let name = t.trim().to_string();
-                doc.history
-                    .apply(
-                        &mut doc.board,
-                        Edit::SetBoardName { name: name.clone() },
-                        format!("rename board to {name}"),
-                        false,
-                    )
-                    .map_err(|p| refusal_text("name", &p))
+                doc.propose(
+                    Edit::SetBoardName { name: name.clone() },
+                    format!("rename board to {name}"),
+                    false,
+                    Some("name"),
+                )
+                .map_err(|p| refusal_text("name", &p))
             });
         });
         self.board_settings(ui, pal.fail);
@@ -77,10 +75,10 @@ impl App {
             for (pi, part) in self.doc.board.parts.iter().enumerate() {
                 let used = self.doc.board.uses_of_part(&part.id).len();
                 let r = ui
-                    .selectable_label(pi == self.selected_part, &part.id)
+                    .selectable_label(pi == self.view.selected_part, &part.id)
                     .on_hover_text(format!("used by {used} {}", if used == 1 { "group" } else { "groups" }));
                 if r.clicked() {
-                    self.selected_part = pi;
+                    self.view.selected_part = pi;
                 }
                 ui.label(part.kind.name());
                 if let Some(why) = part.unusable() {
@@ -100,37 +98,42 @@ impl App {
         ui.add_space(4.0);
         ui.horizontal(|ui| {
             if ui.button("Add part").clicked() {
-                let id = free_id(&self.doc, "new-part");
+                let id = free_id(&self.doc.board, "new-part");
                 let at = n;
                 if self
-                    .edit(Edit::AddPart { at, value: Box::new(new_part(id.clone())) }, format!("add part {id}"), false)
+                    .propose(
+                        Edit::AddPart { at, value: Box::new(new_part(id.clone())) },
+                        format!("add part {id}"),
+                        false,
+                        None,
+                    )
                     .is_ok()
                 {
-                    self.selected_part = at;
+                    self.ask(Command::SelectPart(at));
                 }
             }
             if n > 0 && ui.button("Duplicate").clicked() {
-                let mut copy = self.doc.board.parts[self.selected_part].clone();
-                copy.id = free_id(&self.doc, &format!("{}-copy", copy.id));
-                let at = self.selected_part + 1;
+                let mut copy = self.doc.board.parts[self.view.selected_part].clone();
+                copy.id = free_id(&self.doc.board, &format!("{}-copy", copy.id));
+                let at = self.view.selected_part + 1;
                 let label = format!("duplicate part as {}", copy.id);
-                if self.edit(Edit::AddPart { at, value: Box::new(copy) }, label, false).is_ok() {
-                    self.selected_part = at;
+                if self.propose(Edit::AddPart { at, value: Box::new(copy) }, label, false, None).is_ok() {
+                    self.ask(Command::SelectPart(at));
                 }
             }
             if n > 0 && ui.button("Remove part").clicked() {
-                let at = self.selected_part;
+                let at = self.view.selected_part;
                 let key = format!("parts[{at}]");
                 let id = self.doc.board.parts[at].id.clone();
                 let result = self
-                    .edit(Edit::RemovePart { at }, format!("remove part {id}"), false)
+                    .propose(Edit::RemovePart { at }, format!("remove part {id}"), false, Some(&key))
                     .map_err(|p| refusal_text(&key, &p));
                 self.report(&key, result);
             }
         });
-        let at = self.selected_part;
+        let at = self.view.selected_part;
         let key = format!("parts[{at}]");
-        if let Some(reason) = self.fields.error(&key) {
+        if let Some(reason) = self.view.fields.error(&key) {
             ui.label(RichText::new(format!("Refused: {reason}")).color(pal.fail));
         }
         let Some(part) = self.doc.board.parts.get(at).cloned() else { return };
@@ -148,7 +151,7 @@ impl App {
                     .color(pal.note),
             );
         }
-        let (fields, doc) = (&mut self.fields, &mut self.doc);
+        let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
         egui::Grid::new(("part-fields", at)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
             let l = ui.label("Id");
             let k = format!("{key}.id");
@@ -331,7 +334,7 @@ impl App {
         egui::CollapsingHeader::new(RichText::new("Board temperature and derating").strong())
             .id_salt("board-settings")
             .show(ui, |ui| {
-                let (fields, doc) = (&mut self.fields, &mut self.doc);
+                let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
                 let range = board.temperature_c;
                 egui::Grid::new("board-temperature").num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
                     for (n, label) in ["Lowest °C", "Highest °C"].into_iter().enumerate() {
@@ -348,8 +351,7 @@ impl App {
                                 // A first edge typed: the other starts at room temperature (25 °C).
                                 (Some(v), None) => Some(if n == 0 { [v, 25.0] } else { [25.0, v] }),
                             };
-                            doc.history
-                                .apply(&mut doc.board, Edit::SetBoard { value: Box::new(next) }, "board temperature", false)
+                            doc.propose(Edit::SetBoard { value: Box::new(next) }, "board temperature".into(), false, Some(&key))
                                 .map_err(|p| refusal_text(&key, &p))
                         });
                         ui.end_row();
@@ -370,11 +372,16 @@ impl App {
                     next.generic_dc_bias = Some(generic);
                     let words = if generic { "use" } else { "turn off" };
                     let result = self
-                        .edit(Edit::SetBoard { value: Box::new(next) }, format!("{words} the generic DC-bias model"), false)
+                        .propose(
+                            Edit::SetBoard { value: Box::new(next) },
+                            format!("{words} the generic DC-bias model"),
+                            false,
+                            Some("generic_dc_bias"),
+                        )
                         .map_err(|p| refusal_text("generic_dc_bias", &p));
                     self.report("generic_dc_bias", result);
                 }
-                if let Some(reason) = self.fields.error("generic_dc_bias") {
+                if let Some(reason) = self.view.fields.error("generic_dc_bias") {
                     ui.label(RichText::new(reason).color(fail));
                 }
                 ui.label(
@@ -390,7 +397,7 @@ impl App {
 fn part_number(
     ui: &mut Ui,
     fields: &mut Fields,
-    doc: &mut Document,
+    doc: &mut Draft,
     at: usize,
     part: &Part,
     label: &str,

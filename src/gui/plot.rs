@@ -5,6 +5,7 @@
 //! markers and the figures all come from `analysis` through [`super::results`].
 
 use super::app::{App, CentralTab};
+use super::jobs::{Job, Poll};
 use super::load_choice::load_choice;
 use super::results::RailResult;
 use super::theme;
@@ -174,8 +175,8 @@ impl App {
     /// caution that fails the rail) and the figures of the extra curves the user asked for.
     pub(super) fn rail_header(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
-        let Some(rail) = self.doc.board.rails.get(self.selected_rail).cloned() else { return };
-        let Some(result) = self.results.get(self.selected_rail).cloned() else {
+        let Some(rail) = self.doc.board.rails.get(self.view.selected_rail).cloned() else { return };
+        let Some(result) = self.view.results.get(self.view.selected_rail).cloned() else {
             ui.label(RichText::new(format!("{}: cannot be analysed", rail.name)).color(pal.fail));
             return;
         };
@@ -184,24 +185,34 @@ impl App {
         let color = if check.passes { pal.ok } else { pal.fail };
         ui.horizontal_wrapped(|ui| {
             ui.spacing_mut().item_spacing.x = 6.0;
-            ui.label(RichText::new(&rail.name).heading().strong());
+            // Each piece whole: where the line is too narrow a piece moves down, never splits in two.
+            let piece = |ui: &mut Ui, text: RichText| ui.add(egui::Label::new(text).extend());
+            piece(ui, RichText::new(&rail.name).heading().strong());
             // The check's own sentence on hover: the header stays one line.
-            ui.label(RichText::new(format!("{} the check", check.word())).heading().color(color))
+            piece(ui, RichText::new(format!("{} the check", check.word())).heading().color(color))
                 .on_hover_text(check.verdict_line());
-            ui.label(RichText::new(format!("margin {:+.1} dB", check.verdict.margin_db)).strong().color(color));
-            ui.label(format!("worst |Z| {} at {}", format(a.worst_ohm, Unit::Ohm), format(a.worst_hz, Unit::Hertz)));
-            ui.label(format!("({:.2}× target)", a.worst_ohm / a.target_ohm));
-            ui.label(RichText::new(format!("{} corner", check.verdict.corner.name())).weak())
+            piece(ui, RichText::new(format!("margin {:+.1} dB", check.verdict.margin_db)).strong().color(color));
+            piece(
+                ui,
+                RichText::new(format!(
+                    "worst |Z| {} at {}",
+                    format(a.worst_ohm, Unit::Ohm),
+                    format(a.worst_hz, Unit::Hertz)
+                )),
+            );
+            piece(ui, RichText::new(format!("({:.2}× target)", a.worst_ohm / a.target_ohm)));
+            piece(ui, RichText::new(format!("{} corner", check.verdict.corner.name())).weak())
                 .on_hover_text(check.verdict.corner.words());
             if a.view == View::Die {
                 // With a package the verdict is taken at the die, as the check takes it; say so.
                 ui.label(RichText::new("seen at the die, through the package").weak());
             } else if rail.package.is_some() {
+                // Long: this one may wrap inside itself where the column is narrow.
                 ui.label(RichText::new("seen at the board node (the check takes the verdict at the die)").weak());
             }
         });
         // A placed rail: the shown load's own verdict line (the rail's is its worst load's), as `check` words it.
-        let shown_load = self.results.look().load.or_else(|| worst_load(&check.loads));
+        let shown_load = self.view.results.look().load.or_else(|| worst_load(&check.loads));
         if let Some(l) = shown_load.and_then(|k| check.loads.get(k)) {
             let color = if l.meets_target { pal.ok } else { pal.fail };
             ui.label(RichText::new(load_line(l, check.verdict.target_ohm)).small().color(color));
@@ -240,14 +251,14 @@ impl App {
                 ui.label(RichText::new(parts.join(" · ")).small().weak());
             }
         }
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
         if let Some((_, _, y)) =
-            self.yield_shown.as_ref().filter(|(i, board, _)| *i == index && *board == self.doc.board)
+            self.view.yield_shown.as_ref().filter(|(i, board, _)| *i == index && *board == self.doc.board)
         {
             let color = if y.meeting == y.samples { pal.ok } else { pal.note };
             ui.label(RichText::new(format!("yield: {}", yield_words(y))).small().color(color));
         }
-        if let Some(pin) = self.pins.iter().rev().find(|p| p.visible && p.rail == rail.name) {
+        if let Some(pin) = self.view.pins.iter().rev().find(|p| p.visible && p.rail == rail.name) {
             let change_db = 20.0 * (pin.worst_ohm / a.worst_ohm).log10();
             // Shown to one decimal: a change that rounds to 0.0 dB is "no change", not "0.0 dB better".
             let change = if change_db.abs() < 0.05 {
@@ -274,17 +285,17 @@ impl App {
 
     /// One row of choices above the plot: which view, pin, extra curves, where the rail is seen from, the yield.
     pub(super) fn options_row(&mut self, ui: &mut Ui) {
-        let has_package = self.doc.board.rails.get(self.selected_rail).is_some_and(|r| r.package.is_some());
-        let mut look = self.results.look();
+        let has_package = self.doc.board.rails.get(self.view.selected_rail).is_some_and(|r| r.package.is_some());
+        let mut look = self.view.results.look();
+        // The tabs, the curve options and the yield on one line (wrapped only in a narrow window); a placed rail's
+        // load and a packaged rail's view on a line of their own, so nothing moves when a rail gains one.
         ui.horizontal_wrapped(|ui| {
-            ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong());
-            ui.selectable_value(
-                &mut self.central_tab,
-                CentralTab::Time,
-                RichText::new("Voltage after a load step").strong(),
-            );
+            ui.selectable_value(&mut self.central_tab, CentralTab::Impedance, RichText::new("Impedance").strong())
+                .on_hover_text("|Z(f)| against the target");
+            ui.selectable_value(&mut self.central_tab, CentralTab::Time, RichText::new("Load step").strong())
+                .on_hover_text("The voltage after a load step, and the worst-case on/off pattern");
             ui.selectable_value(&mut self.central_tab, CentralTab::Map, RichText::new("Board map").strong())
-                .on_hover_text("Where the rail's parts sit on its plane pair, beside its impedance");
+                .on_hover_text("Where a placed rail's parts sit on its plane pair, beside its impedance");
             ui.separator();
             if self.central_tab != CentralTab::Time {
                 if ui
@@ -294,37 +305,58 @@ impl App {
                 {
                     self.pin_current();
                 }
-                ui.checkbox(&mut self.show_group_curves, "each group's curve");
+                ui.checkbox(&mut self.show_group_curves, "each group")
+                    .on_hover_text("Draw each group's own |Z| in its own colour, named in the legend");
             }
-            ui.checkbox(&mut look.worst_corner, "worst corner too").on_hover_text(Corner::Worst.words());
-            if let Some(rail) = self.doc.board.rails.get(self.selected_rail).filter(|r| r.placement.is_some()) {
-                // A placed rail: which load's effective impedance the plot shows.
-                ui.separator();
-                load_choice(ui, "plot-load", "at load", rail, "the worst (the verdict's)", &mut look.load);
-            }
-            if has_package {
-                ui.separator();
-                ui.label("seen from");
-                ui.radio_value(&mut look.view, None, "the die (the verdict's view)");
-                ui.radio_value(&mut look.view, Some(View::Board), "the board node");
-                ui.checkbox(&mut look.both_views, "draw both");
-            }
+            ui.checkbox(&mut look.worst_corner, "worst corner")
+                .on_hover_text(format!("Also draw the worst corner's curve: {}", Corner::Worst.words()));
             ui.separator();
             self.yield_button(ui);
         });
-        if look != self.results.look() {
-            self.results.set_look(look);
-            self.results.refresh(&self.doc.board);
+        let placed = self.doc.board.rails.get(self.view.selected_rail).filter(|r| r.placement.is_some());
+        if placed.is_some() || has_package {
+            ui.horizontal_wrapped(|ui| {
+                if let Some(rail) = placed {
+                    // A placed rail: which load's effective impedance the plot shows.
+                    load_choice(ui, "plot-load", "at load", rail, "the worst (the verdict's)", &mut look.load);
+                }
+                if has_package {
+                    ui.label("seen from");
+                    ui.radio_value(&mut look.view, None, "the die (the verdict's view)");
+                    ui.radio_value(&mut look.view, Some(View::Board), "the board node");
+                    ui.checkbox(&mut look.both_views, "draw both");
+                }
+            });
+        }
+        if look != self.view.results.look() {
+            self.view.results.set_look(look);
+            self.view.results.refresh(&self.doc.board);
         }
         if self.central_tab != CentralTab::Time {
             self.pins_bar(ui);
         }
     }
 
-    /// The button that draws random boards within the parts' tolerances; the answer shows under the header
-    /// while the board stays as it was.
+    /// The button that draws random boards within the parts' tolerances (on a [`Job`]: ten thousand boards take
+    /// about half a second); the answer shows under the header while the board stays as it was.
     fn yield_button(&mut self, ui: &mut Ui) {
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
+        let polled = self.view.yield_job.as_mut().map(|(_, _, job)| job.poll());
+        match polled {
+            Some(Poll::Running) => {
+                ui.add(egui::Spinner::new());
+                ui.label(format!("drawing {YIELD_SAMPLES} boards…"));
+                ui.ctx().request_repaint_after(std::time::Duration::from_millis(50));
+                return;
+            }
+            Some(Poll::Done(answer)) => {
+                if let (Some((rail, board, _)), Some(y)) = (self.view.yield_job.take(), answer) {
+                    self.view.yield_shown = Some((rail, board, y));
+                }
+            }
+            Some(Poll::Lost) => self.view.yield_job = None,
+            None => {}
+        }
         if ui
             .small_button("Estimate yield")
             .on_hover_text(format!(
@@ -332,25 +364,23 @@ impl App {
                  tolerances (one draw per group: its parts come from one reel), and count the boards that meet target"
             ))
             .clicked()
-            && let Some(y) = crate::analysis::yield_estimate(
-                &self.doc.board,
-                index,
-                self.results.get(index).map_or(View::Board, |r| r.verdict().view),
-                super::results::BAND_POINTS,
-                YIELD_SAMPLES,
-                crate::analysis::DEFAULT_SEED,
-                2,
-            )
         {
-            self.yield_shown = Some((index, self.doc.board.clone(), y));
+            let view = self.view.results.get(index).map_or(View::Board, |r| r.verdict().view);
+            let board = self.doc.board.clone();
+            let drawn = board.clone();
+            let job = Job::start("yield", move || {
+                let (points, seed) = (super::results::BAND_POINTS, crate::analysis::DEFAULT_SEED);
+                crate::analysis::yield_estimate(&drawn, index, view, points, YIELD_SAMPLES, seed, 2)
+            });
+            self.view.yield_job = Some((index, board, job));
         }
     }
 
     /// The plot itself.
     pub(super) fn plot(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
-        let index = self.selected_rail;
-        let Some(result) = self.results.get(index).cloned() else { return };
+        let index = self.view.selected_rail;
+        let Some(result) = self.view.results.get(index).cloned() else { return };
         let Some(rail) = self.doc.board.rails.get(index) else { return };
         let a = &result.analysis;
         let p = &result.plot;
@@ -358,28 +388,29 @@ impl App {
         let (b0, b1) = (a.band_hz[0].log10(), a.band_hz[1].log10());
         let (v0, v1) = (p.view_hz[0].log10(), p.view_hz[1].log10());
         // Beside the board map with its field shown: the field's frequency on the plot.
-        let field_hz =
-            (self.central_tab == CentralTab::Map && self.map.field_on).then(|| self.map.field_hz.unwrap_or(a.worst_hz));
+        let field_hz = (self.central_tab == CentralTab::Map && self.view.map.field_on)
+            .then(|| self.view.map.field_hz.unwrap_or(a.worst_hz));
         // The view to start from and to come back to on a double-click. It is taken once per rail (and again
         // when the band changes or the user double-clicks), not every frame, so that the view stands still
         // while counts are dragged and the curve moves inside it.
-        let home = match self.home_views.get(&index) {
+        let home = match self.view.home_views.get(&index) {
             Some(h) if h.band == a.band_hz => *h,
             _ => {
                 let y = home_y_with(p.home_y, t, a.worst_ohm.log10(), &a.antiresonances);
                 let h = HomeView { band: a.band_hz, x: [v0, v1], y };
-                self.home_views.insert(index, h);
+                self.view.home_views.insert(index, h);
                 h
             }
         };
-        let selected = self.selected_finding.filter(|(r, _)| *r == index).and_then(|(_, i)| result.findings.get(i));
-        let pins: Vec<_> = self.pins.iter().filter(|p| p.visible && p.rail == rail.name).cloned().collect();
+        let selected =
+            self.view.selected_finding.filter(|(r, _)| *r == index).and_then(|(_, i)| result.findings.get(i));
+        let pins: Vec<_> = self.view.pins.iter().filter(|p| p.visible && p.rail == rail.name).cloned().collect();
         let show_groups = self.show_group_curves;
         let hover_result = result.clone();
 
         // On a placed rail the curve is a load's effective impedance (its own and the other loads' steps through
         // the planes, over the rail's step).
-        let total_name = match (&rail.placement, self.results.look().load.and_then(|k| rail.loads.get(k))) {
+        let total_name = match (&rail.placement, self.view.results.look().load.and_then(|k| rail.loads.get(k))) {
             (Some(_), Some(load)) => format!("effective |Z| at {}", load.name),
             (Some(_), None) => {
                 let worst = worst_load(&result.check.loads).and_then(|k| result.check.loads.get(k));
@@ -390,14 +421,14 @@ impl App {
         let hover_name = total_name.clone();
         let dark = ui.visuals().dark_mode;
         let group_colors = theme::group_colors(dark);
-        let reset = std::mem::take(&mut self.reset_plot);
+        let reset = std::mem::take(&mut self.view.reset_plot);
         let mut plot = Plot::new(("impedance", index))
             // The double-click is ours: egui_plot's own would fit every item, the shading's tall columns included.
             .allow_double_click_reset(false)
             .legend(
                 egui_plot::Legend::default()
                     .position(egui_plot::Corner::LeftTop)
-                    .text_style(egui::TextStyle::Body)
+                    .text_style(egui::TextStyle::Small)
                     .background_alpha(0.85)
                     .follow_insertion_order(true),
             )
@@ -514,34 +545,34 @@ impl App {
                 let [lo, hi] = fi.range_hz;
                 (f >= lo && f <= hi) || (f / lo).log10().abs() < 0.03 || (f / hi).log10().abs() < 0.03
             });
-            self.selected_finding = hit.map(|i| (index, i));
-            self.scroll_to_finding = hit.is_some();
+            self.view.selected_finding = hit.map(|i| (index, i));
+            self.view.scroll_to_finding = hit.is_some();
             // Beside the board map, a click also chooses the frequency of the plane's voltage.
             if self.central_tab == CentralTab::Map {
-                self.map.set_field_hz(f);
+                self.view.map.set_field_hz(f);
             }
         }
         if shown.response.double_clicked() {
             // Take a fresh home view from the curve as it is now and go there on the next frame.
-            self.home_views.remove(&index);
-            self.reset_plot = true;
+            self.view.home_views.remove(&index);
+            self.view.reset_plot = true;
             ui.ctx().request_repaint();
         }
     }
 
     /// Select a finding (or clear the selection when it is selected already).
     pub(super) fn toggle_finding(&mut self, rail: usize, index: usize) {
-        if self.selected_finding == Some((rail, index)) {
-            self.selected_finding = None;
+        if self.view.selected_finding == Some((rail, index)) {
+            self.view.selected_finding = None;
         } else {
-            self.selected_rail = rail;
-            self.selected_finding = Some((rail, index));
+            self.view.selected_rail = rail;
+            self.view.selected_finding = Some((rail, index));
         }
     }
 
     /// How many failing and noted findings a rail has.
     pub(super) fn finding_counts(&self, rail: usize) -> (usize, usize) {
-        self.results.get(rail).map_or((0, 0), |r| {
+        self.view.results.get(rail).map_or((0, 0), |r| {
             let fails = r.findings.iter().filter(|f| f.severity == Severity::Fail).count();
             (fails, r.findings.len() - fails)
         })

@@ -1,7 +1,8 @@
 //! The selected rail's inputs, all editable: name, voltage, ripple, band, source, plane, loads and decap groups.
 //! Every change becomes one [`Edit`] through the history; a refused change shows its reason at the field.
 
-use super::app::{App, Document, SideTab};
+use super::app::{App, SideTab};
+use super::commands::Draft;
 use super::history::Edit;
 use super::number_field::{Fields, number_field, optional_number_field, refusal_text, text_field};
 use super::theme;
@@ -29,10 +30,12 @@ const NEW_PACKAGE: Package = Package { r_ohm: 1e-3, l_h: 50e-12 };
 const NEW_DIE: Die = Die { capacitance_f: 100e-9, esr_ohm: 1e-3 };
 /// Width of a number field.
 const FIELD_W: f32 = 96.0;
+/// Width a group's count and mounting take on one line (points, measured in the body font).
+const COUNT_AND_MOUNTING_W: f32 = 350.0;
 
-/// Replace rail `index` with a changed copy, through the history. The error names what went wrong at `key`.
+/// Ask to replace rail `index` with a changed copy (applied with the frame's commands). The error names what went wrong at `key`.
 fn set_rail(
-    doc: &mut Document,
+    doc: &mut Draft,
     index: usize,
     key: &str,
     label: String,
@@ -40,8 +43,7 @@ fn set_rail(
 ) -> Result<(), String> {
     let Some(mut rail) = doc.board.rails.get(index).cloned() else { return Err("no such rail".into()) };
     change(&mut rail);
-    doc.history
-        .apply(&mut doc.board, Edit::SetRail { rail: index, value: Box::new(rail) }, label, false)
+    doc.propose(Edit::SetRail { rail: index, value: Box::new(rail) }, label, false, Some(key))
         .map_err(|p| refusal_text(key, &p))
 }
 
@@ -50,7 +52,7 @@ fn set_rail(
 fn rail_number(
     ui: &mut Ui,
     fields: &mut Fields,
-    doc: &mut Document,
+    doc: &mut Draft,
     index: usize,
     label: &str,
     field: &str,
@@ -78,8 +80,11 @@ impl App {
             ui.selectable_value(&mut self.side_tab, SideTab::Help, RichText::new("Help and cautions").strong());
         });
         ui.separator();
-        // Both directions: content wider than the panel scrolls instead of widening the panel under the pointer.
+        // The column keeps its width: its text and rows wrap to it (a group's count and mounting, a caution), and
+        // anything still wider scrolls sideways rather than widening the panel under the pointer.
+        let width = ui.available_width() - ui.spacing().scroll.bar_width - ui.spacing().scroll.bar_inner_margin;
         egui::ScrollArea::both().id_salt("side-scroll").auto_shrink([false, false]).show(ui, |ui| {
+            ui.set_max_width(width);
             match self.side_tab {
                 SideTab::Rail => self.rail_editor(ui),
                 SideTab::Parts => self.parts_table(ui),
@@ -90,13 +95,13 @@ impl App {
     }
 
     fn rail_editor(&mut self, ui: &mut Ui) {
-        let i = self.selected_rail;
+        let i = self.view.selected_rail;
         let Some(rail) = self.doc.board.rails.get(i).cloned() else {
             ui.label("No rail selected.");
             return;
         };
         let pal = theme::palette(ui.visuals().dark_mode);
-        let (fields, doc) = (&mut self.fields, &mut self.doc);
+        let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
 
         egui::Grid::new(("rail-basics", i)).num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
             let l = ui.label("Name");
@@ -163,7 +168,7 @@ impl App {
                 self.groups_editor(ui, i, &rail);
             });
 
-        let (fields, doc) = (&mut self.fields, &mut self.doc);
+        let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
         egui::CollapsingHeader::new(RichText::new("Regulator output (source)").strong())
             .id_salt(("source", i))
             .default_open(true)
@@ -279,12 +284,13 @@ impl App {
     fn groups_editor(&mut self, ui: &mut Ui, i: usize, rail: &Rail) {
         let pal = theme::palette(ui.visuals().dark_mode);
         let srf: Vec<Option<f64>> = self
+            .view
             .results
             .get(i)
             .map(|r| r.analysis.groups.iter().map(|g| g.self_resonance_hz).collect())
             .unwrap_or_default();
-        let cautions = self.results.get(i).map(|r| r.check.cautions.clone()).unwrap_or_default();
-        let sensitivity = self.results.get(i).map(|r| r.check.sensitivity.clone()).unwrap_or_default();
+        let cautions = self.view.results.get(i).map(|r| r.check.cautions.clone()).unwrap_or_default();
+        let sensitivity = self.view.results.get(i).map(|r| r.check.sensitivity.clone()).unwrap_or_default();
         let part_ids: Vec<String> = self.doc.board.parts.iter().map(|p| p.id.clone()).collect();
         let n = rail.decaps.len();
         for (gi, g) in rail.decaps.iter().enumerate() {
@@ -307,64 +313,32 @@ impl App {
                     if part != g.part {
                         let label = format!("group {} of {}: {} to {part}", gi + 1, rail.name, g.part);
                         let result =
-                            set_rail(&mut self.doc, i, &format!("{key}.part"), label, |r| r.decaps[gi].part = part);
+                            set_rail(&mut self.draft(), i, &format!("{key}.part"), label, |r| r.decaps[gi].part = part);
                         self.report(&format!("{key}.part"), result);
                     }
                     if let Some(Some(f)) = srf.get(gi) {
                         ui.label(RichText::new(format!("resonates at {}", format(*f, Unit::Hertz))).small().weak());
                     }
                 });
-                show_error(ui, &self.fields, &format!("{key}.part"), pal.fail);
-                ui.horizontal(|ui| {
-                    self.count_editor(ui, i, gi, g, &rail.name);
-                    ui.add_space(8.0);
-                    let l = ui.label("mounting");
-                    let (fields, doc) = (&mut self.fields, &mut self.doc);
-                    let mkey = format!("{key}.mounting_h");
-                    let label = format!("mounting of group {} of {}", gi + 1, rail.name);
-                    if g.mounting.is_some() {
-                        // The file gives the mounting as geometry; the engine computes the inductance from it.
-                        let computed = self
-                            .results
-                            .get(i)
-                            .and_then(|r| r.analysis.groups.get(gi))
-                            .map(|g| g.mounting_h)
-                            .unwrap_or(g.mounting_h);
-                        ui.label(format!("{} from geometry", format(computed, Unit::Henry)))
-                            .on_hover_text("Computed from the pad, trace and via geometry in the board file");
-                        if ui.small_button("use a value").on_hover_text("Replace the geometry by this value").clicked()
-                        {
-                            let result = set_rail(doc, i, &mkey, label, |r| {
-                                r.decaps[gi].mounting = None;
-                                r.decaps[gi].mounting_h = computed;
-                            });
-                            match result {
-                                Ok(()) => fields.forget(&mkey),
-                                Err(reason) => fields.set_error(&mkey, String::new(), reason),
-                            }
-                        }
-                    } else {
-                        number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
-                            set_rail(doc, i, &mkey, label.clone(), |r| r.decaps[gi].mounting_h = v)
-                        });
-                        let from_geometry = ui.small_button("from geometry");
-                        let text = format!("mounting of group {} from geometry", gi + 1);
-                        from_geometry.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &text));
-                        if from_geometry.on_hover_text("Compute the inductance from pads, traces and vias").clicked() {
-                            let result = set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting = Some(NEW_GEOMETRY));
-                            match result {
-                                Ok(()) => fields.forget(&mkey),
-                                Err(reason) => fields.set_error(&mkey, String::new(), reason),
-                            }
-                        }
-                    }
-                });
-                show_error(ui, &self.fields, &format!("{key}.mounting_h"), pal.fail);
+                show_error(ui, &self.view.fields, &format!("{key}.part"), pal.fail);
+                // Count and mounting side by side where the column is wide enough, one under the other where not
+                // (decided before drawing, so the row never overflows the column nor jumps between frames).
+                if ui.available_width() >= COUNT_AND_MOUNTING_W {
+                    ui.horizontal(|ui| {
+                        self.count_editor(ui, i, gi, g, &rail.name);
+                        ui.add_space(8.0);
+                        self.mounting_editor(ui, i, gi, g, &rail.name);
+                    });
+                } else {
+                    ui.horizontal(|ui| self.count_editor(ui, i, gi, g, &rail.name));
+                    ui.horizontal(|ui| self.mounting_editor(ui, i, gi, g, &rail.name));
+                }
+                show_error(ui, &self.view.fields, &format!("{key}.mounting_h"), pal.fail);
                 if let Some(geometry) = g.mounting {
-                    let (fields, doc) = (&mut self.fields, &mut self.doc);
+                    let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
                     geometry_editor(ui, fields, doc, i, gi, &geometry, pal.fail);
                 }
-                show_error(ui, &self.fields, &format!("{key}.count"), pal.fail);
+                show_error(ui, &self.view.fields, &format!("{key}.count"), pal.fail);
                 ui.horizontal(|ui| {
                     let mut action = None;
                     if ui.add_enabled(gi > 0, egui::Button::new("Up").small()).on_hover_text("Move up").clicked() {
@@ -382,13 +356,13 @@ impl App {
                     remove.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &remove_label));
                     if remove.clicked() {
                         let label = format!("remove group {} ({}) from {}", gi + 1, g.part, rail.name);
-                        let result = set_rail(&mut self.doc, i, &key, label, |r| {
+                        let result = set_rail(&mut self.draft(), i, &key, label, |r| {
                             r.decaps.remove(gi);
                         });
                         self.report(&key, result);
                     } else if let Some((word, to)) = action {
                         let label = format!("{word} group {} of {}", gi + 1, rail.name);
-                        let result = set_rail(&mut self.doc, i, &key, label, |r| r.decaps.swap(gi, to));
+                        let result = set_rail(&mut self.draft(), i, &key, label, |r| r.decaps.swap(gi, to));
                         self.report(&key, result);
                     }
                 });
@@ -408,7 +382,7 @@ impl App {
                 }
             });
         }
-        show_error(ui, &self.fields, &format!("rails[{i}].decaps"), pal.fail);
+        show_error(ui, &self.view.fields, &format!("rails[{i}].decaps"), pal.fail);
         let can_add = !part_ids.is_empty();
         let add = ui.add_enabled(can_add, egui::Button::new("Add group"));
         let add = if can_add {
@@ -422,9 +396,55 @@ impl App {
                 part_ids.iter().find(|id| !rail.decaps.iter().any(|g| &g.part == *id)).unwrap_or(&part_ids[0]).clone();
             let label = format!("add group of {part} to {}", rail.name);
             let key = format!("rails[{i}].decaps");
-            let result =
-                set_rail(&mut self.doc, i, &key, label, |r| r.decaps.push(DecapGroup::new(part, 1, NEW_MOUNTING_H)));
+            let result = set_rail(&mut self.draft(), i, &key, label, |r| {
+                r.decaps.push(DecapGroup::new(part, 1, NEW_MOUNTING_H))
+            });
             self.report(&key, result);
+        }
+    }
+
+    /// A group's mounting inductance: typed, or computed from its geometry.
+    fn mounting_editor(&mut self, ui: &mut Ui, i: usize, gi: usize, g: &DecapGroup, rail_name: &str) {
+        let key = format!("rails[{i}].decaps[{gi}]");
+        let l = ui.label("mounting");
+        let (fields, doc) = (&mut self.view.fields, &mut Draft::new(&self.doc.board, &mut self.commands));
+        let mkey = format!("{key}.mounting_h");
+        let label = format!("mounting of group {} of {}", gi + 1, rail_name);
+        if g.mounting.is_some() {
+            // The file gives the mounting as geometry; the engine computes the inductance from it.
+            let computed = self
+                .view
+                .results
+                .get(i)
+                .and_then(|r| r.analysis.groups.get(gi))
+                .map(|g| g.mounting_h)
+                .unwrap_or(g.mounting_h);
+            ui.label(format!("{} from geometry", format(computed, Unit::Henry)))
+                .on_hover_text("Computed from the pad, trace and via geometry in the board file");
+            if ui.small_button("use a value").on_hover_text("Replace the geometry by this value").clicked() {
+                let result = set_rail(doc, i, &mkey, label, |r| {
+                    r.decaps[gi].mounting = None;
+                    r.decaps[gi].mounting_h = computed;
+                });
+                match result {
+                    Ok(()) => fields.forget(&mkey),
+                    Err(reason) => fields.set_error(&mkey, String::new(), reason),
+                }
+            }
+        } else {
+            number_field(ui, fields, &mkey, l.id, g.mounting_h, Unit::Henry, 80.0, |v| {
+                set_rail(doc, i, &mkey, label.clone(), |r| r.decaps[gi].mounting_h = v)
+            });
+            let from_geometry = ui.small_button("from geometry");
+            let text = format!("mounting of group {} from geometry", gi + 1);
+            from_geometry.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &text));
+            if from_geometry.on_hover_text("Compute the inductance from pads, traces and vias").clicked() {
+                let result = set_rail(doc, i, &mkey, label, |r| r.decaps[gi].mounting = Some(NEW_GEOMETRY));
+                match result {
+                    Ok(()) => fields.forget(&mkey),
+                    Err(reason) => fields.set_error(&mkey, String::new(), reason),
+                }
+            }
         }
     }
 
@@ -464,7 +484,7 @@ impl App {
         plus.widget_info(|| egui::WidgetInfo::labeled(egui::Role::Button, true, &plus_label));
 
         if let Some(reason) = parse_error.into_inner() {
-            self.fields.set_error(&key, String::new(), reason);
+            self.view.fields.set_error(&key, String::new(), reason);
         }
         if response.drag_started() {
             self.drag_fresh = true;
@@ -485,7 +505,7 @@ impl App {
         if let Some(c) = target {
             let label = format!("count of {} on {} to {c}", g.part, rail_name);
             let result = self
-                .edit(Edit::SetCount { rail: i, group: gi, count: c }, label, merge)
+                .propose(Edit::SetCount { rail: i, group: gi, count: c }, label, merge, Some(&key))
                 .map_err(|p| refusal_text(&key, &p));
             self.report(&key, result);
         }
@@ -494,8 +514,8 @@ impl App {
     /// Show an edit's refusal at its field, or clear the field's old message once it lands.
     pub(super) fn report(&mut self, key: &str, result: Result<(), String>) {
         match result {
-            Ok(()) => self.fields.forget(key),
-            Err(reason) => self.fields.set_error(key, String::new(), reason),
+            Ok(()) => self.view.fields.forget(key),
+            Err(reason) => self.view.fields.set_error(key, String::new(), reason),
         }
     }
 }
@@ -507,7 +527,7 @@ impl App {
 fn geometry_editor(
     ui: &mut Ui,
     fields: &mut Fields,
-    doc: &mut Document,
+    doc: &mut Draft,
     i: usize,
     gi: usize,
     g: &MountingGeometry,
@@ -566,7 +586,7 @@ fn geometry_editor(
 
 /// The package between the board and the die, and the die's own capacitance. With a package the rail's verdict
 /// is taken at the die.
-fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, rail: &Rail, fail: egui::Color32) {
+fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Draft, i: usize, rail: &Rail, fail: egui::Color32) {
     let text = "a package between the board and the die (series R-L)";
     toggle(ui, fields, doc, i, "package", text, rail.package.is_some(), fail, |r, on| {
         r.package = on.then_some(NEW_PACKAGE);
@@ -611,7 +631,7 @@ fn package_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize
 fn toggle(
     ui: &mut Ui,
     fields: &mut Fields,
-    doc: &mut Document,
+    doc: &mut Draft,
     i: usize,
     field: &str,
     text: &str,
@@ -637,7 +657,7 @@ fn show_error(ui: &mut Ui, fields: &Fields, key: &str, color: egui::Color32) {
     }
 }
 
-fn loads_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Document, i: usize, rail: &Rail, fail: egui::Color32) {
+fn loads_editor(ui: &mut Ui, fields: &mut Fields, doc: &mut Draft, i: usize, rail: &Rail, fail: egui::Color32) {
     ui.horizontal(|ui| {
         let l = ui.label("steps add up as");
         let mut combine = rail.combine;

@@ -1,7 +1,9 @@
 //! The board at a glance: every rail with its verdict, margin and worst frequency. Selecting a rail shows it.
 
 use super::app::App;
+use super::commands::Command;
 use super::history::Edit;
+use super::status::Status;
 use super::theme;
 use crate::units::{Unit, format};
 use egui::{RichText, Ui};
@@ -12,7 +14,7 @@ impl App {
         ui.add_space(4.0);
         ui.label(RichText::new(&self.doc.board.name).heading());
         let total = self.doc.board.rails.len();
-        let meeting = (0..total).filter(|&i| self.results.get(i).is_some_and(|r| r.check.passes)).count();
+        let meeting = (0..total).filter(|&i| self.view.results.get(i).is_some_and(|r| r.check.passes)).count();
         let summary = format!("{meeting} of {total} rails pass");
         ui.label(RichText::new(summary).strong().color(if meeting == total { pal.ok } else { pal.fail }));
         ui.separator();
@@ -41,11 +43,10 @@ impl App {
                 .on_hover_text("Remove the selected rail (undo brings it back)")
                 .clicked()
             {
-                let name = self.doc.board.rails[self.selected_rail].name.clone();
-                if let Err(p) =
-                    self.edit(Edit::RemoveRail { at: self.selected_rail }, format!("remove rail {name}"), false)
-                {
-                    self.status = Some((super::number_field::refusal_text("rails", &p), true));
+                let name = self.doc.board.rails[self.view.selected_rail].name.clone();
+                let at = self.view.selected_rail;
+                if let Err(p) = self.propose(Edit::RemoveRail { at }, format!("remove rail {name}"), false, None) {
+                    self.status = Some(Status::error(super::number_field::refusal_text("rails", &p)));
                 }
             }
         });
@@ -53,8 +54,8 @@ impl App {
 
     fn rail_card(&mut self, ui: &mut Ui, i: usize, pal: &theme::Palette) {
         let rail = &self.doc.board.rails[i];
-        let selected = i == self.selected_rail;
-        let result = self.results.get(i).cloned();
+        let selected = i == self.view.selected_rail;
+        let result = self.view.results.get(i).cloned();
         let frame = egui::Frame::group(ui.style())
             .fill(if selected { ui.visuals().selection.bg_fill.gamma_multiply(0.35) } else { ui.visuals().panel_fill })
             .inner_margin(egui::Margin::symmetric(8, 5));
@@ -119,9 +120,9 @@ impl App {
                 format(a.worst_hz, Unit::Hertz)
             ));
         }
-        if clicked && self.selected_rail != i {
-            self.selected_rail = i;
-            self.selected_finding = None;
+        if clicked && self.view.selected_rail != i {
+            self.view.selected_rail = i;
+            self.view.selected_finding = None;
         }
     }
 
@@ -133,17 +134,15 @@ impl App {
         let name = format!("RAIL{n}");
         let at = self.doc.board.rails.len();
         let rail = super::app::new_rail(&name);
-        match self.edit(Edit::AddRail { at, value: Box::new(rail) }, format!("add rail {name}"), false) {
-            Ok(()) => {
-                self.selected_rail = at;
-                self.selected_finding = None;
-            }
-            Err(p) => self.status = Some((super::number_field::refusal_text("rails", &p), true)),
+        match self.propose(Edit::AddRail { at, value: Box::new(rail) }, format!("add rail {name}"), false, None) {
+            // The new rail is selected once it is there.
+            Ok(()) => self.ask(Command::SelectRail(at)),
+            Err(p) => self.status = Some(Status::error(super::number_field::refusal_text("rails", &p))),
         }
     }
 
     fn copy_rail(&mut self) {
-        let Some(rail) = self.doc.board.rails.get(self.selected_rail) else { return };
+        let Some(rail) = self.doc.board.rails.get(self.view.selected_rail) else { return };
         let mut copy = rail.clone();
         let mut n = 2;
         copy.name = format!("{}_{n}", rail.name);
@@ -151,14 +150,12 @@ impl App {
             n += 1;
             copy.name = format!("{}_{n}", rail.name);
         }
-        let at = self.selected_rail + 1;
+        let at = self.view.selected_rail + 1;
         let label = format!("copy rail {} as {}", rail.name, copy.name);
-        match self.edit(Edit::AddRail { at, value: Box::new(copy) }, label, false) {
-            Ok(()) => {
-                self.selected_rail = at;
-                self.selected_finding = None;
-            }
-            Err(p) => self.status = Some((super::number_field::refusal_text("rails", &p), true)),
+        match self.propose(Edit::AddRail { at, value: Box::new(copy) }, label, false, None) {
+            // The new rail is selected once it is there.
+            Ok(()) => self.ask(Command::SelectRail(at)),
+            Err(p) => self.status = Some(Status::error(super::number_field::refusal_text("rails", &p))),
         }
     }
 }

@@ -4,13 +4,13 @@
 //! plot-ready points (log10 of frequency and of |Z|). A rail is analysed again only when its own inputs or the
 //! parts it uses change, so dragging one count re-analyses one rail, not the board.
 
+use super::jobs::{Job, Poll};
 use crate::analysis::{
     AnalysisOptions, CheckOptions, Droop, DroopOptions, Finding, RailAnalysis, RailCheck, View, analyze_rail,
     check_rail, curve_of, droop, edge_finding, explain,
 };
 use crate::model::{Board, Part, Rail};
 use std::sync::Arc;
-use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
 /// Points of the in-band scan: the default density, which the command line's check uses too, so the window's
 /// verdict and figures are the check's (a test holds the two together).
@@ -134,7 +134,7 @@ pub struct DroopNow {
 struct DroopJob {
     index: usize,
     inputs: Inputs,
-    rx: Receiver<DroopResult>,
+    job: Job<DroopResult>,
 }
 
 /// The results of every rail of the board, refreshed rail by rail.
@@ -187,17 +187,17 @@ impl Results {
         let Some(rail) = board.rails.get(index) else { return DroopNow::default() };
         self.droops.resize(board.rails.len(), None);
         // Take a finished job's answer.
-        if let Some(job) = &self.job {
-            match job.rx.try_recv() {
-                Ok(answer) => {
+        if let Some(job) = &mut self.job {
+            match job.job.poll() {
+                Poll::Done(answer) => {
                     if let Some(job) = self.job.take()
                         && job.index < self.droops.len()
                     {
                         self.droops[job.index] = Some((job.inputs, Arc::new(answer)));
                     }
                 }
-                Err(TryRecvError::Empty) => {}
-                Err(TryRecvError::Disconnected) => self.job = None,
+                Poll::Running => {}
+                Poll::Lost => self.job = None,
             }
         }
         let inputs = Inputs::of(board, rail);
@@ -205,13 +205,9 @@ impl Results {
         let current = kept.is_some_and(|(known, _)| *known == inputs);
         let result = kept.map(|(_, d)| d.clone());
         if !current && self.job.is_none() {
-            let (tx, rx) = channel();
             let board = board.clone();
-            std::thread::spawn(move || {
-                // The receiver is gone when a new board was opened meanwhile; the answer is then not needed.
-                let _ = tx.send(droop(&board, index, &droop_options()).map_err(|e| e.to_string()));
-            });
-            self.job = Some(DroopJob { index, inputs, rx });
+            let job = Job::start("droop", move || droop(&board, index, &droop_options()).map_err(|e| e.to_string()));
+            self.job = Some(DroopJob { index, inputs, job });
         }
         DroopNow { result, current }
     }

@@ -4,9 +4,12 @@
 //! undoable edit.
 
 use super::app::App;
+use super::commands::Command;
 use super::history::Edit;
+use super::jobs::{Job, Poll};
 use super::pins::Pin;
 use super::results::{Look, compute_with};
+use super::status::Status;
 use super::theme;
 use crate::analysis::{
     Candidate, CornerFigures, MixOption, Objective, SuggestOptions, Suggestion, VERDICT_CORNER, apply_mix, area_words,
@@ -19,7 +22,6 @@ use crate::units::{Unit, format};
 use egui::{RichText, Ui};
 use std::collections::BTreeSet;
 use std::path::PathBuf;
-use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
 /// What a search was asked on, kept with its answer so that "apply" fits the mix to the board it was found for.
 #[derive(Debug, Clone)]
@@ -56,7 +58,7 @@ pub struct SuggestState {
     /// On a placed rail: the load the new parts go beside (`None`: the one that fares worst).
     pub beside: Option<usize>,
     shelf: Option<Result<Board, String>>,
-    running: Option<(SearchRun, Receiver<Result<Suggestion, String>>)>,
+    running: Option<(SearchRun, Job<Result<Suggestion, String>>)>,
     /// The last search's run and answer.
     pub done: Option<(SearchRun, Result<Suggestion, String>)>,
 }
@@ -102,11 +104,11 @@ impl SuggestState {
 
     /// Take the answer of a running search when it has come.
     fn poll(&mut self) {
-        let Some((_, rx)) = &self.running else { return };
-        let answer = match rx.try_recv() {
-            Ok(answer) => answer,
-            Err(TryRecvError::Empty) => return,
-            Err(TryRecvError::Disconnected) => Err("the search stopped without an answer".into()),
+        let Some((_, job)) = &mut self.running else { return };
+        let answer = match job.poll() {
+            Poll::Done(answer) => answer,
+            Poll::Running => return,
+            Poll::Lost => Err("the search stopped without an answer".into()),
         };
         if let Some((run, _)) = self.running.take() {
             self.done = Some((run, answer));
@@ -124,7 +126,7 @@ fn mix_words(candidates: &[Candidate], counts: &[u32]) -> String {
 impl App {
     /// Start a search for the selected rail with the panel's choices.
     pub fn start_suggest(&mut self) {
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
         let Some(rail) = self.doc.board.rails.get(index).cloned() else { return };
         let s = &mut self.suggest;
         let mounting_h = default_mounting_h(&rail);
@@ -153,13 +155,10 @@ impl App {
             corner: options.corner,
         };
         let board = self.doc.board.clone();
-        let (tx, rx) = channel();
-        // The search takes up to about a second: on its own thread the window keeps drawing meanwhile. The
-        // receiver may be gone when the answer comes (a new board was opened); that is fine.
-        std::thread::spawn(move || {
-            let _ = tx.send(suggest(&board, index, &candidates, &options).map_err(|e| e.to_string()));
-        });
-        s.running = Some((run, rx));
+        // The search takes up to about a second: on its own thread the window keeps drawing meanwhile.
+        let job =
+            Job::start("suggest", move || suggest(&board, index, &candidates, &options).map_err(|e| e.to_string()));
+        s.running = Some((run, job));
         s.done = None;
     }
 
@@ -174,13 +173,13 @@ impl App {
         }
         let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing, s.spot_m);
         let Some(result) =
-            compute_with(&board, run.rail, Look { both_views: false, worst_corner: false, ..self.results.look() })
+            compute_with(&board, run.rail, Look { both_views: false, worst_corner: false, ..self.view.results.look() })
         else {
             return;
         };
-        let slot = self.next_pin - 1;
-        self.next_pin += 1;
-        self.pins.push(Pin::of(label, run.rail_name.clone(), slot, &result));
+        let slot = self.view.next_pin - 1;
+        self.view.next_pin += 1;
+        self.view.pins.push(Pin::of(label, run.rail_name.clone(), slot, &result));
     }
 
     /// Apply option `n` of the last search to the board as one undoable edit: the candidates it uses are added
@@ -190,7 +189,7 @@ impl App {
         // Only an option that qualifies is ever applied (the closest mix of a failed search is not one).
         let Some(option) = s.options.get(n).filter(|o| o.accepted) else { return };
         if run.revision != self.doc.history.revision() || run.rail >= self.doc.board.rails.len() {
-            self.status = Some(("The board changed since this search: find mixes again.".into(), true));
+            self.status = Some(Status::error("The board changed since this search: find mixes again."));
             return;
         }
         let board = apply_mix(&self.doc.board, run.rail, &run.candidates, &option.counts, run.keep_existing, s.spot_m);
@@ -199,11 +198,11 @@ impl App {
             Ok(()) => {
                 // The options were found for the board as it was; after the edit they are history.
                 self.suggest.done = None;
-                self.status = Some((format!("Applied: {label}. Undo takes it back in one step."), false));
+                self.status = Some(Status::info(format!("Applied: {label}. Undo takes it back in one step.")));
             }
             Err(problems) => {
                 let why: Vec<String> = problems.iter().map(|p| format!("{}: {}", p.path, p.reason)).collect();
-                self.status = Some((format!("Could not apply the option: {}", why.join("; ")), true));
+                self.status = Some(Status::error(format!("Could not apply the option: {}", why.join("; "))));
             }
         }
     }
@@ -212,7 +211,7 @@ impl App {
     pub(super) fn suggest_panel(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
         self.suggest.poll();
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
         let Some(rail) = self.doc.board.rails.get(index).cloned() else { return };
         ui.label(RichText::new(format!("Find capacitor mixes for {}", rail.name)).strong());
         ui.label(
@@ -311,7 +310,8 @@ impl App {
             .labelled_by(l.id);
             ui.end_row();
             ui.label("Meet target in");
-            ui.horizontal(|ui| {
+            // One under the other: side by side they are wider than the column.
+            ui.vertical(|ui| {
                 ui.radio_value(&mut s.settings.corner, VERDICT_CORNER, "the check's corner");
                 ui.radio_value(&mut s.settings.corner, Corner::Worst, "the worst corner");
             });
@@ -450,14 +450,14 @@ impl App {
         }
         if pin_all {
             for n in 0..s.options.len() {
-                self.pin_option(n);
+                self.ask(Command::PinOption(n));
             }
         }
         if let Some(n) = pin {
-            self.pin_option(n);
+            self.ask(Command::PinOption(n));
         }
         if let Some(n) = apply {
-            self.apply_option(n);
+            self.ask(Command::ApplyOption(n));
         }
     }
 }

@@ -89,6 +89,20 @@ pub fn apply(ctx: &Context, dark: bool) {
     // theme a weak colour that still reaches 4.5:1 (WCAG 2.1 AA, common practice).
     ctx.style_mut_of(Theme::Light, |s| s.visuals.weak_text_color = Some(WEAK_LIGHT));
     ctx.style_mut_of(Theme::Dark, |s| s.visuals.weak_text_color = Some(WEAK_DARK));
+    for theme in [Theme::Light, Theme::Dark] {
+        ctx.style_mut_of(theme, readable_sizes);
+    }
+}
+
+/// The smallest text the window draws, in points: the body size less a little. egui's small style is 9 points
+/// (about 8 px at 100 %), too small to read comfortably for the figures and notes drawn with it.
+pub const SMALLEST_TEXT: f32 = 11.0;
+
+/// Raise every text style below [`SMALLEST_TEXT`] to it (small notes stay a step below the body, still readable).
+pub fn readable_sizes(style: &mut egui::Style) {
+    for font in style.text_styles.values_mut() {
+        font.size = font.size.max(SMALLEST_TEXT);
+    }
 }
 
 /// Weak (secondary) text in the light theme.
@@ -164,5 +178,18 @@ mod tests {
             }
         }
         assert!((contrast(Color32::WHITE, Color32::BLACK) - 21.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn no_text_style_is_smaller_than_the_body_less_a_little() {
+        let ctx = Context::default();
+        for dark in [true, false] {
+            apply(&ctx, dark);
+            let style = ctx.style_of(if dark { Theme::Dark } else { Theme::Light });
+            let body = style.text_styles[&egui::TextStyle::Body].size;
+            for (name, font) in &style.text_styles {
+                assert!(font.size >= SMALLEST_TEXT && font.size >= body - 2.0, "{name:?} at {} pt", font.size);
+            }
+        }
     }
 }

@@ -5,6 +5,7 @@
 //! droop is computed again only when the rail's inputs change, so it follows a count drag one step at a time.
 
 use super::app::App;
+use super::jobs::{Job, Poll};
 use super::results::{DroopResult, droop_options};
 use super::theme;
 use crate::analysis::{Droop, PatternResponse, View, pattern_response};
@@ -13,7 +14,6 @@ use egui::{RichText, Ui};
 use egui_plot::{GridMark, HLine, HoverPosition, Line, LineStyle, MarkerShape, Plot, PlotPoints, Points, Polygon};
 use std::ops::RangeInclusive;
 use std::sync::Arc;
-use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
 /// The worst-case pattern's response, kept with the droop it was built from. It costs about as much as the droop
 /// itself, so it too is computed on its own thread.
@@ -23,33 +23,31 @@ pub struct PatternView {
     pub of: Arc<DroopResult>,
     /// The response, or why it could not be computed; `None` while it is computed.
     pub response: Option<Result<PatternResponse, String>>,
-    rx: Option<Receiver<Result<PatternResponse, String>>>,
+    job: Option<Job<Result<PatternResponse, String>>>,
 }
 
 impl PatternView {
     /// Start computing the response to `d`'s worst-case pattern on rail `index` of `board`.
     fn start(board: &crate::model::Board, index: usize, of: Arc<DroopResult>, d: &Droop) -> PatternView {
-        let (tx, rx) = channel();
         let (board, pattern) = (board.clone(), d.worst_case.pattern().to_vec());
-        std::thread::spawn(move || {
-            let answer = pattern_response(&board, index, &pattern, &droop_options()).map_err(|e| e.to_string());
-            let _ = tx.send(answer);
+        let job = Job::start("pattern", move || {
+            pattern_response(&board, index, &pattern, &droop_options()).map_err(|e| e.to_string())
         });
-        PatternView { of, response: None, rx: Some(rx) }
+        PatternView { of, response: None, job: Some(job) }
     }
 
     /// Take the answer when it has come.
     fn poll(&mut self) {
-        let Some(rx) = &self.rx else { return };
-        match rx.try_recv() {
-            Ok(answer) => {
+        let Some(job) = &mut self.job else { return };
+        match job.poll() {
+            Poll::Done(answer) => {
                 self.response = Some(answer);
-                self.rx = None;
+                self.job = None;
             }
-            Err(TryRecvError::Empty) => {}
-            Err(TryRecvError::Disconnected) => {
+            Poll::Running => {}
+            Poll::Lost => {
                 self.response = Some(Err("the pattern's response could not be computed".into()));
-                self.rx = None;
+                self.job = None;
             }
         }
     }
@@ -67,8 +65,8 @@ impl App {
     /// The time view of the selected rail.
     pub(super) fn time_view(&mut self, ui: &mut Ui) {
         let pal = theme::palette(ui.visuals().dark_mode);
-        let index = self.selected_rail;
-        let now = self.results.droop(&self.doc.board, index);
+        let index = self.view.selected_rail;
+        let now = self.view.results.droop(&self.doc.board, index);
         if !now.current {
             // Look for the new droop at the next frame, even if the user does nothing: it lands within milliseconds.
             ui.ctx().request_repaint_after(std::time::Duration::from_millis(5));
@@ -114,11 +112,11 @@ impl App {
         let show_pattern = &mut self.show_worst_pattern;
         ui.checkbox(show_pattern, "Show the worst-case on/off load pattern and the voltage it gives");
         let pattern = if self.show_worst_pattern {
-            let stale = self.pattern.as_ref().is_none_or(|p| !Arc::ptr_eq(&p.of, &result));
+            let stale = self.view.pattern.as_ref().is_none_or(|p| !Arc::ptr_eq(&p.of, &result));
             if stale {
-                self.pattern = Some(PatternView::start(&self.doc.board, index, result.clone(), d));
+                self.view.pattern = Some(PatternView::start(&self.doc.board, index, result.clone(), d));
             }
-            let view = self.pattern.as_mut().map(|p| {
+            let view = self.view.pattern.as_mut().map(|p| {
                 p.poll();
                 p.response.clone()
             });

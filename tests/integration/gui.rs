@@ -563,7 +563,7 @@ fn the_worst_corner_shows_the_engines_worst_figures_and_the_parts_that_lose_most
     select_rail(&mut harness, "V3V3_IO");
     let line = one_line(&worst);
     assert!(harness.query_by_label(&line).is_none(), "not shown until asked for");
-    click(&mut harness, "worst corner too");
+    click(&mut harness, "worst corner");
     assert!(harness.query_by_label(&line).is_some(), "shown: {line}");
     // The typical verdict stays the main one.
     assert_shows(&harness, &nominal);
@@ -580,7 +580,7 @@ fn the_time_view_shows_the_engines_droop_and_follows_a_count_change() {
     let mut harness = window(board.clone());
     select_rail(&mut harness, "V3V3_IO");
     // The droop is computed on its own thread: the view says so until it lands.
-    harness.get_by_label("Voltage after a load step").click();
+    harness.get_by_label("Load step").click();
     let lines = hushrail::gui::droop_lines(&d);
     step_until(&mut harness, &lines[0], 3000);
     harness.run();
@@ -617,7 +617,7 @@ fn a_rail_without_a_source_has_its_missing_droop_explained() {
     board.rails[0].source = None;
     let reason = hushrail::analysis::droop(&board, 0, &hushrail::gui::results::droop_options()).unwrap_err();
     let mut harness = window(board);
-    harness.get_by_label("Voltage after a load step").click();
+    harness.get_by_label("Load step").click();
     step_until(&mut harness, "No droop for this rail", 3000);
     harness.run();
     assert!(harness.query_by_label(&reason.to_string()).is_some());
@@ -759,6 +759,7 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     let mut app = App::open(Some(&board_path), hushrail::gui::files::Store::new(None));
     let out = dir.path().join("report.html");
     assert!(app.save_report_to(&out));
+    assert!(app.finish_report(), "the report is written");
     let written = std::fs::read_to_string(&out).unwrap();
     let droops: Vec<_> = (0..board.rails.len())
         .map(|i| hushrail::analysis::droop(&board, i, &hushrail::analysis::DroopOptions::default()))
@@ -777,6 +778,7 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     let read_hash = context.sha256.clone();
     std::fs::write(&board_path, format!("{}\n\n", std::fs::read_to_string(&board_path).unwrap())).unwrap();
     assert!(app.save_report_to(&out));
+    assert!(app.finish_report(), "the report is written");
     let again = std::fs::read_to_string(&out).unwrap();
     assert!(again.contains(&read_hash), "the hash of the bytes read at opening");
     assert!(!again.contains(&hushrail::io::sha256_hex(&std::fs::read(&board_path).unwrap())));
@@ -784,6 +786,7 @@ fn the_window_writes_the_same_report_as_the_command_line() {
     let count = app.board().rails[0].decaps[0].count + 1;
     app.edit(hushrail::gui::history::Edit::SetCount { rail: 0, group: 0, count }, "one more", false).unwrap();
     assert!(app.save_report_to(&out));
+    assert!(app.finish_report(), "the report is written");
     let written = std::fs::read_to_string(&out).unwrap();
     assert!(written.contains("UNSAVED EDITS"), "the warning is there");
     assert!(written.contains(&hushrail::io::board_sha256(app.board())));
@@ -869,7 +872,7 @@ fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_say
         |b: &Board| analyze_rail(b, rail, &AnalysisOptions { corner: Corner::Worst, ..Default::default() }).unwrap();
     let mut harness = window(board.clone());
     select_rail(&mut harness, "V3V3_IO");
-    click(&mut harness, "worst corner too");
+    click(&mut harness, "worst corner");
     click(&mut harness, "Parts");
     click(&mut harness, "Board temperature and derating");
     click(&mut harness, "generic DC-bias model for class II ceramics without their own curve (typical, recalled)");
@@ -884,7 +887,7 @@ fn turning_the_generic_bias_model_off_changes_the_worst_corner_as_the_engine_say
 fn at_1280_by_800_the_plot_is_the_largest_thing_and_the_side_panel_keeps_its_width() {
     let mut harness = window(sample());
     click(&mut harness, "Pin this curve");
-    click(&mut harness, "worst corner too");
+    click(&mut harness, "worst corner");
     let plot = harness.state().plot_rect().expect("the plot is drawn");
     // The plot takes most of the middle: at least 540 × 330 points of a 1280 × 800 window (about a fifth of the
     // window; before, with a pin and the worst corner on, it was about 150 points high).
@@ -909,7 +912,7 @@ fn at_1280_by_800_the_plot_is_the_largest_thing_and_the_side_panel_keeps_its_wid
 fn the_legend_names_each_groups_curve() {
     let board = sample();
     let mut harness = window(board.clone());
-    click(&mut harness, "each group's curve");
+    click(&mut harness, "each group");
     let result = hushrail::gui::results::compute_with(&board, 0, Default::default()).unwrap();
     assert!(!result.plot.branches.is_empty());
     for b in &result.plot.branches {
@@ -1043,4 +1046,71 @@ fn a_placed_rail_plots_the_load_chosen() {
         let shown = analyze_rail(&board, 0, &AnalysisOptions { load: Some(k), ..Default::default() }).unwrap();
         assert_eq!(shown.worst_ohm, l.worst_ohm, "the engine's figures for that load");
     }
+}
+
+/// Run the window until the report it writes is done (its thread shares the machine with other tests).
+fn until_report_written(harness: &mut Harness<'_, App>) {
+    for _ in 0..3000 {
+        if !harness.state().is_writing_report() {
+            return;
+        }
+        harness.step();
+        std::thread::sleep(std::time::Duration::from_millis(10));
+    }
+    panic!("the report was never written");
+}
+
+#[test]
+fn the_report_is_written_beside_the_window_and_an_edit_made_meanwhile_is_kept() {
+    use hushrail::gui::StatusKind;
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("report.html");
+    let board = sample();
+    let part = board.rails[0].decaps[0].part.clone();
+    let count = board.rails[0].decaps[0].count;
+    let mut harness = window(board.clone());
+    assert!(harness.state_mut().save_report_to(&out));
+    // Asked, not yet done: the status line says it is working, and asking again while it works is refused.
+    let busy = harness.state().status().cloned().expect("a status");
+    assert_eq!(busy.kind, StatusKind::Busy);
+    assert!(busy.text.starts_with("Writing the report"), "{}", busy.text);
+    assert!(!harness.state_mut().save_report_to(&out), "one report at a time");
+    assert_eq!(harness.state().status().unwrap().kind, StatusKind::Error);
+    // The user goes on editing while the report is written: the first frame draws (the window is not blocked)
+    // and takes the edit.
+    click(&mut harness, &format!("one more {part}"));
+    until_report_written(&mut harness);
+    assert_eq!(harness.state().board().rails[0].decaps[0].count, count + 1, "the edit made meanwhile is kept");
+    let done = harness.state().status().cloned().unwrap();
+    assert_eq!(done.kind, StatusKind::Info);
+    assert!(done.text.contains("the edits made since are not in it"), "{}", done.text);
+    assert!(harness.query_by_label(&done.text).is_some(), "the status line shows it");
+    // The report is of the board as it was when asked: its hash, not the edited board's.
+    let written = std::fs::read_to_string(&out).unwrap();
+    assert!(written.contains(&hushrail::io::board_sha256(&board)));
+    assert!(!written.contains(&hushrail::io::board_sha256(harness.state().board())));
+    assert!(written.trim_end().ends_with("</html>"), "a whole document");
+}
+
+#[test]
+fn a_report_that_cannot_be_written_says_why_and_leaves_no_part_file() {
+    use hushrail::gui::StatusKind;
+    let dir = tempfile::tempdir().unwrap();
+    // A folder where the file should go: the write is refused, and nothing is left beside it.
+    let out = dir.path().join("taken");
+    std::fs::create_dir(&out).unwrap();
+    let mut harness = window(sample());
+    assert!(harness.state_mut().save_report_to(&out));
+    until_report_written(&mut harness);
+    let status = harness.state().status().cloned().unwrap();
+    assert_eq!(status.kind, StatusKind::Error);
+    assert!(status.text.contains(&out.display().to_string()), "{}", status.text);
+    assert!(harness.query_by_label(&status.text).is_some(), "the status line shows it");
+    let left: Vec<_> = std::fs::read_dir(dir.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert_eq!(left, vec![std::ffi::OsString::from("taken")], "no temporary file left behind");
+    // An edit clears an old message; undo with nothing left to undo says so as information.
+    harness.state_mut().ask(hushrail::gui::Command::Redo);
+    harness.run();
+    let status = harness.state().status().cloned().unwrap();
+    assert_eq!((status.kind, status.text.as_str()), (StatusKind::Info, "Nothing to redo."));
 }

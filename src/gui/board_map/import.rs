@@ -4,7 +4,9 @@
 //! on show.
 
 use super::super::app::{App, CentralTab};
+use super::super::commands::Command;
 use super::super::history::Edit;
+use super::super::status::Status;
 use crate::io::layout_import::report_lines;
 use crate::io::{Columns, ImportOptions, LengthUnit, parse_bom, parse_centroid, place_rail, read_text_file};
 use egui::{Context, RichText};
@@ -45,24 +47,24 @@ fn origin_of(text: &str) -> Result<[f64; 2], String> {
 impl App {
     /// Open the import window for the selected rail.
     pub(in crate::gui) fn open_import(&mut self) {
-        self.map.import.open = true;
+        self.view.map.import.open = true;
     }
 
     /// The import window, when open.
     pub(in crate::gui) fn import_window(&mut self, ctx: &Context) {
-        if !self.map.import.open {
+        if !self.view.map.import.open {
             return;
         }
         let mut open = true;
-        let rail_name = self.doc.board.rails.get(self.selected_rail).map(|r| r.name.clone()).unwrap_or_default();
-        let lumped = self.doc.board.rails.get(self.selected_rail).is_some_and(|r| r.placement.is_none());
+        let rail_name = self.doc.board.rails.get(self.view.selected_rail).map(|r| r.name.clone()).unwrap_or_default();
+        let lumped = self.doc.board.rails.get(self.view.selected_rail).is_some_and(|r| r.placement.is_none());
         let mut run = false;
         egui::Window::new(format!("Import the placement of {rail_name}"))
             .open(&mut open)
             .resizable(true)
             .default_width(520.0)
             .show(ctx, |ui| {
-                let form = &mut self.map.import;
+                let form = &mut self.view.map.import;
                 ui.label(
                     "Reads the placement (centroid, pick-and-place) CSV the layout tool writes, matches designators \
                      to this rail's groups (from the BOM, or the groups' own designators), loads (by the first word \
@@ -123,24 +125,30 @@ impl App {
                     });
                 }
             });
-        self.map.import.open = open;
+        self.view.map.import.open = open;
         if run {
             self.run_import();
         }
     }
 
     fn run_import(&mut self) {
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
         let answer = self.import_now(index);
         let error = answer.is_err();
         let lines = answer.unwrap_or_else(|e| e);
-        self.status = Some((lines.first().cloned().unwrap_or_default(), error));
-        self.map.import.answer = Some((error, lines));
+        let first = lines.first().cloned().unwrap_or_default();
+        if error {
+            self.status = Some(Status::error(first));
+        } else {
+            // After the import's edit has landed (an edit clears the status line).
+            self.ask(Command::Say(Status::info(first)));
+        }
+        self.view.map.import.answer = Some((error, lines));
     }
 
     /// Read, match and apply; the report's lines, or every problem.
     fn import_now(&mut self, index: usize) -> Result<Vec<String>, Vec<String>> {
-        let form = self.map.import.clone();
+        let form = self.view.map.import.clone();
         let Some(rail) = self.doc.board.rails.get(index) else { return Err(vec!["No rail is selected.".into()]) };
         let rail_name = rail.name.clone();
         if form.centroid.trim().is_empty() {
@@ -161,7 +169,7 @@ impl App {
         };
         let origin = origin_of(&form.origin).map_err(|e| vec![e])?.map(|v| v * centroid.unit.metres());
         let plane_pair = if rail.placement.is_none() {
-            Some(self.map.place.plane_pair().map_err(|problems| {
+            Some(self.view.map.place.plane_pair().map_err(|problems| {
                 problems.into_iter().map(|p| format!("the board map's plane pair: {p}")).collect::<Vec<_>>()
             })?)
         } else {
@@ -176,7 +184,7 @@ impl App {
                     .collect::<Vec<_>>()
             })?;
         let label = format!("import the placement of {rail_name}");
-        self.edit(Edit::SetBoard { value: Box::new(placed) }, label, false)
+        self.propose(Edit::SetBoard { value: Box::new(placed) }, label, false, None)
             .map_err(|problems| problems.iter().map(|p| format!("{}: {}", p.path, p.reason)).collect::<Vec<_>>())?;
         self.central_tab = CentralTab::Map;
         let mut lines = vec![format!(

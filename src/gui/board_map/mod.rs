@@ -13,7 +13,9 @@ mod place_form;
 pub use geometry::{Item, Thing, Transform, items, moved, with_part_added, with_part_removed};
 
 use super::app::App;
+use super::commands::Command;
 use super::history::Edit;
+use super::status::Status;
 use crate::analysis::placed::{PlaneField, plane_field, worst_load};
 use crate::model::Rail;
 use crate::units::{Unit, format, parse};
@@ -105,29 +107,30 @@ impl App {
     /// Where a point of the plane (m) was drawn on the board map in the last frame, in points; `None` when the map
     /// was not drawn.
     pub fn map_point(&self, at_m: [f64; 2]) -> Option<egui::Pos2> {
-        self.map.last_transform.map(|t| t.to_screen(at_m))
+        self.view.map.last_transform.map(|t| t.to_screen(at_m))
     }
 
     /// The board map of the selected rail (or, for a lumped rail, the form that places it).
     pub(super) fn board_map(&mut self, ui: &mut Ui) {
-        let index = self.selected_rail;
+        let index = self.view.selected_rail;
         let Some(rail) = self.doc.board.rails.get(index).cloned() else {
             ui.label("No rail to show.");
             return;
         };
-        if self.map.rail != Some(index) {
-            self.map.rail = Some(index);
-            self.map.zoom = 1.0;
-            self.map.pan = Vec2::ZERO;
-            self.map.grab = None;
-            self.map.add_group = None;
+        if self.view.map.rail != Some(index) {
+            self.view.map.rail = Some(index);
+            self.view.map.zoom = 1.0;
+            self.view.map.pan = Vec2::ZERO;
+            self.view.map.grab = None;
+            self.view.map.add_group = None;
         }
         let Some(placement) = rail.placement.clone() else {
             self.place_form(ui, index, &rail);
             return;
         };
-        let result = self.results.get(index).cloned();
+        let result = self.view.results.get(index).cloned();
         let shown_load = self
+            .view
             .results
             .look()
             .load
@@ -135,7 +138,8 @@ impl App {
             .or_else(|| result.as_ref().and_then(|r| worst_load(&r.check.loads)))
             .unwrap_or(0);
         self.map_toolbar(ui, &rail, result.as_deref().map(|r| r.analysis.worst_hz));
-        let field = if self.map.field_on { self.field_for(index, &rail, shown_load, result.as_deref()) } else { None };
+        let field =
+            if self.view.map.field_on { self.field_for(index, &rail, shown_load, result.as_deref()) } else { None };
 
         let (response, painter) = ui.allocate_painter(ui.available_size(), Sense::click_and_drag());
         let rect = response.rect;
@@ -146,26 +150,26 @@ impl App {
             let scroll = ui.input(|i| i.smooth_scroll_delta.y);
             let zoom_by = ui.input(|i| i.zoom_delta()) * (scroll / 400.0).exp();
             if (zoom_by - 1.0).abs() > 1e-4 {
-                let new_zoom = (self.map.zoom * zoom_by).clamp(0.5, 40.0);
-                let k = new_zoom / self.map.zoom;
+                let new_zoom = (self.view.map.zoom * zoom_by).clamp(0.5, 40.0);
+                let k = new_zoom / self.view.map.zoom;
                 // Keep the point under the pointer where it is.
-                let from_centre = pointer - plane_room.center() - self.map.pan;
-                self.map.pan -= from_centre * (k - 1.0);
-                self.map.zoom = new_zoom;
+                let from_centre = pointer - plane_room.center() - self.view.map.pan;
+                self.view.map.pan -= from_centre * (k - 1.0);
+                self.view.map.zoom = new_zoom;
             }
         }
         if response.dragged_by(egui::PointerButton::Middle) {
-            self.map.pan += response.drag_delta();
+            self.view.map.pan += response.drag_delta();
         }
-        let t = Transform::fit(plane_room, placement.plane_pair.size_m, self.map.zoom, self.map.pan);
+        let t = Transform::fit(plane_room, placement.plane_pair.size_m, self.view.map.zoom, self.view.map.pan);
         let items = items(&rail);
         let hovered = response.hover_pos().and_then(|p| geometry::hit(&items, &t, p));
 
         self.map_interact(ui, &response, &t, &items, index, &rail);
 
         let visuals = ui.visuals().clone();
-        self.map.last_transform = Some(t);
-        let selected = match self.map.grab {
+        self.view.map.last_transform = Some(t);
+        let selected = match self.view.map.grab {
             Some(g) => Some(g.thing),
             None => hovered.map(|i| items[i].thing),
         };
@@ -182,7 +186,7 @@ impl App {
                 visuals: &visuals,
             },
         );
-        if let (Some(i), None) = (hovered, self.map.grab) {
+        if let (Some(i), None) = (hovered, self.view.map.grab) {
             let words = self.hover_words(&rail, &items[i], shown_load, result.as_deref());
             response.clone().on_hover_ui_at_pointer(|ui| {
                 ui.label(words);
@@ -205,33 +209,33 @@ impl App {
     /// The row above the map: the field and its frequency, add mode, fit, and how to use the map.
     fn map_toolbar(&mut self, ui: &mut Ui, rail: &Rail, worst_hz: Option<f64>) {
         ui.horizontal_wrapped(|ui| {
-            ui.checkbox(&mut self.map.field_on, "plane voltage at")
+            ui.checkbox(&mut self.view.map.field_on, "plane voltage at")
                 .on_hover_text("Colour the plane by the voltage across it at this frequency when the shown load draws its step (|Z| × ΔI)");
             let hint = worst_hz.map(|f| format(f, Unit::Hertz)).unwrap_or_default();
             let edit = ui.add(
-                egui::TextEdit::singleline(&mut self.map.field_text)
+                egui::TextEdit::singleline(&mut self.view.map.field_text)
                     .desired_width(96.0)
                     .hint_text(format!("{hint} (worst)")),
             );
-            if edit.lost_focus() || (edit.changed() && self.map.field_text.trim().is_empty()) {
-                let text = self.map.field_text.trim().to_string();
+            if edit.lost_focus() || (edit.changed() && self.view.map.field_text.trim().is_empty()) {
+                let text = self.view.map.field_text.trim().to_string();
                 if text.is_empty() {
-                    self.map.field_hz = None;
+                    self.view.map.field_hz = None;
                 } else {
                     match parse(&text, Unit::Hertz) {
-                        Ok(f) if f.is_finite() && f > 0.0 => self.map.set_field_hz(f),
-                        Ok(_) => self.status = Some(("The field's frequency must be above 0 Hz.".into(), true)),
-                        Err(e) => self.status = Some((format!("The field's frequency: {e}"), true)),
+                        Ok(f) if f.is_finite() && f > 0.0 => self.view.map.set_field_hz(f),
+                        Ok(_) => self.status = Some(Status::error("The field's frequency must be above 0 Hz.")),
+                        Err(e) => self.status = Some(Status::error(format!("The field's frequency: {e}"))),
                     }
                 }
             }
             ui.label(RichText::new("(or click the plot)").weak());
             ui.separator();
-            let mut adding = self.map.add_group.is_some();
+            let mut adding = self.view.map.add_group.is_some();
             if ui.toggle_value(&mut adding, "Add parts").on_hover_text("Each click on the plane adds one part of the chosen group").changed() {
-                self.map.add_group = adding.then_some(self.map.add_group.unwrap_or(0));
+                self.view.map.add_group = adding.then_some(self.view.map.add_group.unwrap_or(0));
             }
-            if let Some(g) = self.map.add_group.as_mut() {
+            if let Some(g) = self.view.map.add_group.as_mut() {
                 let name = |k: usize| rail.decaps.get(k).map_or_else(String::new, |d| d.part.clone());
                 egui::ComboBox::from_id_salt("map-add-group").selected_text(name(*g)).show_ui(ui, |ui| {
                     for k in 0..rail.decaps.len() {
@@ -241,8 +245,8 @@ impl App {
             }
             ui.separator();
             if ui.button("Fit").on_hover_text("Show the whole plane").clicked() {
-                self.map.zoom = 1.0;
-                self.map.pan = Vec2::ZERO;
+                self.view.map.zoom = 1.0;
+                self.view.map.pan = Vec2::ZERO;
             }
             ui.label(RichText::new("how to use").weak().underline()).on_hover_text(
                 "Drag a part to move it (Shift: its whole group); right-click it to take it out; click a load to \
@@ -272,15 +276,15 @@ impl App {
         load: usize,
         result: Option<&super::results::RailResult>,
     ) -> Option<PlaneField> {
-        let f = self.map.field_hz.or_else(|| result.map(|r| r.analysis.worst_hz))?;
+        let f = self.view.map.field_hz.or_else(|| result.map(|r| r.analysis.worst_hz))?;
         let key = (self.doc.history.revision(), index, load, f.to_bits());
-        let stale = self.map.field.as_ref().is_none_or(|s| s.key != key);
-        if stale && self.map.grab.is_none() {
+        let stale = self.view.map.field.as_ref().is_none_or(|s| s.key != key);
+        if stale && self.view.map.grab.is_none() {
             let corner = result.map_or(crate::physics::Corner::Typical, |r| r.analysis.corner);
             let field = plane_field(&self.doc.board, rail, load, f, corner, FIELD_CELLS);
-            self.map.field = Some(FieldShown { key, field });
+            self.view.map.field = Some(FieldShown { key, field });
         }
-        self.map.field.as_ref().and_then(|s| s.field.clone())
+        self.view.map.field.as_ref().and_then(|s| s.field.clone())
     }
 
     /// Presses, drags and clicks on the map.
@@ -302,7 +306,7 @@ impl App {
             if let Some(i) = geometry::hit(items, t, press) {
                 let at = t.to_metres(press);
                 let item = &items[i];
-                self.map.grab = Some(Grab {
+                self.view.map.grab = Some(Grab {
                     thing: item.thing,
                     offset_m: [item.at_m[0] - at[0], item.at_m[1] - at[1]],
                     whole_group: ui.input(|i| i.modifiers.shift),
@@ -310,7 +314,7 @@ impl App {
                 });
             }
         }
-        if let (Some(mut grab), Some(p)) = (self.map.grab, pointer)
+        if let (Some(mut grab), Some(p)) = (self.view.map.grab, pointer)
             && response.dragged_by(egui::PointerButton::Primary)
         {
             let at = t.to_metres(p);
@@ -320,36 +324,36 @@ impl App {
             {
                 let what = thing_words(rail, grab.thing, grab.whole_group);
                 let label = format!("move {what}");
-                match self.edit(Edit::SetRail { rail: index, value: Box::new(next) }, label, !grab.fresh) {
+                match self.propose(Edit::SetRail { rail: index, value: Box::new(next) }, label, !grab.fresh, None) {
                     Ok(()) => grab.fresh = false,
                     Err(problems) => {
                         let why = problems.first().map_or_else(String::new, |p| p.reason.clone());
-                        self.status = Some((format!("Cannot move {what} there: {why}"), true));
+                        self.status = Some(Status::error(format!("Cannot move {what} there: {why}")));
                     }
                 }
-                self.map.grab = Some(grab);
+                self.view.map.grab = Some(grab);
             }
         }
         if response.drag_stopped() {
-            if let Some(grab) = self.map.grab.take()
+            if let Some(grab) = self.view.map.grab.take()
                 && !grab.fresh
                 && let Some(now) = self.doc.board.rails.get(index)
             {
                 let what = thing_words(now, grab.thing, grab.whole_group);
                 let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
-                self.status = Some((format!("Moved {what}{at}."), false));
+                self.status = Some(Status::info(format!("Moved {what}{at}.")));
             }
         }
         if response.clicked()
             && let Some(p) = pointer
         {
-            match (geometry::hit(items, t, p).map(|i| items[i].thing), self.map.add_group) {
+            match (geometry::hit(items, t, p).map(|i| items[i].thing), self.view.map.add_group) {
                 (_, Some(group)) => self.add_part(index, rail, group, t.to_metres(p)),
                 (Some(Thing::Load(k)), None) => {
-                    let mut look = self.results.look();
+                    let mut look = self.view.results.look();
                     look.load = Some(k);
-                    self.results.set_look(look);
-                    self.status = Some((format!("The plot shows {}.", rail.loads[k].name), false));
+                    self.view.results.set_look(look);
+                    self.status = Some(Status::info(format!("The plot shows {}.", rail.loads[k].name)));
                 }
                 _ => {}
             }
@@ -360,25 +364,32 @@ impl App {
         let Some((next, reference)) = with_part_added(rail, group, at_m) else { return };
         let part = &rail.decaps[group].part;
         let label = format!("add {reference} ({part})");
-        match self.edit(Edit::SetRail { rail: index, value: Box::new(next) }, label, false) {
-            Ok(()) => self.status = Some((format!("Added {reference} ({part}) at {}.", at_words(at_m)), false)),
+        match self.propose(Edit::SetRail { rail: index, value: Box::new(next) }, label, false, None) {
+            Ok(()) => {
+                self.ask(Command::Say(Status::info(format!("Added {reference} ({part}) at {}.", at_words(at_m)))))
+            }
             Err(problems) => {
                 let why = problems.first().map_or_else(String::new, |p| p.reason.clone());
-                self.status = Some((format!("Cannot add a part there: {why}"), true));
+                self.status = Some(Status::error(format!("Cannot add a part there: {why}")));
             }
         }
     }
 
     fn take_out(&mut self, index: usize, rail: &Rail, thing: Thing, label: &str) {
         let Some(next) = with_part_removed(rail, thing) else {
-            self.status = Some((format!("{label} has no part left to take out."), true));
+            self.status = Some(Status::error(format!("{label} has no part left to take out.")));
             return;
         };
-        match self.edit(Edit::SetRail { rail: index, value: Box::new(next) }, format!("take out {label}"), false) {
-            Ok(()) => self.status = Some((format!("Took out {label}."), false)),
+        match self.propose(
+            Edit::SetRail { rail: index, value: Box::new(next) },
+            format!("take out {label}"),
+            false,
+            None,
+        ) {
+            Ok(()) => self.ask(Command::Say(Status::info(format!("Took out {label}.")))),
             Err(problems) => {
                 let why = problems.first().map_or_else(String::new, |p| p.reason.clone());
-                self.status = Some((format!("Cannot take out {label}: {why}"), true));
+                self.status = Some(Status::error(format!("Cannot take out {label}: {why}")));
             }
         }
     }

@@ -2,7 +2,9 @@
 //! the rail's parts then start in an arrangement (`model::starting_placement`) that the user moves on the map.
 
 use super::super::app::App;
+use super::super::commands::Command;
 use super::super::history::Edit;
+use super::super::status::Status;
 use crate::model::{PlanePair, Rail, starting_placement};
 use crate::units::{Unit, parse};
 use egui::{RichText, Ui};
@@ -69,7 +71,7 @@ impl App {
              has them (or import the layout's placement from the File menu).",
         );
         ui.add_space(6.0);
-        let form = &mut self.map.place;
+        let form = &mut self.view.map.place;
         egui::Grid::new("place-form").num_columns(2).spacing([10.0, 6.0]).show(ui, |ui| {
             for (name, text, hover) in [
                 ("width (x)", &mut form.width, "the plane pair's side along x, e.g. 100 mm"),
@@ -94,25 +96,24 @@ impl App {
         }
         if ui.button("Place on this plane pair").clicked() {
             let placed =
-                self.map.place.plane_pair().map_err(|p| p.join("; ")).and_then(|pp| starting_placement(rail, pp));
+                self.view.map.place.plane_pair().map_err(|p| p.join("; ")).and_then(|pp| starting_placement(rail, pp));
             match placed {
                 Ok(next) => {
                     let label = format!("place {} on a plane pair", rail.name);
-                    match self.edit(Edit::SetRail { rail: index, value: Box::new(next) }, label, false) {
-                        Ok(()) => {
-                            self.status = Some((
-                                format!("Placed {} on a plane pair: drag its parts where they sit.", rail.name),
-                                false,
-                            ))
-                        }
+                    match self.propose(Edit::SetRail { rail: index, value: Box::new(next) }, label, false, None) {
+                        Ok(()) => self.ask(Command::Say(Status::info(format!(
+                            "Placed {} on a plane pair: drag its parts where they sit.",
+                            rail.name
+                        )))),
                         Err(problems) => {
                             let why: Vec<String> =
                                 problems.iter().map(|p| format!("{}: {}", p.path, p.reason)).collect();
-                            self.status = Some((format!("Cannot place {}: {}", rail.name, why.join("; ")), true));
+                            self.status =
+                                Some(Status::error(format!("Cannot place {}: {}", rail.name, why.join("; "))));
                         }
                     }
                 }
-                Err(why) => self.status = Some((format!("Cannot place {}: {why}", rail.name), true)),
+                Err(why) => self.status = Some(Status::error(format!("Cannot place {}: {why}", rail.name))),
             }
         }
     }
