@@ -74,6 +74,9 @@ fn phi12(z: C) -> (C, C) {
     }
 }
 
+/// One mode's update coefficients for one step length: (e^{ph}, h·φ₁(ph), h·φ₂(ph)).
+type Coef = (C, C, C);
+
 /// Step lengths whose coefficients a [`Stepper`] keeps besides the current one.
 const KEPT_STEPS: usize = 12;
 
@@ -84,9 +87,9 @@ pub(super) struct Stepper<'a> {
     pub x: Vec<C>,
     h: f64,
     /// (e^{ph}, h·φ₁(ph), h·φ₂(ph)) per mode for step `h`.
-    coef: Vec<(C, C, C)>,
+    coef: Vec<Coef>,
     /// Coefficients of the step lengths used before (a few: the walk's steps are powers of two of one length).
-    kept: Vec<(f64, Vec<(C, C, C)>)>,
+    kept: Vec<(f64, Vec<Coef>)>,
 }
 
 impl<'a> Stepper<'a> {
@@ -136,7 +139,7 @@ impl<'a> Stepper<'a> {
     }
 
     /// Keep the coefficients of step `h` for later (at most [`KEPT_STEPS`], the oldest dropped).
-    fn remember(&mut self, h: f64, coef: Vec<(C, C, C)>) {
+    fn remember(&mut self, h: f64, coef: Vec<Coef>) {
         if coef.len() == self.x.len() && h.is_finite() {
             if self.kept.len() >= KEPT_STEPS {
                 self.kept.remove(0);
