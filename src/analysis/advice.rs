@@ -5,6 +5,7 @@ use super::network::BranchKind;
 use super::rail::{AntiResonance, BranchRef, RailAnalysis};
 use crate::model::{Band, BandEdge, Board, Rail, Source};
 use crate::physics::derating::temperature_class;
+use crate::physics::regulator::ParallelRlc;
 use crate::units::{Unit, format};
 
 /// How much a finding matters.
@@ -48,7 +49,7 @@ pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Findi
         let hint = match peak {
             Some(a) => {
                 text.push(' ');
-                text.push_str(&cause(a));
+                text.push_str(&cause(rail, a));
                 peak_hint(board, rail, a)
             }
             None => edge_hint(analysis, v.from_hz, v.to_hz),
@@ -64,7 +65,7 @@ pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Findi
                 hz(a.freq_hz),
                 ohm(a.z_ohm),
                 a.z_ohm / target * 100.0,
-                cause(a)
+                cause(rail, a)
             ),
             hint: "Under target; it becomes the first place to fail if counts drop or mounting inductance grows."
                 .into(),
@@ -222,11 +223,42 @@ fn ohm(z: f64) -> String {
     format(z, Unit::Ohm)
 }
 
+/// The regulator's crossover tank, when the rail's source gives its control loop (and is usable).
+fn loop_tank(rail: &Rail) -> Option<ParallelRlc> {
+    rail.source.as_ref().filter(|s| s.unusable().is_none()).and_then(|s| s.tank())
+}
+
+/// A peak within this factor of the regulator's crossover tank resonance is named as the loop's (its closed-loop
+/// peak is there, whatever carries the reactance).
+const NEAR_CROSSOVER: f64 = 1.5;
+
+/// The regulator on one side of a peak at `f_hz`: near its loop's crossover, the loop; else its output inductance,
+/// or, where its control loop's crossover tank carries more of the source's reactance than the inductance does, the
+/// loop (inductive below the tank's resonance, capacitive past it).
+fn source_words(rail: &Rail, f_hz: f64, inductive: bool) -> String {
+    let Some(tank) = loop_tank(rail) else {
+        return if inductive { "the regulator's output inductance" } else { "the regulator" }.to_string();
+    };
+    if (f_hz / tank.resonance_hz()).ln().abs() < NEAR_CROSSOVER.ln() {
+        return format!(
+            "the regulator near its loop's crossover (its crossover tank resonates at {})",
+            hz(tank.resonance_hz())
+        );
+    }
+    let x_tank = tank.impedance(f_hz).im;
+    let x_l = rail.source.as_ref().map_or(0.0, |s| crate::physics::TWO_PI * f_hz * s.l_h);
+    if inductive && x_l >= x_tank.abs() {
+        return "the regulator's output inductance".to_string();
+    }
+    let side = if inductive { "inductive below" } else { "capacitive past" };
+    format!("the regulator's control loop ({side} its crossover tank's resonance at {})", hz(tank.resonance_hz()))
+}
+
 /// The inductive side of a peak, in words.
-fn inductive_words(b: &Option<BranchRef>) -> String {
+fn inductive_words(rail: &Rail, f_hz: f64, b: &Option<BranchRef>) -> String {
     match b {
         Some(b) => match b.kind {
-            BranchKind::Source => "the regulator's output inductance".to_string(),
+            BranchKind::Source => source_words(rail, f_hz, true),
             BranchKind::Plane => "the plane's inductance".to_string(),
             BranchKind::Package => "the package inductance".to_string(),
             BranchKind::Die => "the die".to_string(),
@@ -247,10 +279,10 @@ fn share_words(share: f64, side: &str) -> String {
 }
 
 /// The capacitive side of a peak, in words.
-fn capacitive_words(b: &Option<BranchRef>) -> String {
+fn capacitive_words(rail: &Rail, f_hz: f64, b: &Option<BranchRef>) -> String {
     match b {
         Some(b) => match b.kind {
-            BranchKind::Source => "the regulator".to_string(),
+            BranchKind::Source => source_words(rail, f_hz, false),
             BranchKind::Plane => "the plane capacitance".to_string(),
             BranchKind::Package => "the package".to_string(),
             BranchKind::Die => "the die capacitance".to_string(),
@@ -266,9 +298,26 @@ fn capacitive_words(b: &Option<BranchRef>) -> String {
     }
 }
 
-/// Which branches meet at a peak.
-fn cause(a: &AntiResonance) -> String {
-    format!("Cause: {} resonates with {}.", inductive_words(&a.inductive_side), capacitive_words(&a.capacitive_side))
+/// Which branches meet at a peak, as "Cause: ...". A peak within [`NEAR_CROSSOVER`] of the regulator's crossover
+/// tank resonance that no branch answers on the capacitive side is the loop's own closed-loop peak (its gain falling
+/// through one with too little phase margin), and is named so.
+pub fn cause(rail: &Rail, a: &AntiResonance) -> String {
+    let f = a.freq_hz;
+    if let Some(tank) = loop_tank(rail)
+        .filter(|t| a.capacitive_side.is_none() && (f / t.resonance_hz()).ln().abs() < NEAR_CROSSOVER.ln())
+    {
+        return format!(
+            "Cause: the regulator's control loop peaks near its crossover (its crossover tank resonates at {}), and \
+             {} gives no capacitance to bypass it there.",
+            hz(tank.resonance_hz()),
+            inductive_words(rail, f, &a.inductive_side)
+        );
+    }
+    format!(
+        "Cause: {} resonates with {}.",
+        inductive_words(rail, f, &a.inductive_side),
+        capacitive_words(rail, f, &a.capacitive_side)
+    )
 }
 
 /// Capacitance of the part behind a branch, if it is a group.
@@ -314,7 +363,12 @@ fn peak_hint(board: &Board, rail: &Rail, a: &AntiResonance) -> String {
         _ => {}
     }
     if matches!(a.inductive_side.as_ref().map(|b| b.kind), Some(BranchKind::Source)) {
-        tips.push("add bulk capacitance so the regulator's inductance is bypassed sooner".into());
+        tips.push(match loop_tank(rail) {
+            Some(_) => "add bulk capacitance so the regulator's loop is bypassed sooner, or give the loop more phase \
+                        margin"
+                .into(),
+            None => "add bulk capacitance so the regulator's inductance is bypassed sooner".into(),
+        });
     }
     tips.push("use a part with more ESR to damp the peak".into());
     tips.push("cut the mounting inductance (shorter traces, more or closer vias)".into());

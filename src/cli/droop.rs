@@ -69,11 +69,11 @@ pub fn droop_json(d: &Droop) -> serde_json::Value {
     if let Some(p) = d.max_pulses {
         o.insert("max_pulses".into(), json!(p));
     }
-    if let Some(s) = d.sustained {
+    if let Some(s) = &d.sustained {
         o.insert(
             "sustained".into(),
             json!({"peak_hz": s.peak_hz, "z_ohm": s.z_ohm, "r_dc_ohm": s.r_dc_ohm, "droop_v": s.droop_v,
-                   "beyond_linear_model": d.beyond_model(s.droop_v)}),
+                   "cause": s.cause, "beyond_linear_model": d.beyond_model(s.droop_v)}),
         );
     }
     match &d.worst_case {

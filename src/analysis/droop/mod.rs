@@ -28,6 +28,7 @@ pub use words::{
 
 use super::findings::scan;
 use super::network::{Network, View};
+use super::rail::{AntiResonance, BranchRef};
 use crate::model::ranges::{self, Range};
 use crate::model::{Board, Rail};
 use crate::physics::TWO_PI;
@@ -131,7 +132,7 @@ pub struct BandFilter {
 /// The sustained-resonance estimate: a load toggling as a square wave at the highest in-band peak drives it with
 /// its fundamental, (2/π)·ΔI (the Fourier series of a square wave), on top of its mean ΔI/2 through the DC
 /// resistance: ΔI·((2/π)|Z(f_p)| + R_dc/2). Common practice, as a quick bound to compare the pattern with.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Sustained {
     /// The peak's frequency, Hz.
     pub peak_hz: f64,
@@ -141,6 +142,8 @@ pub struct Sustained {
     pub r_dc_ohm: f64,
     /// The estimate, V.
     pub droop_v: f64,
+    /// What makes the peak, in the check's words ("Cause: ..."), so both domains name it alike.
+    pub cause: String,
 }
 
 /// The worst on/off pattern the load can produce, or why there is no bound.
@@ -253,7 +256,8 @@ pub fn rail_modes(network: &Network) -> Option<RailModes> {
 }
 
 /// The worst pattern over sampled ages `tau` (ascending, `tau[0]` = 0 with `s[0]` = 0) of a step droop `s`:
-/// the largest Σ s(τ_on) − s(τ_off) with consecutive ages at least `min_gap` apart and at most `max_pulses` pulses,
+/// the largest Σ s(τ_on) − s(τ_off) with consecutive ages at least `min_gap` apart (a load still on at the instant
+/// excepted: its on interval goes on past it) and at most `max_pulses` pulses,
 /// and its pulses as (index of τ_on, index of τ_off). Exposed so tests can hold it to a brute-force search.
 pub fn worst_pattern_over(
     tau: &[f64],
@@ -418,13 +422,28 @@ fn max_pulses(rail: &Rail) -> Option<usize> {
     rail.loads.iter().map(|l| l.max_pulses.map(|n| n as usize)).collect::<Option<Vec<_>>>()?.into_iter().max()
 }
 
-/// The highest in-band peak's sustained-resonance estimate.
-fn sustained(network: &Network, band_hz: [f64; 2], step_a: f64, r_dc: f64) -> Option<Sustained> {
+/// The highest in-band peak's sustained-resonance estimate, with its cause in the check's words.
+fn sustained(rail: &Rail, network: &Network, band_hz: [f64; 2], step_a: f64, r_dc: f64) -> Option<Sustained> {
     let view = network.verdict_view();
     let s = scan(&|f| network.impedance_in(f, view), band_hz, 400, f64::INFINITY);
     let p = s.peaks.iter().max_by(|a, b| a.z_ohm.total_cmp(&b.z_ohm))?;
     let droop_v = step_a * (2.0 / std::f64::consts::PI * p.z_ohm + r_dc / 2.0);
-    Some(Sustained { peak_hz: p.freq_hz, z_ohm: p.z_ohm, r_dc_ohm: r_dc, droop_v })
+    let (inductive, capacitive) = network.peak_sides(p.freq_hz, view);
+    let side = |(b, share): (&crate::analysis::Branch, f64)| BranchRef {
+        kind: b.kind,
+        label: b.label.clone(),
+        resonance_hz: b.resonance_hz,
+        share,
+    };
+    let peak = AntiResonance {
+        freq_hz: p.freq_hz,
+        z_ohm: p.z_ohm,
+        above_target: false,
+        inductive_side: inductive.map(side),
+        capacitive_side: capacitive.map(side),
+    };
+    let cause = crate::analysis::advice::cause(rail, &peak);
+    Some(Sustained { peak_hz: p.freq_hz, z_ohm: p.z_ohm, r_dc_ohm: r_dc, droop_v, cause })
 }
 
 /// Droop of rail `rail_index` after a load step, and the worst case over on/off patterns.
@@ -543,26 +562,39 @@ fn assemble(rail: &Rail, plan: &Plan, s: &Samples, main: Option<&Modal>) -> Droo
     let worst_case = if s.undamped {
         WorstCase::Unbounded
     } else {
-        let w = pattern::worst_pattern(&s.t, &s.main, min_interval_s, max_pulses);
+        let mut w = pattern::worst_pattern(&s.t, &s.main, min_interval_s, max_pulses);
+        // A load still on at the observed instant (its "off" at age 0) stays on for its shortest interval: its off
+        // edge moves into the future (a negative age, no effect on the drop at the instant), so the pattern given
+        // keeps every interval.
+        for p in w.pulses.iter_mut().filter(|p| p.1 <= 0.0) {
+            p.1 = p.1.min(p.0 - min_interval_s);
+        }
         let t_obs = w.pulses.iter().map(|p| p.0).fold(0.0, f64::max);
         let mut pattern: Vec<Pulse> =
             w.pulses.iter().map(|&(on, off)| Pulse { on_s: t_obs - on, off_s: t_obs - off }).collect();
         pattern.sort_by(|a, b| a.on_s.total_cmp(&b.on_s));
-        // The pattern's own response, exactly: its lowest point is the worst case reported (the ages were picked
-        // on samples; the response between them can only go a hair lower).
+        // The pattern's own response, exactly, by superposing the closed-form ramp response at its edges' ages:
+        // at the observed instant it is the programme's sum; the ages were picked on samples, so the instant is
+        // refined within the samples' spacing there (the response between them can only go a hair lower). No walk
+        // through the pattern: its cost is the pulses times the modes per evaluation, whatever the pattern's length.
         let (mut droop_v, mut t_s) = (w.droop, t_obs);
-        if let (Some(m), false) = (main, pattern.is_empty()) {
-            let load = pattern_load(&pattern, plan.step_a, plan.ramp_s);
-            let run = response::walk(&Walk {
-                main: m,
-                board: None,
-                load: &load,
-                window_s: t_obs + plan.ramp_s,
-                grid_points: 2,
-                max_samples: MAX_SAMPLES,
-            });
-            if run.peak.2 >= droop_v * (1.0 - 1e-3) {
-                (droop_v, t_s) = (run.peak.2, run.peak.1);
+        if let (Some(m), false) = (main, w.pulses.is_empty()) {
+            let ramp = response::RampStep::new(m, plan.ramp_s, plan.step_a);
+            let youngest = w.pulses.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
+            let j = s.t.partition_point(|&x| x < youngest);
+            let gap = |k: usize, l: usize| match (s.t.get(k), s.t.get(l)) {
+                (Some(a), Some(b)) => (b - a).abs(),
+                _ => 0.0,
+            };
+            let d = gap(j, j + 1).max(if j > 0 { gap(j - 1, j) } else { 0.0 });
+            let at = |delta: f64| ramp.pattern_drop(&w.pulses, delta);
+            let v0 = at(0.0);
+            if d > 0.0 {
+                let (dm, _) = crate::analysis::findings::golden_section_max(-d, d, 1e-4 * d, at);
+                let vm = at(dm);
+                if vm > v0 {
+                    (droop_v, t_s) = (vm, t_obs + dm);
+                }
             }
         }
         let dominant_hz = (pattern.len() >= 2).then(|| {
@@ -607,7 +639,7 @@ fn assemble(rail: &Rail, plan: &Plan, s: &Samples, main: Option<&Modal>) -> Droo
         min_interval_s,
         min_interval_from,
         max_pulses,
-        sustained: sustained(&plan.network, plan.band_hz, plan.step_a, r_dc),
+        sustained: sustained(rail, &plan.network, plan.band_hz, plan.step_a, r_dc),
         warnings,
     }
 }

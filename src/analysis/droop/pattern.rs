@@ -4,7 +4,8 @@
 //! sum of the step droop s(τ) at the ages τ of its edges (the idea of the reverse pulse technique, Drabkin et al.,
 //! EPEP 2002): with ages 0 ≤ τ_off,1 < τ_on,1 < τ_off,2 < τ_on,2 < … the droop is Σ s(τ_on,k) − s(τ_off,k). A
 //! load cannot switch faster than it does: every on and every off interval lasts at least `min_interval_s`
-//! (consecutive ages at least that far apart), and a burst has at most `max_pulses` pulses. Over the sampled
+//! (consecutive ages at least that far apart; a load still on at the observed instant may have turned on at any
+//! age, since its on interval continues past the instant), and a burst has at most `max_pulses` pulses. Over the sampled
 //! ages this is a longest-path problem solved exactly by dynamic programming: O(N) with prefix maxima, or
 //! O(N·K) with a pulse limit K.
 
@@ -36,7 +37,8 @@ const NONE: u32 = u32::MAX;
 /// high[i]: best sum whose most recent choice (largest age) is an "on" edge at age τᵢ; low[i] the same ending in
 /// an "off" edge. low may start afresh (a load switched off τᵢ ago, on before that by an older "on"), so the
 /// recursion runs from young to old ages: low[i] = −s[i] + max(0, best high at least min_gap younger) and
-/// high[i] = s[i] + best low at least min_gap younger (the youngest low being "still on" at age 0: low[0] = 0).
+/// high[i] = s[i] + best low at least min_gap younger, or the "still on" low at age 0 (low[0] = 0) at any age: a load
+/// on at the observed instant stays on past it, so its last on interval is not cut short by looking.
 fn solve(tau: &[f64], s: &[f64], n: usize, min_gap: f64, layers: Option<usize>) -> WorstPattern {
     let k_max = layers.unwrap_or(1);
     // Per layer k (pulses so far, counting the one being closed by a high): values and predecessors.
@@ -79,7 +81,12 @@ fn solve(tau: &[f64], s: &[f64], n: usize, min_gap: f64, layers: Option<usize>) 
             }
         }
         for k in 0..k_max {
-            let (v, j) = best_low[k];
+            let (mut v, mut j) = best_low[k];
+            // A load still on at the observed instant (the "low" at age 0) has no interval to keep: its on
+            // interval goes on after the instant, so its "on" edge may be any age, however young.
+            if k == 0 && i > 0 && low[lk(0, 0)] > v {
+                (v, j) = (low[lk(0, 0)], 0);
+            }
             if v > f64::NEG_INFINITY {
                 high[lk(k, i)] = v + s[i];
                 high_from[lk(k, i)] = j;

@@ -52,8 +52,10 @@ impl Pwl {
 
 /// (e^z − 1)/z and (e^z − 1 − z)/z², by their series near 0 where the direct forms cancel.
 fn phi12(z: C) -> (C, C) {
-    if z.norm() < 0.25 {
-        // Σ z^k/(k+1)! and Σ z^k/(k+2)!
+    let r2 = z.norm_sqr();
+    if r2 < 0.0625 {
+        // Σ z^k/(k+1)! and Σ z^k/(k+2)!, until the terms no longer move the sums (|z| < 1/4: a term is at most a
+        // quarter of the one before, so what is left is below the last term).
         let (mut t1, mut t2) = (C::new(1.0, 0.0), C::new(0.5, 0.0));
         let (mut s1, mut s2) = (t1, t2);
         for k in 1..18 {
@@ -61,6 +63,9 @@ fn phi12(z: C) -> (C, C) {
             t2 = t2 * z / (k as f64 + 2.0);
             s1 += t1;
             s2 += t2;
+            if t1.norm_sqr() < 1e-36 * s1.norm_sqr() {
+                break;
+            }
         }
         (s1, s2)
     } else {
@@ -69,6 +74,12 @@ fn phi12(z: C) -> (C, C) {
     }
 }
 
+/// One mode's update coefficients for one step length: (e^{ph}, h·φ₁(ph), h·φ₂(ph)).
+type Coef = (C, C, C);
+
+/// Step lengths whose coefficients a [`Stepper`] keeps besides the current one.
+const KEPT_STEPS: usize = 12;
+
 /// The modes' state and the update coefficients for the current step length.
 #[derive(Debug, Clone)]
 pub(super) struct Stepper<'a> {
@@ -76,12 +87,14 @@ pub(super) struct Stepper<'a> {
     pub x: Vec<C>,
     h: f64,
     /// (e^{ph}, h·φ₁(ph), h·φ₂(ph)) per mode for step `h`.
-    coef: Vec<(C, C, C)>,
+    coef: Vec<Coef>,
+    /// Coefficients of the step lengths used before (a few: the walk's steps are powers of two of one length).
+    kept: Vec<(f64, Vec<Coef>)>,
 }
 
 impl<'a> Stepper<'a> {
     pub fn new(modal: &'a Modal) -> Stepper<'a> {
-        Stepper { modal, x: vec![C::new(0.0, 0.0); modal.modes.len()], h: f64::NAN, coef: Vec::new() }
+        Stepper { modal, x: vec![C::new(0.0, 0.0); modal.modes.len()], h: f64::NAN, coef: Vec::new(), kept: Vec::new() }
     }
 
     /// Advance by h with the current going linearly from i0 to i1.
@@ -92,26 +105,46 @@ impl<'a> Stepper<'a> {
         self.shift(h, i0, i1);
     }
 
-    /// Move by h (either sign: the update is the exact solution, analytic in h) with the current linear from i0
-    /// to i1. The coefficients are kept while h stays within rounding of the last step's (a step snapped to a
+    /// Move forward by h > 0 with the current linear from i0 to i1 (never back: a step back grows every decaying
+    /// mode by e^{|Re p|·h}). The coefficients are kept while h stays within rounding of the last step's (a step snapped to a
     /// grid time differs from its neighbours in the last bits only), so a run of equal steps costs no exponential.
     fn shift(&mut self, h: f64, i0: f64, i1: f64) {
         if (h - self.h).abs() > 1e-12 * h.abs() || self.coef.len() != self.x.len() {
-            self.h = h;
-            self.coef = self
-                .modal
-                .modes
-                .iter()
-                .map(|&(p, _)| {
-                    let z = p * h;
-                    let (f1, f2) = phi12(z);
-                    (z.exp(), f1 * h, f2 * h)
-                })
-                .collect();
+            let same = |k: f64| (h - k).abs() <= 1e-12 * h.abs();
+            if let Some(at) = self.kept.iter().position(|(k, _)| same(*k)) {
+                let (k, c) = self.kept.swap_remove(at);
+                let old = std::mem::replace(&mut self.coef, c);
+                let was = std::mem::replace(&mut self.h, k);
+                self.remember(was, old);
+            } else {
+                let old = std::mem::take(&mut self.coef);
+                let was = std::mem::replace(&mut self.h, h);
+                self.remember(was, old);
+                self.coef = self
+                    .modal
+                    .modes
+                    .iter()
+                    .map(|&(p, _)| {
+                        let z = p * h;
+                        let (f1, f2) = phi12(z);
+                        (z.exp(), f1 * h, f2 * h)
+                    })
+                    .collect();
+            }
         }
         let di = i1 - i0;
         for (x, &(a, b0, b1)) in self.x.iter_mut().zip(&self.coef) {
             *x = a * *x + b0 * i0 + b1 * di;
+        }
+    }
+
+    /// Keep the coefficients of step `h` for later (at most [`KEPT_STEPS`], the oldest dropped).
+    fn remember(&mut self, h: f64, coef: Vec<Coef>) {
+        if coef.len() == self.x.len() && h.is_finite() {
+            if self.kept.len() >= KEPT_STEPS {
+                self.kept.remove(0);
+            }
+            self.kept.push((h, coef));
         }
     }
 
@@ -247,10 +280,13 @@ pub(super) fn walk(w: &Walk) -> Samples {
     let mut h_live = h_fast;
     let mut count = 0usize;
     let last_corner = w.load.corners.last().map_or(0.0, |c| c.0);
-    // The largest drop so far at each node: (sample index, drop, the modes' state there), so the peak is refined
-    // from where it lies instead of from t = 0.
+    // The largest drop so far at each node: (sample index, drop, the modes' state at the sample before it), so the
+    // peak is refined from where it lies instead of from t = 0, moving forward only (see `peak_of`).
     let mut best: (usize, f64, Vec<C>) = (0, 0.0, st.x.clone());
     let mut board_best: Option<(usize, f64, Vec<C>)> = board_x.as_ref().map(|b| (0, 0.0, b.x.clone()));
+    // The modes' state at the previous sample (the one before the step just taken).
+    let mut before: Vec<C> = st.x.clone();
+    let mut board_before: Vec<C> = board_x.as_ref().map_or_else(Vec::new, |b| b.x.clone());
     loop {
         let past_window = t >= w.window_s * (1.0 - 1e-12);
         // Past the window, stop once nothing is left to see (judged every 16 steps: each test costs a square root
@@ -315,8 +351,10 @@ pub(super) fn walk(w: &Walk) -> Samples {
             count = 1;
         }
         let (i0, i1) = (w.load.at(t), w.load.at(next));
+        before.clone_from(&st.x);
         st.advance(next - t, i0, i1);
         if let Some(b) = board_x.as_mut() {
+            board_before.clone_from(&b.x);
             b.advance(next - t, i0, i1);
         }
         t = next;
@@ -327,7 +365,7 @@ pub(super) fn walk(w: &Walk) -> Samples {
         if v >= best.1 {
             best.0 = s.main.len() - 1;
             best.1 = v;
-            best.2.clone_from(&st.x);
+            best.2.clone_from(&before);
         }
         if let (Some(b), Some(m), Some(bv)) = (&board_x, w.board, s.board.as_mut()) {
             let vb = b.drop_with(m, i1, slope_in);
@@ -337,7 +375,7 @@ pub(super) fn walk(w: &Walk) -> Samples {
             {
                 bb.0 = bv.len() - 1;
                 bb.1 = vb;
-                bb.2.clone_from(&b.x);
+                bb.2.clone_from(&board_before);
             }
         }
         // Where the slope jumps and the drop with it (a series inductance at the node), keep the right limit too.
@@ -371,9 +409,13 @@ fn undamped_alive(st: &Stepper, tol: f64, i: f64) -> bool {
 
 /// The largest drop: the largest sample, refined by a golden-section search on the exact response between its
 /// neighbours (no search at a corner of the load, where the drop has a kink or a jump). `saved` is a sample's index
-/// and the modes' state there: when it is the largest, the search moves from it (no corner lies between
-/// neighbouring samples, so the current is linear there and one exact step of either sign reaches any instant);
-/// otherwise it walks from t = 0.
+/// and the modes' state at the sample before it: when that sample is the largest, the search moves forward from its
+/// left neighbour (no corner lies between neighbouring samples, so the current is linear there and one exact step
+/// reaches any instant); otherwise it walks from t = 0.
+///
+/// Only forward: a step back by h multiplies each mode by e^{−p·h}, which for a fast mode long dead overflows (past
+/// |Re p|·h ≈ 709) or amplifies its rounding; that made the pumped droop of a 1 H source over 2e7 F infinite, where
+/// the steps between samples had grown to seconds while the band filter's poles decay at 10⁴ per second.
 fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl, saved: Option<(usize, &[C])>) -> (usize, f64, f64) {
     let Some((i, &best)) = v.iter().enumerate().max_by(|a, b| a.1.total_cmp(b.1)) else { return (0, 0.0, 0.0) };
     if i == 0 || i + 1 >= t.len() || t[i - 1] == t[i] || t[i + 1] == t[i] {
@@ -389,7 +431,7 @@ fn peak_of(t: &[f64], v: &[f64], modal: &Modal, load: &Pwl, saved: Option<(usize
         Some(state) => {
             let mut st = Stepper::new(modal);
             st.x.copy_from_slice(state);
-            st.shift(x - t[i], load.at(t[i]), load.at(x));
+            st.advance(x - a, load.at(a), load.at(x));
             st.drop_with(modal, load.at(x), load.slope(x, false))
         }
         None => response_at(modal, load, x),
@@ -404,4 +446,67 @@ pub(super) fn response_at(modal: &Modal, load: &Pwl, t: f64) -> f64 {
     let mut st = Stepper::new(modal);
     st.advance_through(load, 0.0, t);
     st.drop_with(modal, load.at(t), load.slope(t, false))
+}
+
+/// e^z and (e^z − 1)/z, by the series near 0 where the direct form cancels.
+fn exp_phi1(z: C) -> (C, C) {
+    if z.norm_sqr() < 0.0625 {
+        let (f1, _) = phi12(z);
+        (1.0 + z * f1, f1)
+    } else {
+        let e = z.exp();
+        (e, (e - 1.0) / z)
+    }
+}
+
+/// The exact drop at any age τ after one ramp of the load from 0 to `amp` over `ramp_s` starting at age 0, in
+/// closed form per mode: on the ramp x(τ) = (amp/ramp)·τ²·φ₂(pτ), after it x(τ) = e^{p(τ−R)}·x(R) +
+/// amp·(τ−R)·φ₁(p(τ−R)) (the ramp-invariant update of one step from rest). A pattern's drop is a sum of these at its
+/// edges' ages, so it is evaluated at any instant without walking through the pattern; ages are used as given, so
+/// an age of 10⁸ s keeps a 1 ns ramp that an absolute time of that size could not.
+#[derive(Debug, Clone)]
+pub(super) struct RampStep<'a> {
+    modal: &'a Modal,
+    ramp_s: f64,
+    amp: f64,
+    /// Each mode's state at the ramp's end.
+    end: Vec<C>,
+}
+
+impl<'a> RampStep<'a> {
+    pub fn new(modal: &'a Modal, ramp_s: f64, amp: f64) -> RampStep<'a> {
+        let slope = amp / ramp_s;
+        let end = modal.modes.iter().map(|&(p, _)| slope * ramp_s * ramp_s * phi12(p * ramp_s).1).collect();
+        RampStep { modal, ramp_s, amp, end }
+    }
+
+    /// The drop at age τ (0 before the ramp starts; the left limit at the ramp's end).
+    pub fn drop_at(&self, tau: f64) -> f64 {
+        if tau.is_nan() || tau <= 0.0 {
+            return 0.0;
+        }
+        let m = self.modal;
+        let slope = self.amp / self.ramp_s;
+        if tau <= self.ramp_s {
+            let sum: f64 = m.modes.iter().map(|&(p, r)| (r * (slope * tau * tau * phi12(p * tau).1)).re).sum();
+            sum + m.d * slope * tau + m.e * slope
+        } else {
+            let u = tau - self.ramp_s;
+            let sum: f64 = m
+                .modes
+                .iter()
+                .zip(&self.end)
+                .map(|(&(p, r), &x_end)| {
+                    let (e, f1) = exp_phi1(p * u);
+                    (r * (e * x_end + self.amp * u * f1)).re
+                })
+                .sum();
+            sum + m.d * self.amp
+        }
+    }
+
+    /// A pattern's drop observed `delta` after the instant its ages are counted from: Σ S(τ_on + δ) − S(τ_off + δ).
+    pub fn pattern_drop(&self, ages: &[(f64, f64)], delta: f64) -> f64 {
+        ages.iter().map(|&(on, off)| self.drop_at(on + delta) - self.drop_at(off + delta)).sum()
+    }
 }

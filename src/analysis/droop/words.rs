@@ -97,13 +97,14 @@ pub fn worst_case_line(d: &Droop) -> String {
 
 /// The sustained-resonance estimate, when the band has a peak.
 pub fn sustained_line(d: &Droop) -> Option<String> {
-    d.sustained.map(|s| {
+    d.sustained.as_ref().map(|s| {
         format!(
             "sustained resonance at the highest in-band peak ({}, {}): ΔI·((2/π)|Z| + R_dc/2) = {} (square wave's \
-             fundamental plus its mean, common practice)",
+             fundamental plus its mean, common practice). {}",
             format(s.peak_hz, Unit::Hertz),
             format(s.z_ohm, Unit::Ohm),
-            droop_figure(d, s.droop_v)
+            droop_figure(d, s.droop_v),
+            s.cause
         )
     })
 }
