@@ -93,7 +93,7 @@ pub struct Workspace {
 }
 
 /// Frequencies factored together (the lanes of one batch).
-const BATCH: usize = 2;
+pub(super) const BATCH: usize = 2;
 
 /// The smallest pivot magnitude accepted; a smaller one is replaced so the solve stays finite (it means a port
 /// shorted to another with no impedance between them, which the validated inputs never give at f > 0).
@@ -101,7 +101,7 @@ const TINY_PIVOT: f64 = 1e-300;
 
 /// One unknown of the system solved per frequency, in elimination order.
 #[derive(Debug, Clone, Copy, PartialEq)]
-enum Row {
+pub(super) enum Row {
     /// The current into branch b's port (b in `branches` order, also its plane port).
     Branch(usize),
     /// The voltage u the plate term carries.
@@ -111,7 +111,7 @@ enum Row {
 }
 
 /// Where row i of a packed lower triangle starts.
-fn row_start(i: usize) -> usize {
+pub(super) fn row_start(i: usize) -> usize {
     i * (i + 1) / 2
 }
 
@@ -226,7 +226,7 @@ impl PlacedCircuit {
     }
 
     /// Fill the packed lower triangle of the system for `rows` at the lanes' frequencies.
-    fn fill<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut Vec<Lanes<N>>) {
+    pub(super) fn fill<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut Vec<Lanes<N>>) {
         let size = rows.len();
         a.clear();
         a.resize(row_start(size), Lanes::default());
@@ -299,7 +299,7 @@ impl PlacedCircuit {
 
     /// The loads' matrix of lane `l` from a factored system whose first `pivots` rows are eliminated and whose
     /// last rows are the loads.
-    fn load_matrix<const N: usize>(&self, f_hz: f64, a: &[Lanes<N>], pivots: usize, l: usize) -> LoadMatrix {
+    pub(super) fn load_matrix<const N: usize>(&self, f_hz: f64, a: &[Lanes<N>], pivots: usize, l: usize) -> LoadMatrix {
         let nc = self.loads.len();
         let mut at_pins = vec![C::new(0.0, 0.0); nc * nc];
         for k in 0..nc {
@@ -387,16 +387,17 @@ impl PlacedCircuit {
 
 /// What one lane needs at its frequency: the plane's level and multipliers, the modes' coefficients, the branches'
 /// impedances and the plate admittance.
-struct LaneSetup<'a> {
+pub(super) struct LaneSetup<'a> {
     parts: StaticParts<'a>,
     coef: [C; 3],
     modes: Vec<C>,
-    branch: Vec<C>,
+    /// Each branch's impedance at the lane's frequency (added to its port's diagonal by `fill`).
+    pub(super) branch: Vec<C>,
     plate: C,
 }
 
 impl<'a> LaneSetup<'a> {
-    fn new(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
+    pub(super) fn new(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
         let mut setup = LaneSetup::plane_only(circuit, f_hz);
         setup.branch = circuit.branches.iter().map(|b| b.branch.impedance(f_hz)).collect();
         setup
@@ -420,20 +421,85 @@ impl<'a> LaneSetup<'a> {
 /// (the plane's matrix plus branch impedances: the diagonal dominates the elimination): rows below keep the
 /// multipliers L, the diagonal D, and the trailing block becomes the Schur complement.
 fn eliminate<const N: usize>(a: &mut [Lanes<N>], col: &mut Vec<Lanes<N>>, size: usize, pivots: usize) {
-    col.resize(size, Lanes::default());
-    for k in 0..pivots {
-        let kk = row_start(k) + k;
-        let inv = a[kk].recip_guarded(TINY_PIVOT);
+    eliminate_rows(a, col, size, 0..pivots);
+}
+
+/// Eliminate rows `pivots` of the packed symmetric matrix `a` (size × size), every row before them already
+/// eliminated: the same LDLᵀ steps as [`eliminate`], so a factorization can be carried on from a kept prefix.
+pub(super) fn eliminate_rows<const N: usize>(
+    a: &mut [Lanes<N>],
+    col: &mut Vec<Lanes<N>>,
+    size: usize,
+    pivots: std::ops::Range<usize>,
+) {
+    // Each lane is eliminated on its own with real and imaginary parts in separate arrays (the rows from the first
+    // pivot on, copied out and back): the inner update is then a plain loop over contiguous f64s, which the compiler
+    // vectorizes, where lanes of complex pairs spill registers. The steps and their order are the same in each lane.
+    col.clear();
+    if pivots.is_empty() {
+        return;
+    }
+    let offset = row_start(pivots.start);
+    let end = row_start(size);
+    let len = end - offset;
+    let mut re = vec![0.0; len];
+    let mut im = vec![0.0; len];
+    let mut col_re = vec![0.0; size];
+    let mut col_im = vec![0.0; size];
+    for l in 0..N {
+        for (x, (r, i)) in a[offset..end].iter().zip(re.iter_mut().zip(im.iter_mut())) {
+            *r = x.re[l];
+            *i = x.im[l];
+        }
+        eliminate_lane(&mut re, &mut im, &mut col_re, &mut col_im, offset, size, pivots.clone());
+        for (x, (r, i)) in a[offset..end].iter_mut().zip(re.iter().zip(&im)) {
+            x.re[l] = *r;
+            x.im[l] = *i;
+        }
+    }
+}
+
+/// [`eliminate_rows`] on one lane: `re`, `im` hold the packed rows from the one starting at `offset` on.
+fn eliminate_lane(
+    re: &mut [f64],
+    im: &mut [f64],
+    col_re: &mut [f64],
+    col_im: &mut [f64],
+    offset: usize,
+    size: usize,
+    pivots: std::ops::Range<usize>,
+) {
+    for k in pivots {
+        let kk = row_start(k) + k - offset;
+        let (pr, pi) = (re[kk], im[kk]);
+        let n2 = pr * pr + pi * pi;
+        // A tiny (or NaN) pivot is replaced by TINY_PIVOT, as Lanes::recip_guarded does.
+        let (inv_re, inv_im) = if n2.is_nan() || n2.sqrt() < TINY_PIVOT {
+            re[kk] = TINY_PIVOT;
+            im[kk] = 0.0;
+            (1.0 / TINY_PIVOT, 0.0)
+        } else {
+            (pr / n2, -pi / n2)
+        };
         for j in k + 1..size {
-            col[j] = a[row_start(j) + k];
+            let x = row_start(j) + k - offset;
+            col_re[j] = re[x];
+            col_im[j] = im[x];
         }
         for i in k + 1..size {
-            let start = row_start(i);
-            let s = a[start + k] * inv;
-            for (x, c) in a[start + k + 1..start + i + 1].iter_mut().zip(&col[k + 1..=i]) {
-                *x = x.sub_mul(s, *c);
+            let start = row_start(i) - offset;
+            let (ar, ai) = (re[start + k], im[start + k]);
+            let (sr, si) = (ar * inv_re - ai * inv_im, ar * inv_im + ai * inv_re);
+            let xr = &mut re[start + k + 1..start + i + 1];
+            let xi = &mut im[start + k + 1..start + i + 1];
+            let cr = &col_re[k + 1..=i];
+            let ci = &col_im[k + 1..=i];
+            for (((xr, xi), cr), ci) in xr.iter_mut().zip(xi.iter_mut()).zip(cr).zip(ci) {
+                *xr -= sr * cr - si * ci;
+                *xi -= sr * ci + si * cr;
             }
-            a[start + k] = s;
+            re[start + k] = sr;
+            im[start + k] = si;
         }
     }
 }
