@@ -251,21 +251,18 @@ impl PlacedCircuit {
     fn add_modes<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut [Lanes<N>]) {
         let top = lanes.iter().map(|s| s.parts.modes).max().unwrap_or(0);
         let ports: Vec<Option<usize>> = rows.iter().map(|&r| self.port_of(r)).collect();
+        let n = rows.len();
+        // values[k·n + i]: mode k at row i's port (0 for the border); coef[k]: its coefficient in each lane.
+        let mut values = vec![0.0; top * n];
+        let mut coef = Vec::with_capacity(top);
         for k in 0..top {
-            let c = Lanes::from_fn(|l| if k < lanes[l].parts.modes { lanes[l].modes[k] } else { C::new(0.0, 0.0) });
+            coef.push(Lanes::from_fn(|l| if k < lanes[l].parts.modes { lanes[l].modes[k] } else { C::new(0.0, 0.0) }));
             let phi = self.plane.mode_values(k);
-            let values: Vec<f64> = ports.iter().map(|p| p.map_or(0.0, |x| phi[x])).collect();
-            for (i, &vi) in values.iter().enumerate() {
-                if ports[i].is_none() || vi == 0.0 {
-                    continue;
-                }
-                let ci = c.scale(vi);
-                let start = row_start(i);
-                for (x, &vj) in a[start..start + i + 1].iter_mut().zip(&values[..=i]) {
-                    *x = x.add_scaled(ci, vj);
-                }
+            for (v, p) in values[k * n..(k + 1) * n].iter_mut().zip(&ports) {
+                *v = p.map_or(0.0, |x| phi[x]);
             }
         }
+        add_modes_rows(a, &values, &coef, n);
     }
 
     /// The impedances among the loads at `f_hz`.
@@ -385,6 +382,46 @@ impl PlacedCircuit {
     }
 }
 
+/// a += Σ_k coef[k]·v_k·v_kᵀ over the packed lower triangle (v_k = values[k·n..(k + 1)·n]), row by row so a row
+/// stays in cache while every mode is added to it; compiled for AVX2 where the processor has it (the same
+/// operations in the same order, so the same bits).
+fn add_modes_rows<const N: usize>(a: &mut [Lanes<N>], values: &[f64], coef: &[Lanes<N>], n: usize) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, checked on the line above; nothing else is required of the caller.
+        unsafe { add_modes_rows_avx2(a, values, coef, n) };
+        return;
+    }
+    add_modes_rows_plain(a, values, coef, n);
+}
+
+/// [`add_modes_rows_plain`] compiled with AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn add_modes_rows_avx2<const N: usize>(a: &mut [Lanes<N>], values: &[f64], coef: &[Lanes<N>], n: usize) {
+    add_modes_rows_plain(a, values, coef, n);
+}
+
+/// See [`add_modes_rows`].
+#[inline(always)]
+fn add_modes_rows_plain<const N: usize>(a: &mut [Lanes<N>], values: &[f64], coef: &[Lanes<N>], n: usize) {
+    for i in 0..n {
+        let start = row_start(i);
+        let row = &mut a[start..start + i + 1];
+        for (k, c) in coef.iter().enumerate() {
+            let v = &values[k * n..k * n + i + 1];
+            let vi = v[i];
+            if vi == 0.0 {
+                continue;
+            }
+            let ci = c.scale(vi);
+            for (x, &vj) in row.iter_mut().zip(v) {
+                *x = x.add_scaled(ci, vj);
+            }
+        }
+    }
+}
+
 /// What one lane needs at its frequency: the plane's level and multipliers, the modes' coefficients, the branches'
 /// impedances and the plate admittance.
 pub(super) struct LaneSetup<'a> {
@@ -459,8 +496,45 @@ pub(super) fn eliminate_rows<const N: usize>(
     }
 }
 
-/// [`eliminate_rows`] on one lane: `re`, `im` hold the packed rows from the one starting at `offset` on.
+/// [`eliminate_rows`] on one lane: `re`, `im` hold the packed rows from the one starting at `offset` on. Where the
+/// processor has AVX2 the same code is compiled for it (four f64s per instruction instead of two); the operations
+/// and their order are the same (no fused multiply-add), so every machine gives the same bits.
 fn eliminate_lane(
+    re: &mut [f64],
+    im: &mut [f64],
+    col_re: &mut [f64],
+    col_im: &mut [f64],
+    offset: usize,
+    size: usize,
+    pivots: std::ops::Range<usize>,
+) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, checked on the line above; nothing else is required of the caller.
+        unsafe { eliminate_lane_avx2(re, im, col_re, col_im, offset, size, pivots) };
+        return;
+    }
+    eliminate_lane_plain(re, im, col_re, col_im, offset, size, pivots);
+}
+
+/// [`eliminate_lane_plain`] compiled with AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn eliminate_lane_avx2(
+    re: &mut [f64],
+    im: &mut [f64],
+    col_re: &mut [f64],
+    col_im: &mut [f64],
+    offset: usize,
+    size: usize,
+    pivots: std::ops::Range<usize>,
+) {
+    eliminate_lane_plain(re, im, col_re, col_im, offset, size, pivots);
+}
+
+/// The elimination of one lane (see [`eliminate_lane`]); inlined into each instruction-set version.
+#[inline(always)]
+fn eliminate_lane_plain(
     re: &mut [f64],
     im: &mut [f64],
     col_re: &mut [f64],

@@ -23,7 +23,9 @@ pub use worst::{MAX_ASCENT_TRIES, placed_worst_vertex};
 use super::findings::{self, Extremum, ViolationBand};
 use super::grid::log_grid;
 use super::network::{Network, View};
-use super::rail::{AnalysisOptions, AntiResonance, BranchRef, Curve, RailAnalysis, analyze_lumped_at, target_impedance};
+use super::rail::{
+    AnalysisOptions, AntiResonance, BranchRef, Curve, RailAnalysis, analyze_lumped_at, target_impedance,
+};
 use super::worst::{SearchOptions, WorstVertex};
 use crate::model::{Board, Combine, Rail};
 use crate::physics::Corner;

@@ -211,10 +211,8 @@ fn every_vertex(rail: &Rail, circuit: &PlacedCircuit, varied: &[Varied], freq_hz
         }
         circuit.fill(&rows, &lanes, &mut tree.levels[0]);
         eliminate_rows(&mut tree.levels[0], &mut tree.col, size, 0..first_varied);
-        tree.z = varied
-            .iter()
-            .map(|v| v.branch.iter().map(|b| Lanes::from_fn(|l| b.impedance(f[l]))).collect())
-            .collect();
+        tree.z =
+            varied.iter().map(|v| v.branch.iter().map(|b| Lanes::from_fn(|l| b.impedance(f[l]))).collect()).collect();
         tree.freq = f;
         tree.lanes_used = chunk.len();
         tree.walk(0, 0);
