@@ -24,6 +24,10 @@ use num_complex::Complex64 as C;
 /// every grid frequency).
 pub const MAX_ASCENT_TRIES: u64 = 48;
 
+/// The most vertices tried one by one whatever the options ask (each leaf of the walk costs the last group's rows
+/// and the loads' block at every grid frequency, and keeps one figure).
+pub const MAX_PLACED_EXHAUSTIVE: f64 = 4096.0;
+
 /// One group that varies: its choices, the branch each choice gives its parts, and the branches (ports) it owns.
 struct Varied {
     index: usize,
@@ -98,22 +102,23 @@ pub fn placed_worst_vertex(
 ) -> WorstVertex {
     let varied = varied_groups(board, rail, circuit);
     let vertices: f64 = varied.iter().map(|v| v.choices.len() as f64).product();
-    let (choice, grid_worst_ohm, bound_ohm, evaluated, method) = if vertices <= options.exhaustive_limit {
-        let worst = every_vertex(rail, circuit, &varied, freq_hz);
-        // The first of the highest (a NaN never wins).
-        let best = (0..worst.len()).fold(0, |b, i| if worst[i] > worst[b] { i } else { b });
-        let mut choice = vec![0; varied.len()];
-        let mut rest = best;
-        for (d, v) in varied.iter().enumerate().rev() {
-            choice[d] = rest % v.choices.len();
-            rest /= v.choices.len();
-        }
-        (choice, worst[best], worst[best], worst.len() as u64, SearchMethod::Exhaustive)
-    } else {
-        let (choice, best, tries) = ascend(rail, circuit, &varied, freq_hz);
-        // No bound is proven past the exhaustive limit: the bound is left infinite and the words say so.
-        (choice, best, f64::INFINITY, tries, SearchMethod::BestFound)
-    };
+    let (choice, grid_worst_ohm, bound_ohm, evaluated, method) =
+        if vertices <= options.exhaustive_limit.min(MAX_PLACED_EXHAUSTIVE) {
+            let worst = every_vertex(rail, circuit, &varied, freq_hz);
+            // The first of the highest (a NaN never wins).
+            let best = (0..worst.len()).fold(0, |b, i| if worst[i] > worst[b] { i } else { b });
+            let mut choice = vec![0; varied.len()];
+            let mut rest = best;
+            for (d, v) in varied.iter().enumerate().rev() {
+                choice[d] = rest % v.choices.len();
+                rest /= v.choices.len();
+            }
+            (choice, worst[best], worst[best], worst.len() as u64, SearchMethod::Exhaustive)
+        } else {
+            let (choice, best, tries) = ascend(rail, circuit, &varied, freq_hz);
+            // No bound is proven past the exhaustive limit: the bound is left infinite and the words say so.
+            (choice, best, f64::INFINITY, tries, SearchMethod::BestFound)
+        };
     set_vertex(circuit, &varied, &choice);
     let mut groups: Vec<GroupVertex> = (0..rail.decaps.len())
         .map(|index| GroupVertex { index, capacitance: Side::Middle, esr: Side::Middle, scale: Scale::MIDDLE })
