@@ -318,6 +318,12 @@ pub fn search_words(a: &RailAnalysis) -> Option<String> {
                 vertex_count_words(v.vertices)
             )
         }
+        super::worst::SearchMethod::BestFound => format!(
+            "{} tolerance vertices, more than are tried one by one: the worst of {} found by changing one group at a \
+             time, not proven the worst",
+            vertex_count_words(v.vertices),
+            v.evaluated
+        ),
         super::worst::SearchMethod::Bounded => format!(
             "{} tolerance vertices, search stopped at its budget: no vertex exceeds {} on the scan grid",
             vertex_count_words(v.vertices),

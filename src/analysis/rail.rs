@@ -178,6 +178,18 @@ pub(super) fn analyze_lumped(board: &Board, rail: &Rail, options: &AnalysisOptio
     let vertex = (options.corner == Corner::Worst).then(|| {
         worst_vertex(board, rail, view, &log_grid(band.hz[0], band.hz[1], options.band_points.max(2)), &options.search)
     });
+    analyze_lumped_at(board, rail, options, view, vertex)
+}
+
+/// Analyse a rail as one node with its parts at `vertex` (in the worst corner; `None` elsewhere), seen from `view`.
+pub(super) fn analyze_lumped_at(
+    board: &Board,
+    rail: &Rail,
+    options: &AnalysisOptions,
+    view: View,
+    vertex: Option<WorstVertex>,
+) -> Option<RailAnalysis> {
+    let band = rail.band()?;
     let scales = vertex.as_ref().map(WorstVertex::scales).unwrap_or_default();
     let network = Network::of_rail_scaled(board, rail, options.corner, &scales);
     let z_at = |f: f64| network.impedance_in(f, view);
