@@ -258,11 +258,14 @@ impl App {
             // The legend: each group's colour (and shape past eight groups), then the other things.
             let dark = ui.visuals().dark_mode;
             for (g, d) in rail.decaps.iter().enumerate() {
-                let (r, _) = ui.allocate_exact_size(egui::vec2(11.0, 11.0), Sense::hover());
-                draw::swatch(ui.painter(), r, g, dark);
-                ui.label(format!("{} ×{}", d.part, d.count));
+                // A swatch and its group's name stay on one line.
+                ui.horizontal(|ui| {
+                    let (r, _) = ui.allocate_exact_size(egui::vec2(11.0, 11.0), Sense::hover());
+                    draw::swatch(ui.painter(), r, g, dark);
+                    ui.label(format!("{} ×{}", d.part, d.count));
+                });
             }
-            ui.label(RichText::new("· outlined: load pins · grey: regulator ·").weak());
+            ui.label(RichText::new("· outlined: load pins (heavier: the load on the plot) · grey: regulator ·").weak());
             ui.label(RichText::new("what a position means").weak().underline()).on_hover_text(crate::notes::POSITIONS);
         });
     }
