@@ -153,6 +153,9 @@ pub struct RailAnalysis {
     pub scan: Curve,
     /// The display sweep, when asked for.
     pub curve: Option<Curve>,
+    /// What a placed rail adds to the findings (plane resonances, far parts, one-value loads), from the circuit the
+    /// analysis solved; empty on a lumped rail.
+    pub placed_findings: Vec<super::Finding>,
 }
 
 /// Analyse rail `rail_index` of a (validated) board. A placed rail's verdict is its worst load's (see
@@ -281,6 +284,7 @@ pub(super) fn analyze_lumped_at(
         groups,
         scan: Curve { freq_hz: scan.freq_hz, z: scan.z, branches: Vec::new() },
         curve,
+        placed_findings: Vec::new(),
     })
 }
 

@@ -195,6 +195,7 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
         })
         .collect();
     a.scan = w.scan.clone();
+    a.placed_findings = placed_findings(board, rail, &circuit, target);
     a.curve = options.curve.map(|(from, to, n)| {
         let freq_hz = log_grid(from, to, n);
         let z = freq_hz.iter().map(|&f| eff_at(f)[shown]).collect();
@@ -214,14 +215,6 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
         Curve { freq_hz, z, branches }
     });
     Some(PlacedAnalysis { rail: a, loads, worst_load })
-}
-
-/// The findings a placed rail adds (none for a lumped rail), for the rail's analysis `a`.
-pub fn findings_for(board: &Board, rail: &Rail, a: &RailAnalysis) -> Vec<super::Finding> {
-    match PlacedCircuit::of_rail(board, rail, a.corner, a.band_hz[1]) {
-        Some(circuit) => placed_findings(board, rail, &circuit, a.target_ohm),
-        None => Vec::new(),
-    }
 }
 
 /// The impedance at load `at` (its die when it has a package) at each of `freq_hz`: its self-impedance, or with
