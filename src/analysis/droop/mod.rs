@@ -362,10 +362,12 @@ fn decimate(t: &[f64], v: &[f64], nominal_v: f64, window_s: f64, points: usize) 
                 }
                 k += 1;
             }
-            let mut extra: Vec<usize> = [lo, hi].into_iter().flatten().collect();
-            extra.sort_unstable();
-            extra.dedup();
-            for j in extra {
+            // The two in time order, once (no allocation: this runs for every interval of the grid).
+            let extra = match (lo, hi) {
+                (Some(a), Some(b)) if a != b => [Some(a.min(b)), Some(a.max(b))],
+                (a, b) => [a.or(b), None],
+            };
+            for j in extra.into_iter().flatten() {
                 if t[j] > out.last().map_or(-1.0, |p: &[f64; 2]| p[0]) {
                     out.push([t[j], nominal_v - v[j]]);
                 }
