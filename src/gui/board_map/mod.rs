@@ -337,15 +337,14 @@ impl App {
                 self.view.map.grab = Some(grab);
             }
         }
-        if response.drag_stopped() {
-            if let Some(grab) = self.view.map.grab.take()
-                && !grab.fresh
-                && let Some(now) = self.doc.board.rails.get(index)
-            {
-                let what = thing_words(now, grab.thing, grab.whole_group);
-                let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
-                self.status = Some(Status::info(format!("Moved {what}{at}.")));
-            }
+        if response.drag_stopped()
+            && let Some(grab) = self.view.map.grab.take()
+            && !grab.fresh
+            && let Some(now) = self.doc.board.rails.get(index)
+        {
+            let what = thing_words(now, grab.thing, grab.whole_group);
+            let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
+            self.status = Some(Status::info(format!("Moved {what}{at}.")));
         }
         if response.clicked()
             && let Some(p) = pointer
