@@ -488,7 +488,15 @@ pub(super) fn eliminate_rows<const N: usize>(
             *r = x.re[l];
             *i = x.im[l];
         }
-        eliminate_lane(&mut re, &mut im, &mut col_re, &mut col_im, offset, size, pivots.clone());
+        eliminate_lane(Lane {
+            re: &mut re,
+            im: &mut im,
+            col_re: &mut col_re,
+            col_im: &mut col_im,
+            offset,
+            size,
+            pivots: pivots.clone(),
+        });
         for (x, (r, i)) in a[offset..end].iter_mut().zip(re.iter().zip(&im)) {
             x.re[l] = *r;
             x.im[l] = *i;
@@ -496,53 +504,42 @@ pub(super) fn eliminate_rows<const N: usize>(
     }
 }
 
-/// [`eliminate_rows`] on one lane: `re`, `im` hold the packed rows from the one starting at `offset` on. Where the
-/// processor has AVX2 the same code is compiled for it (four f64s per instruction instead of two); the operations
-/// and their order are the same (no fused multiply-add), so every machine gives the same bits.
-fn eliminate_lane(
-    re: &mut [f64],
-    im: &mut [f64],
-    col_re: &mut [f64],
-    col_im: &mut [f64],
+/// One lane's elimination: its packed rows split into real and imaginary parts, the column buffers, where the
+/// rows start, the system's size and the pivots to eliminate.
+struct Lane<'a> {
+    re: &'a mut [f64],
+    im: &'a mut [f64],
+    col_re: &'a mut [f64],
+    col_im: &'a mut [f64],
     offset: usize,
     size: usize,
     pivots: std::ops::Range<usize>,
-) {
+}
+
+/// [`eliminate_rows`] on one lane: `re`, `im` hold the packed rows from the one starting at `offset` on. Where the
+/// processor has AVX2 the same code is compiled for it (four f64s per instruction instead of two); the operations
+/// and their order are the same (no fused multiply-add), so every machine gives the same bits.
+fn eliminate_lane(lane: Lane<'_>) {
     #[cfg(target_arch = "x86_64")]
     if std::arch::is_x86_feature_detected!("avx2") {
         // SAFETY: the processor has AVX2, checked on the line above; nothing else is required of the caller.
-        unsafe { eliminate_lane_avx2(re, im, col_re, col_im, offset, size, pivots) };
+        unsafe { eliminate_lane_avx2(lane) };
         return;
     }
-    eliminate_lane_plain(re, im, col_re, col_im, offset, size, pivots);
+    eliminate_lane_plain(lane);
 }
 
 /// [`eliminate_lane_plain`] compiled with AVX2.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx2")]
-fn eliminate_lane_avx2(
-    re: &mut [f64],
-    im: &mut [f64],
-    col_re: &mut [f64],
-    col_im: &mut [f64],
-    offset: usize,
-    size: usize,
-    pivots: std::ops::Range<usize>,
-) {
-    eliminate_lane_plain(re, im, col_re, col_im, offset, size, pivots);
+fn eliminate_lane_avx2(lane: Lane<'_>) {
+    eliminate_lane_plain(lane);
 }
 
 /// The elimination of one lane (see [`eliminate_lane`]); inlined into each instruction-set version.
 #[inline(always)]
-fn eliminate_lane_plain(
-    re: &mut [f64],
-    im: &mut [f64],
-    col_re: &mut [f64],
-    col_im: &mut [f64],
-    offset: usize,
-    size: usize,
-    pivots: std::ops::Range<usize>,
-) {
+fn eliminate_lane_plain(lane: Lane<'_>) {
+    let Lane { re, im, col_re, col_im, offset, size, pivots } = lane;
     for k in pivots {
         let kk = row_start(k) + k - offset;
         let (pr, pi) = (re[kk], im[kk]);
