@@ -69,6 +69,8 @@ pub struct MapState {
     place: place_form::PlaceForm,
     /// The import window (File ▸ Import the placement).
     pub import: import::ImportForm,
+    /// The circuit a part's hover figures read, with the board revision, rail and corner it was built for.
+    hover_circuit: Option<((u64, usize, crate::physics::Corner), crate::analysis::placed::PlacedCircuit)>,
     /// The transform the map was drawn with last frame (tests find things on screen through it).
     last_transform: Option<Transform>,
 }
@@ -87,6 +89,7 @@ impl Default for MapState {
             add_group: None,
             place: place_form::PlaceForm::default(),
             import: Default::default(),
+            hover_circuit: None,
             last_transform: None,
         }
     }
@@ -399,7 +402,7 @@ impl App {
     /// What the tooltip says about an item: what it is, where, and for a part what the planes add between it and
     /// the shown load.
     fn hover_words(
-        &self,
+        &mut self,
         rail: &Rail,
         item: &Item,
         shown_load: usize,
@@ -448,7 +451,7 @@ impl App {
 
     /// The engine's path from a part to a load (the same figures as the far-part finding).
     fn part_path_to(
-        &self,
+        &mut self,
         rail: &Rail,
         item: &Item,
         load: usize,
@@ -456,17 +459,23 @@ impl App {
     ) -> Option<crate::analysis::placed::PartPath> {
         let Thing::Part { group, spot } = item.thing else { return None };
         let r = result?;
-        let circuit = crate::analysis::placed::PlacedCircuit::of_rail(
-            &self.doc.board,
-            rail,
-            r.analysis.corner,
-            r.analysis.band_hz[1],
-        )?;
+        // Preparing the plane costs more than a frame: the circuit is kept while the board stays as it is.
+        let key = (self.doc.history.revision(), self.view.selected_rail, r.analysis.corner);
+        if self.view.map.hover_circuit.as_ref().is_none_or(|(k, _)| *k != key) {
+            let circuit = crate::analysis::placed::PlacedCircuit::of_rail(
+                &self.doc.board,
+                rail,
+                r.analysis.corner,
+                r.analysis.band_hz[1],
+            )?;
+            self.view.map.hover_circuit = Some((key, circuit));
+        }
+        let circuit = &self.view.map.hover_circuit.as_ref()?.1;
         let reference = spot.map(|_| item.label.clone());
         let i = circuit.branches.iter().position(|b| {
             b.owner == crate::analysis::placed::PortOwner::Group { group, reference: reference.clone() }
         })?;
-        crate::analysis::placed::part_path(&self.doc.board, rail, &circuit, i, load, r.analysis.target_ohm)
+        crate::analysis::placed::part_path(&self.doc.board, rail, circuit, i, load, r.analysis.target_ohm)
     }
 }
 
