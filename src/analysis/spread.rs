@@ -210,7 +210,11 @@ pub struct Sensitivity {
 }
 
 /// Each group's sensitivity in the corner, view and tolerance vertex of `analysis`, on its scan grid.
+/// On a placed rail, through the planes ([`crate::analysis::placed::placed_sensitivity`]).
 pub fn sensitivity(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Sensitivity> {
+    if rail.placement.is_some() {
+        return crate::analysis::placed::placed_sensitivity(board, rail, analysis);
+    }
     let freq = &analysis.scan.freq_hz;
     let scales: Vec<Scale> = analysis.vertex.as_ref().map(|v| v.scales()).unwrap_or_default();
     let network = Network::of_rail_scaled(board, rail, analysis.corner, &scales);

@@ -34,7 +34,7 @@ pub use exports::{FileAction, PathPrompt};
 pub use pins::Pin;
 pub use plot::{log_label, log_marks};
 pub use status::{Status, StatusKind};
-pub use time_view::droop_lines;
+pub use time_view::{droop_lines, more_figures_title};
 
 use std::path::PathBuf;
 

@@ -53,6 +53,15 @@ impl PatternView {
     }
 }
 
+/// The height left for the time view, in points, above which its figures start unfolded (a 1080-line screen has
+/// about 900; an 800-line laptop screen about 620).
+const ROOMY_HEIGHT: f32 = 760.0;
+
+/// The title of the fold that holds a droop's further figures.
+pub fn more_figures_title(lines: usize) -> String {
+    if lines == 1 { "1 more figure".into() } else { format!("{lines} more figures") }
+}
+
 /// The figures of a droop in words, as the window shows them, one line each: the engine's own words
 /// ([`crate::analysis::droop_lines`]) less the stimulus and the verdict, which the window shows above them.
 pub fn droop_lines(d: &Droop) -> Vec<String> {
@@ -106,8 +115,19 @@ impl App {
             ));
         });
         ui.label(crate::analysis::droop_verdict_line(d));
-        for line in droop_lines(d) {
-            ui.label(RichText::new(line).small());
+        let lines = droop_lines(d);
+        if !lines.is_empty() {
+            // On a laptop's screen the figures would take half the plot's height: there they start folded (the
+            // verdict above says whether the rail passes); a taller window shows them open.
+            let roomy = ui.available_height() > ROOMY_HEIGHT;
+            egui::CollapsingHeader::new(RichText::new(more_figures_title(lines.len())).small())
+                .id_salt("droop figures")
+                .default_open(roomy)
+                .show(ui, |ui| {
+                    for line in lines {
+                        ui.label(RichText::new(line).small());
+                    }
+                });
         }
         let show_pattern = &mut self.show_worst_pattern;
         ui.checkbox(show_pattern, "Show the worst-case on/off load pattern and the voltage it gives");

@@ -389,3 +389,65 @@ fn the_placed_worst_corner_is_the_worst_vertex_by_brute_force() {
     let a = analyze_rail(&board, 0, &worst_options).unwrap();
     assert!(search_words(&a).unwrap().contains("not proven the worst"));
 }
+
+/// The worst effective impedance over every load of `rail` on `grid`, each frequency solved directly.
+fn solved_worst(board: &Board, rail: usize, grid: &[f64]) -> f64 {
+    let r = &board.rails[rail];
+    let f_max = grid.iter().copied().fold(r.band_hz_or_default()[1], f64::max);
+    let circuit = PlacedCircuit::of_rail(board, r, Corner::Typical, f_max).unwrap();
+    let mut ws = Workspace::default();
+    grid.iter()
+        .flat_map(|&f| effective(&circuit, &circuit.solve(f, &mut ws), r.combine, r.total_step_a()))
+        .map(|z| z.norm())
+        .fold(0.0, f64::max)
+}
+
+#[test]
+fn placed_sensitivity_is_the_change_of_a_direct_solve() {
+    // A part more or fewer through the planes (a rank-one change of the loads' port matrix) against the circuit
+    // built again with the part added or taken out and solved directly, on the check's own scan grid. Both kinds
+    // of group: VCORE_PLACED's are placed part by part (the part nearest a load gets a twin beside it, or goes);
+    // a copy with its first group at one spot changes that group's count.
+    use hushrail::analysis::{CheckOptions, check_rail};
+    use hushrail::model::PartSpot;
+    let sample = read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let i = sample.rail_index("VCORE_PLACED").unwrap();
+    let mut at_one_spot = sample.clone();
+    {
+        let p = at_one_spot.rails[i].placement.as_mut().unwrap();
+        p.groups[0].spots = GroupSpots::At([0.013, 0.032]);
+    }
+    for board in [sample, at_one_spot] {
+        let check = check_rail(&board, i, &CheckOptions::default()).unwrap();
+        let grid = &check.verdict.scan.freq_hz;
+        let base = solved_worst(&board, i, grid);
+        // The scan grid holds the points the verdict's search looked at; its worst is refined between them.
+        assert!(base <= check.verdict.worst_ohm && rel(base, check.verdict.worst_ohm) < 1e-3);
+        assert_eq!(check.sensitivity.len(), board.rails[i].decaps.len());
+        for s in &check.sensitivity {
+            let (mut more, mut fewer) = (board.clone(), board.clone());
+            for (b, up) in [(&mut more, true), (&mut fewer, false)] {
+                let rail = &mut b.rails[i];
+                let loads: Vec<[f64; 2]> = rail.placement.as_ref().unwrap().loads.iter().map(|l| l.at_m).collect();
+                let g = &mut rail.decaps[s.group];
+                g.count = if up { g.count + 1 } else { g.count - 1 };
+                let gp = &mut rail.placement.as_mut().unwrap().groups[s.group];
+                if let GroupSpots::Each(spots) = &mut gp.spots {
+                    let near = |p: &PartSpot| {
+                        loads.iter().map(|l| (l[0] - p.at_m[0]).hypot(l[1] - p.at_m[1])).fold(f64::INFINITY, f64::min)
+                    };
+                    let k = (0..spots.len()).min_by(|&a, &b| near(&spots[a]).total_cmp(&near(&spots[b]))).unwrap();
+                    if up {
+                        let twin = PartSpot { reference: "C999".into(), at_m: spots[k].at_m };
+                        spots.push(twin);
+                    } else {
+                        spots.remove(k);
+                    }
+                }
+            }
+            let tag = format!("{} ({:?})", s.part, board.rails[i].placement.as_ref().unwrap().groups[s.group].spots);
+            assert!(rel(s.more_ohm + base, solved_worst(&more, i, grid)) < 1e-9, "one more {tag}");
+            assert!(rel(s.fewer_ohm.unwrap() + base, solved_worst(&fewer, i, grid)) < 1e-9, "one fewer {tag}");
+        }
+    }
+}

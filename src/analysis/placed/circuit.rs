@@ -130,6 +130,18 @@ impl PlacedCircuit {
     /// Build a placed rail's circuit in `corner`, prepared for frequencies up to `f_max_hz`. `None` for a lumped
     /// rail. Groups of count 0 or of an unusable measured part are left out, as in the lumped network.
     pub fn of_rail(board: &Board, rail: &Rail, corner: Corner, f_max_hz: f64) -> Option<PlacedCircuit> {
+        PlacedCircuit::of_rail_scaled(board, rail, corner, &[], f_max_hz)
+    }
+
+    /// [`PlacedCircuit::of_rail`] with group `i`'s capacitance and ESR multiplied by `scales[i]` (a tolerance
+    /// vertex, as [`Network::of_rail_scaled`] takes it).
+    pub fn of_rail_scaled(
+        board: &Board,
+        rail: &Rail,
+        corner: Corner,
+        scales: &[crate::analysis::network::Scale],
+        f_max_hz: f64,
+    ) -> Option<PlacedCircuit> {
         let placement = rail.placement.as_ref()?;
         // The lumped network gives each branch (derating, measured data, mounting) exactly as the lumped engine
         // has it; a group placed part by part is built with a count of one, so each branch is one part.
@@ -139,7 +151,7 @@ impl PlacedCircuit {
                 g.count = 1;
             }
         }
-        let network = Network::of_rail_in(board, &single, corner);
+        let network = Network::of_rail_scaled(board, &single, corner, scales);
         let mut ports = Vec::new();
         let mut branches = Vec::new();
         for b in &network.branches {
