@@ -14,7 +14,8 @@
 //! - "droop of one rail": one droop as the window runs it, the work that thread does.
 //! - "map drag step": one step of a part dragged on the board map of a placed rail (tests/networks/placed/
 //!   two_loads.json: a regulator, six parts, two loads with packages): the rail replaced through the history,
-//!   then its check at every load, its curve at the shown load and its findings brought up to date.
+//!   then its check at every load, its curve at the shown load and its findings brought up to date (each group's
+//!   sensitivity waits for the drop, as in the window).
 
 use criterion::{Criterion, criterion_group, criterion_main};
 use hushrail::gui::App;
@@ -47,7 +48,7 @@ fn frame(c: &mut Criterion) {
     let base = six_rails();
 
     drag_step(c, &base, "drag step: edit + analysis + plot data, 6 rails", Look::default(), false);
-    let both = Look { view: None, both_views: true, worst_corner: true, load: None };
+    let both = Look { view: None, both_views: true, worst_corner: true, load: None, moving: false };
     drag_step(c, &base, "drag step with the worst corner and both views, 6 rails", both, false);
     drag_step(c, &base, "drag step with the time view's droop, 6 rails", Look::default(), true);
 
@@ -152,6 +153,8 @@ fn map_drag_step(c: &mut Criterion) {
     let mut board = hushrail::io::read_board(std::path::Path::new(path)).expect("test network reads");
     let mut history = History::new();
     let mut results = Results::default();
+    // As the map sets it while a part is held: each group's sensitivity waits for the drop.
+    results.set_look(Look { moving: true, ..results.look() });
     results.refresh(&board);
     let mut step = 0usize;
     c.bench_function("map drag step: a part moved on a placed rail (2 loads, 6 parts)", |b| {

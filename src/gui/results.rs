@@ -61,6 +61,9 @@ pub struct Look {
     /// On a placed rail, the load whose effective impedance the plot shows; `None` is the worst load (the rail's
     /// verdict). An index past the rail's loads is taken as `None`.
     pub load: Option<usize>,
+    /// A part is held on the board map: each group's sensitivity waits until it is let go (on a placed rail it
+    /// costs about twice the check itself, and a drag step must fit a frame).
+    pub moving: bool,
 }
 
 /// A second analysis of the rail (the other view, or the worst corner) and its drawn curve.
@@ -253,6 +256,7 @@ pub fn compute_with(board: &Board, index: usize, look: Look) -> Option<RailResul
             branch_curves: true,
             other_view: false,
             corners: look.worst_corner,
+            sensitivity: !look.moving,
             ..CheckOptions::default()
         },
     )?;

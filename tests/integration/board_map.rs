@@ -54,6 +54,8 @@ fn dragging_a_part_moves_it_the_figures_follow_at_every_step_and_one_undo_takes_
         // At every step the window shows what the engine says for the board as it now is.
         let now = harness.state().board().clone();
         assert_shows(&harness, &engine(&now, 0));
+        // Each group's sensitivity (as costly as the check on a placed rail) waits for the drop.
+        assert!(harness.query_by_label_contains("worst |Z| per part").is_none(), "no sensitivity mid-drag");
     }
     let end = start + vec2(-70.0, 45.0);
     harness.drop_at(end);
@@ -66,6 +68,13 @@ fn dragging_a_part_moves_it_the_figures_follow_at_every_step_and_one_undo_takes_
     }
     assert_ne!(harness.state().board(), &board);
     assert_shows(&harness, &engine(harness.state().board(), 0));
+    // Let go, each group's sensitivity is back, for the board as it now is.
+    let result = hushrail::gui::results::compute(harness.state().board(), 0).unwrap();
+    assert!(!result.check.sensitivity.is_empty());
+    for s in &result.check.sensitivity {
+        let line = format!("worst |Z| per part: {}", hushrail::analysis::sensitivity_words(s));
+        assert!(harness.query_by_label(&line).is_some(), "shown after the drop: {line}");
+    }
 
     harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
     harness.run();

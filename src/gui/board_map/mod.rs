@@ -293,6 +293,15 @@ impl App {
         self.view.map.field.as_ref().and_then(|s| s.field.clone())
     }
 
+    /// Say whether a part is held on the map (the results then leave each group's sensitivity for the drop).
+    fn set_moving(&mut self, moving: bool) {
+        let mut look = self.view.results.look();
+        if look.moving != moving {
+            look.moving = moving;
+            self.view.results.set_look(look);
+        }
+    }
+
     /// Presses, drags and clicks on the map.
     fn map_interact(
         &mut self,
@@ -318,6 +327,7 @@ impl App {
                     whole_group: ui.input(|i| i.modifiers.shift),
                     fresh: true,
                 });
+                self.set_moving(true);
             }
         }
         if let (Some(mut grab), Some(p)) = (self.view.map.grab, pointer)
@@ -342,12 +352,15 @@ impl App {
         }
         if response.drag_stopped()
             && let Some(grab) = self.view.map.grab.take()
-            && !grab.fresh
-            && let Some(now) = self.doc.board.rails.get(index)
         {
-            let what = thing_words(now, grab.thing, grab.whole_group);
-            let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
-            self.status = Some(Status::info(format!("Moved {what}{at}.")));
+            self.set_moving(false);
+            if !grab.fresh
+                && let Some(now) = self.doc.board.rails.get(index)
+            {
+                let what = thing_words(now, grab.thing, grab.whole_group);
+                let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
+                self.status = Some(Status::info(format!("Moved {what}{at}.")));
+            }
         }
         if response.clicked()
             && let Some(p) = pointer
