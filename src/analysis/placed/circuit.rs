@@ -447,7 +447,7 @@ impl<'a> LaneSetup<'a> {
         LaneSetup {
             parts,
             coef: plane.static_coefficients(f_hz),
-            modes: (0..parts.modes).map(|k| plane.mode_coefficient(k, f_hz)).collect(),
+            modes: plane.mode_coefficients(parts.modes, f_hz),
             branch: Vec::new(),
             plate: plane.plate_admittance(f_hz),
         }
@@ -647,10 +647,7 @@ impl Drag {
             let mut pivot = column[e];
             for k in 0..e {
                 let start = row_start(k);
-                let mut y = column[k];
-                for (l, x) in a[start..start + k].iter().zip(&column[..k]) {
-                    y = y.sub_mul(*l, *x);
-                }
+                let y = sub_dot(column[k], &a[start..start + k], &column[..k]);
                 column[k] = y;
                 let mut d = a[start + k];
                 let inv = d.recip_guarded(TINY_PIVOT);
@@ -658,11 +655,7 @@ impl Drag {
             }
             for (c, slot) in coupling.iter_mut().enumerate() {
                 let start = row_start(e + 1 + c);
-                let mut s = column[e + 1 + c];
-                for (l, y) in a[start..start + e].iter().zip(&column[..e]) {
-                    s = s.sub_mul(*l, *y);
-                }
-                *slot = s;
+                *slot = sub_dot(column[e + 1 + c], &a[start..start + e], &column[..e]);
             }
             let inv_pivot = pivot.recip_guarded(TINY_PIVOT);
             for (l, &fl) in chunk.iter().enumerate() {
@@ -682,4 +675,22 @@ impl Drag {
         }
         out
     }
+}
+
+/// y − Σ_i l[i]·x[i] (l and x of one length), summed in four interleaved partial sums added together at the end:
+/// four independent chains the processor overlaps, where one chain waits on every addition's latency (the drag's
+/// triangular solve was bound by it). The order is fixed, so every machine gives the same bits.
+#[inline(always)]
+fn sub_dot<const N: usize>(y: Lanes<N>, l: &[Lanes<N>], x: &[Lanes<N>]) -> Lanes<N> {
+    let mut acc = [Lanes::<N>::default(); 4];
+    let (mut lq, mut xq) = (l.chunks_exact(4), x.chunks_exact(4));
+    for (lq, xq) in (&mut lq).zip(&mut xq) {
+        for q in 0..4 {
+            acc[q] = acc[q].sub_mul(lq[q], xq[q]);
+        }
+    }
+    for (a, b) in lq.remainder().iter().zip(xq.remainder()) {
+        acc[0] = acc[0].sub_mul(*a, *b);
+    }
+    y + ((acc[0] + acc[1]) + (acc[2] + acc[3]))
 }
