@@ -231,14 +231,34 @@ impl PlacedCircuit {
         a.clear();
         a.resize(row_start(size), Lanes::default());
         let one = Lanes::splat(C::new(1.0, 0.0));
-        for (i, &ri) in rows.iter().enumerate() {
+        let plate = Lanes::from_fn(|l| -lanes[l].plate);
+        let n = self.plane.ports.len();
+        let ports: Vec<Option<usize>> = rows.iter().map(|&r| self.port_of(r)).collect();
+        for (i, (&ri, &pi)) in rows.iter().zip(&ports).enumerate() {
             let start = row_start(i);
-            for (j, &rj) in rows[..=i].iter().enumerate() {
-                a[start + j] = match (self.port_of(ri), self.port_of(rj)) {
-                    (Some(x), Some(y)) => self.static_entry(lanes, x, y),
-                    (None, None) => Lanes::from_fn(|l| -lanes[l].plate),
-                    _ => one,
-                };
+            let row = &mut a[start..start + i + 1];
+            match pi {
+                // Row x of each lane's G, T and U taken once for the whole row (the entries are
+                // `static_entry`'s, the same expression).
+                Some(x) => {
+                    let g: [&[f64]; N] = std::array::from_fn(|l| &lanes[l].parts.g[x * n..(x + 1) * n]);
+                    let t: [&[f64]; N] = std::array::from_fn(|l| &lanes[l].parts.t[x * n..(x + 1) * n]);
+                    let u: [&[f64]; N] = std::array::from_fn(|l| &lanes[l].parts.u[x * n..(x + 1) * n]);
+                    for (slot, pj) in row.iter_mut().zip(&ports) {
+                        *slot = match *pj {
+                            Some(y) => Lanes::from_fn(|l| {
+                                let c = &lanes[l].coef;
+                                c[0] * g[l][y] + c[1] * t[l][y] + c[2] * u[l][y]
+                            }),
+                            None => one,
+                        };
+                    }
+                }
+                None => {
+                    for (slot, pj) in row.iter_mut().zip(&ports) {
+                        *slot = if pj.is_some() { one } else { plate };
+                    }
+                }
             }
             if let Row::Branch(b) = ri {
                 a[start + i] = a[start + i] + Lanes::from_fn(|l| lanes[l].branch[b]);
