@@ -883,6 +883,28 @@ mod tests {
     use super::*;
 
     #[test]
+    fn mode_coefficients_give_each_modes_coefficient_to_the_bit() {
+        let stackup = Stackup {
+            size_m: [0.1, 0.08],
+            dielectric_m: 1e-4,
+            er: 4.3,
+            loss_tangent: 0.02,
+            conductor: Conductor::Perfect,
+        };
+        let ports = vec![PortRect::square(0.02, 0.03, 5e-4), PortRect::square(0.07, 0.05, 5e-4)];
+        let plane = PreparedPlane::new(stackup, ports, 1e9, 1e-4);
+        // The highest frequency's level sums the most modes; every frequency is checked over all of them.
+        let count = plane.static_parts(9e8).modes;
+        assert!(count > 0);
+        for f in [1e5, 3.7e7, 9e8] {
+            let all = plane.mode_coefficients(count, f);
+            for (k, c) in all.iter().enumerate() {
+                assert_eq!(*c, plane.mode_coefficient(k, f), "mode {k} at {f} Hz");
+            }
+        }
+    }
+
+    #[test]
     fn phi_agrees_on_both_sides_of_its_switch() {
         for r in [0.09, 0.11, 0.49, 0.51] {
             let z = C::from_polar(r, 0.7);
