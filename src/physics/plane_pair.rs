@@ -801,6 +801,14 @@ impl PreparedPlane {
         self.stackup.series_per_square(f_hz) * mode.weight * k2 / (mode.k2 * (mode.k2 - k2))
     }
 
+    /// The first `count` modes' coefficients at `f_hz`, each as [`PreparedPlane::mode_coefficient`] gives it (the
+    /// same expression, so the same bits) with Z_sq and k² computed once for all of them.
+    pub fn mode_coefficients(&self, count: usize, f_hz: f64) -> Vec<C> {
+        let k2 = self.stackup.k2(f_hz);
+        let zsq = self.stackup.series_per_square(f_hz);
+        self.modes[..count].iter().map(|mode| zsq * mode.weight * k2 / (mode.k2 * (mode.k2 - k2))).collect()
+    }
+
     /// The multipliers of G, T and U at `f_hz`: Z_sq, Z_sq·k², Z_sq·k⁴.
     pub fn static_coefficients(&self, f_hz: f64) -> [C; 3] {
         let k2 = self.stackup.k2(f_hz);
@@ -835,8 +843,7 @@ impl PreparedPlane {
                 out[ij] = zsq * parts.g[ij] + zk * parts.t[ij] + zkk * parts.u[ij];
             }
         }
-        for k in 0..parts.modes {
-            let c = self.mode_coefficient(k, f_hz);
+        for (k, &c) in self.mode_coefficients(parts.modes, f_hz).iter().enumerate() {
             let row = self.mode_values(k);
             for i in 0..n {
                 let ci = c * row[i];
@@ -874,6 +881,28 @@ impl PreparedPlane {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn mode_coefficients_give_each_modes_coefficient_to_the_bit() {
+        let stackup = Stackup {
+            size_m: [0.1, 0.08],
+            dielectric_m: 1e-4,
+            er: 4.3,
+            loss_tangent: 0.02,
+            conductor: Conductor::Perfect,
+        };
+        let ports = vec![PortRect::square(0.02, 0.03, 5e-4), PortRect::square(0.07, 0.05, 5e-4)];
+        let plane = PreparedPlane::new(stackup, ports, 1e9, 1e-4);
+        // The highest frequency's level sums the most modes; every frequency is checked over all of them.
+        let count = plane.static_parts(9e8).modes;
+        assert!(count > 0);
+        for f in [1e5, 3.7e7, 9e8] {
+            let all = plane.mode_coefficients(count, f);
+            for (k, c) in all.iter().enumerate() {
+                assert_eq!(*c, plane.mode_coefficient(k, f), "mode {k} at {f} Hz");
+            }
+        }
+    }
 
     #[test]
     fn phi_agrees_on_both_sides_of_its_switch() {
