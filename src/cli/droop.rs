@@ -57,6 +57,25 @@ pub fn droop_json(d: &Droop) -> serde_json::Value {
     if let Some(b) = board_node {
         o.insert("board_node".into(), b);
     }
+    if !d.loads.is_empty() {
+        // The shape `check` gives a placed rail's loads: one object per load, in the rail's order.
+        o.insert(
+            "loads".into(),
+            d.loads
+                .iter()
+                .map(|l| {
+                    let mut j = json!({"name": l.name, "view": l.view.name(), "meets": l.meets,
+                                       "min_v": l.min_v, "t_min_s": l.t_min_s, "droop_v": l.droop_v,
+                                       "beyond_linear_model": d.beyond_model(l.droop_v),
+                                       "worst_case_meets": l.worst_case_meets, "fit_error": l.fit_error});
+                    if let Some(v) = l.worst_case_droop_v {
+                        j["worst_case_droop_v"] = json!(v);
+                    }
+                    j
+                })
+                .collect(),
+        );
+    }
     if let Some(t) = d.settling_s {
         o.insert("settling_s".into(), json!(t));
     }

@@ -14,13 +14,17 @@
 //! so. The low-pass has two real poles at 1.194 and 2.388 times the band's upper edge: 3 dB down at the edge,
 //! 40 dB per decade beyond, and no overshoot, so the filtered current never exceeds ΔI.
 
+mod eigen;
 mod integrator;
 mod pattern;
+mod placed;
 mod rational;
 mod response;
+mod vecfit;
 mod words;
 
 pub use integrator::{IntegratedStep, MAX_STEPS, step_integrated};
+pub use placed::{FIT_TOLERANCE, LoadDroop};
 pub use rational::{Modal, RailModes};
 pub use words::{
     droop_figure, lines as droop_lines, stimulus_line as droop_stimulus_line, verdict_line as droop_verdict_line,
@@ -235,6 +239,9 @@ pub struct Droop {
     pub sustained: Option<Sustained>,
     /// Things the user asked for that the answer cannot honour, and what was done instead.
     pub warnings: Vec<String>,
+    /// On a placed rail, each load's droop in the rail's order (the figures above are the worst load's); empty on
+    /// a lumped rail.
+    pub loads: Vec<LoadDroop>,
 }
 
 impl Droop {
@@ -450,6 +457,9 @@ fn sustained(rail: &Rail, network: &Network, band_hz: [f64; 2], step_a: f64, r_d
 pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result<Droop, DroopError> {
     let rail = board.rails.get(rail_index).ok_or_else(|| DroopError::BadOption("no such rail".into()))?;
     let plan = plan(board, rail, options)?;
+    if rail.placement.is_some() {
+        return placed::droop_placed(board, rail, plan, options);
+    }
     let Some((main, board_modes)) = modes_of(&plan) else {
         return fallback(board, rail_index, rail, &plan, options);
     };
@@ -639,8 +649,14 @@ fn assemble(rail: &Rail, plan: &Plan, s: &Samples, main: Option<&Modal>) -> Droo
         min_interval_s,
         min_interval_from,
         max_pulses,
-        sustained: sustained(rail, &plan.network, plan.band_hz, plan.step_a, r_dc),
+        // On a placed rail the lumped network's peak is not the load's: the caller gives no estimate there.
+        sustained: if rail.placement.is_none() {
+            sustained(rail, &plan.network, plan.band_hz, plan.step_a, r_dc)
+        } else {
+            None
+        },
         warnings,
+        loads: Vec::new(),
     }
 }
 
