@@ -3,8 +3,8 @@
 //! Run with `cargo bench --bench placed`.
 
 use criterion::{Criterion, criterion_group, criterion_main};
-use hushrail::analysis::log_grid;
-use hushrail::analysis::placed::{PlacedCircuit, Workspace};
+use hushrail::analysis::placed::{PlacedCircuit, Workspace, placed_worst_vertex};
+use hushrail::analysis::{SearchOptions, log_grid};
 use hushrail::model::{
     Board, DecapGroup, Die, GroupPlacement, GroupSpots, Load, LoadPlacement, Package, Part, PartKind, PartSpot,
     Placement, PlanePair, Rail, Source, SourcePlacement,
@@ -101,6 +101,13 @@ fn placed(c: &mut Criterion) {
     group.bench_function("60 ports: 1000 frequencies at every load, one frequency at a time (prepared)", |b| {
         let mut ws = Workspace::default();
         b.iter(|| grid.iter().map(|&f| circuit.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>())
+    });
+    group.bench_function("60 ports: worst corner, 8 tolerance vertices on the circuit (1000 frequencies)", |b| {
+        let worst = PlacedCircuit::of_rail(&board, rail, Corner::Worst, 1e9).unwrap();
+        b.iter(|| {
+            let mut c = worst.clone();
+            placed_worst_vertex(black_box(&board), rail, &mut c, &grid, &SearchOptions::default()).grid_worst_ohm
+        })
     });
     group.bench_function("60 ports: prepare the plane", |b| {
         b.iter(|| PlacedCircuit::of_rail(black_box(&board), rail, Corner::Typical, 1e9).unwrap())

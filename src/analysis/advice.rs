@@ -72,7 +72,7 @@ pub fn explain(board: &Board, rail: &Rail, analysis: &RailAnalysis) -> Vec<Findi
         });
     }
     // A placed rail's own findings: plane resonances, parts far from their load, loads served by one value.
-    out.extend(super::placed::findings_for(board, rail, analysis));
+    out.extend(analysis.placed_findings.iter().cloned());
     out.sort_by(|a, b| a.range_hz[0].total_cmp(&b.range_hz[0]));
     out.extend(derating_notes(board, rail, analysis));
     out.extend(measured_notes(board, rail, analysis));

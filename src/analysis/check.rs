@@ -318,6 +318,12 @@ pub fn search_words(a: &RailAnalysis) -> Option<String> {
                 vertex_count_words(v.vertices)
             )
         }
+        super::worst::SearchMethod::BestFound => format!(
+            "{} tolerance vertices, more than are tried one by one: the worst of {} found by changing one group at a \
+             time, not proven the worst",
+            vertex_count_words(v.vertices),
+            v.evaluated
+        ),
         super::worst::SearchMethod::Bounded => format!(
             "{} tolerance vertices, search stopped at its budget: no vertex exceeds {} on the scan grid",
             vertex_count_words(v.vertices),
@@ -382,7 +388,13 @@ pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option
         // The verdict is the rail's: its worst load's.
         load: None,
     };
-    let verdict = analyze_rail(board, index, &base)?;
+    // A placed rail's analysis gives its loads' verdicts too: taken once.
+    let (verdict, loads) = if rail.placement.is_some() {
+        let placed = super::placed::analyze_placed(board, index, &base)?;
+        (placed.rail, placed.loads)
+    } else {
+        (analyze_rail(board, index, &base)?, Vec::new())
+    };
     let plain = AnalysisOptions { curve: None, branch_curves: false, view: Some(verdict.view), ..base };
     let other_view = (options.other_view && rail.package.is_some())
         .then(|| {
@@ -447,7 +459,6 @@ pub fn check_rail(board: &Board, index: usize, options: &CheckOptions) -> Option
             )
         })
         .flatten();
-    let loads = super::placed::analyze_placed(board, index, &base).map(|p| p.loads).unwrap_or_default();
     Some(RailCheck {
         verdict,
         passes,

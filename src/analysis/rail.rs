@@ -153,6 +153,9 @@ pub struct RailAnalysis {
     pub scan: Curve,
     /// The display sweep, when asked for.
     pub curve: Option<Curve>,
+    /// What a placed rail adds to the findings (plane resonances, far parts, one-value loads), from the circuit the
+    /// analysis solved; empty on a lumped rail.
+    pub placed_findings: Vec<super::Finding>,
 }
 
 /// Analyse rail `rail_index` of a (validated) board. A placed rail's verdict is its worst load's (see
@@ -178,6 +181,18 @@ pub(super) fn analyze_lumped(board: &Board, rail: &Rail, options: &AnalysisOptio
     let vertex = (options.corner == Corner::Worst).then(|| {
         worst_vertex(board, rail, view, &log_grid(band.hz[0], band.hz[1], options.band_points.max(2)), &options.search)
     });
+    analyze_lumped_at(board, rail, options, view, vertex)
+}
+
+/// Analyse a rail as one node with its parts at `vertex` (in the worst corner; `None` elsewhere), seen from `view`.
+pub(super) fn analyze_lumped_at(
+    board: &Board,
+    rail: &Rail,
+    options: &AnalysisOptions,
+    view: View,
+    vertex: Option<WorstVertex>,
+) -> Option<RailAnalysis> {
+    let band = rail.band()?;
     let scales = vertex.as_ref().map(WorstVertex::scales).unwrap_or_default();
     let network = Network::of_rail_scaled(board, rail, options.corner, &scales);
     let z_at = |f: f64| network.impedance_in(f, view);
@@ -269,6 +284,7 @@ pub(super) fn analyze_lumped(board: &Board, rail: &Rail, options: &AnalysisOptio
         groups,
         scan: Curve { freq_hz: scan.freq_hz, z: scan.z, branches: Vec::new() },
         curve,
+        placed_findings: Vec::new(),
     })
 }
 

@@ -71,6 +71,9 @@ pub enum SearchMethod {
     BranchAndBound,
     /// Branch and bound stopped at its node budget: the best vertex found and a proven bound on the rest.
     Bounded,
+    /// Past the exhaustive limit on a placed rail: the best vertex a one-group-at-a-time ascent found, with no
+    /// proven bound (`bound_ohm` is infinite).
+    BestFound,
 }
 
 impl SearchMethod {
@@ -80,6 +83,7 @@ impl SearchMethod {
             SearchMethod::Exhaustive => "exhaustive",
             SearchMethod::BranchAndBound => "branch-and-bound",
             SearchMethod::Bounded => "bounded",
+            SearchMethod::BestFound => "best-found",
         }
     }
 }

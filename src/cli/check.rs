@@ -84,6 +84,10 @@ fn summary_json(a: &RailAnalysis) -> Value {
         if !w.vertices.is_finite() {
             v["search"].as_object_mut().map(|o| o.remove("vertices"));
         }
+        // A search that proves no bound (best found, on a placed rail past the exhaustive limit) gives none.
+        if !w.bound_ohm.is_finite() {
+            v["search"].as_object_mut().map(|o| o.remove("bound_ohm"));
+        }
         v["groups"] = w
             .groups
             .iter()

@@ -1,7 +1,7 @@
 //! `hushrail droop`: the rail's voltage after a load step, and the worst case over on/off load patterns.
 
 use super::{EXIT_MISS, EXIT_PASS, emit, load_board};
-use crate::analysis::{Droop, WorstCase, droop, droop_lines};
+use crate::analysis::{Droop, WorstCase, droop, droop_lines, step_waveform};
 use crate::units::{Unit, format, push_full_precision};
 use clap::Args;
 use serde_json::json;
@@ -127,18 +127,23 @@ pub fn run(args: &DroopArgs) -> Result<i32, String> {
     let index = board.rail_index(&args.rail).unwrap_or(0);
     let mut options = super::droop_options(&args.step, &args.rise, &args.window, args.points)?;
     options.band_limit = Some(!args.unfiltered);
-    let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
     if args.csv {
-        let mut t = String::with_capacity(48 * d.waveform.len() + 8);
+        // The waveform alone: the step's walk without the worst pattern or the sustained estimate, which the CSV
+        // does not carry (the same waveform and exit code as the full analysis).
+        let step = step_waveform(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
+        let mut t = String::with_capacity(48 * step.waveform.len() + 8);
         t.push_str("t_s,v\n");
-        for [time, v] in &d.waveform {
+        for [time, v] in &step.waveform {
             push_full_precision(&mut t, *time);
             t.push(',');
             push_full_precision(&mut t, *v);
             t.push('\n');
         }
         emit(&t);
-    } else if args.json {
+        return Ok(if step.meets { EXIT_PASS } else { EXIT_MISS });
+    }
+    let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
+    if args.json {
         emit(&(serde_json::to_string_pretty(&droop_json(&d)).unwrap_or_default() + "\n"));
     } else {
         let mut t = String::new();

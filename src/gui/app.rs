@@ -337,7 +337,10 @@ impl App {
     /// Apply an edit through the history (the one path every change takes). On refusal the board is untouched.
     pub fn edit(&mut self, edit: Edit, label: impl Into<String>, merge: bool) -> Result<(), Refusal> {
         self.doc.history.apply(&mut self.doc.board, edit, label, merge)?;
-        self.status = None;
+        // An edit makes the last message stale; work still under way (a report being written) keeps saying so.
+        if self.status.as_ref().is_none_or(|s| s.kind != StatusKind::Busy) {
+            self.status = None;
+        }
         Ok(())
     }
 
@@ -540,7 +543,7 @@ impl App {
                 CentralTab::Time => self.time_view(ui),
                 CentralTab::Map => {
                     // The map and the plot side by side: a drag on the map shows on the curve at once.
-                    let (left, right) = ui.available_rect_before_wrap().split_left_right_at_fraction(0.56);
+                    let (left, right) = ui.available_rect_before_wrap().split_left_right_at_fraction(0.6);
                     ui.scope_builder(egui::UiBuilder::new().max_rect(left.shrink2(egui::vec2(4.0, 0.0))), |ui| {
                         self.board_map(ui)
                     });
@@ -734,8 +737,7 @@ impl App {
                 Some(status) => status_line(ui, status, pal.fail),
                 None => {
                     ui.label(
-                        RichText::new("A lumped, idealised model: check against the parts' data and a measurement.")
-                            .weak(),
+                        RichText::new("An idealised model: check against the parts' data and a measurement.").weak(),
                     );
                 }
             }

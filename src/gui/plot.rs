@@ -294,8 +294,9 @@ impl App {
                 .on_hover_text("|Z(f)| against the target");
             ui.selectable_value(&mut self.central_tab, CentralTab::Time, RichText::new("Load step").strong())
                 .on_hover_text("The voltage after a load step, and the worst-case on/off pattern");
-            ui.selectable_value(&mut self.central_tab, CentralTab::Map, RichText::new("Board map").strong())
-                .on_hover_text("Where a placed rail's parts sit on its plane pair, beside its impedance");
+            ui.selectable_value(&mut self.central_tab, CentralTab::Map, RichText::new("Map").strong()).on_hover_text(
+                "The board map: where a placed rail's parts sit on its plane pair, beside its impedance",
+            );
             ui.separator();
             if self.central_tab != CentralTab::Time {
                 if ui

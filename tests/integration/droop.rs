@@ -13,7 +13,7 @@
 use crate::common::*;
 use hushrail::analysis::{
     Droop, DroopError, DroopOptions, Network, Pulse, WorstCase, droop, pattern_response, rail_modes, step_integrated,
-    worst_pattern_over,
+    step_waveform, worst_pattern_over,
 };
 use hushrail::io::{Transient, parse_wrdata, rail_tran_netlist};
 use hushrail::model::Board;
@@ -472,6 +472,56 @@ fn csv_holds_the_lowest_point() {
     assert_eq!(rows.last().unwrap().0, 2e-6);
     let lowest = rows.iter().map(|r| r.1).fold(f64::INFINITY, f64::min);
     assert!((lowest - min_v).abs() <= 1e-12, "CSV lowest {lowest} vs {min_v}");
+}
+
+/// `droop --csv` computes only the step (no worst pattern, no sustained estimate): its waveform and verdict are the
+/// full analysis's to the bit on every rail, filtered or not, and the CSV prints exactly that waveform.
+#[test]
+fn the_step_alone_is_the_full_droops_step() {
+    for (what, board, i) in droop_rails() {
+        for band_limit in [true, false] {
+            let options = DroopOptions {
+                window_s: Some(4e-6),
+                points: Some(301),
+                band_limit: Some(band_limit),
+                ..Default::default()
+            };
+            let d = droop(&board, i, &options).unwrap();
+            let s = step_waveform(&board, i, &options).unwrap();
+            assert_eq!(s.waveform, d.waveform, "{what}, band limit {band_limit}");
+            assert_eq!(s.meets, d.meets, "{what}, band limit {band_limit}");
+        }
+    }
+    let board = hushrail::io::read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let i = board.rail_index("VCORE").unwrap();
+    let options = DroopOptions { window_s: Some(4e-6), points: Some(2001), ..Default::default() };
+    let d = droop(&board, i, &options).unwrap();
+    let out = hushrail()
+        .args([
+            "droop",
+            "sample_boards/edge_camera.json",
+            "--rail",
+            "VCORE",
+            "--window",
+            "4u",
+            "--points",
+            "2001",
+            "--csv",
+        ])
+        .current_dir(root())
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(if d.meets { 0 } else { 1 }));
+    let text = String::from_utf8_lossy(&out.stdout);
+    let rows: Vec<[f64; 2]> = text
+        .lines()
+        .skip(1)
+        .map(|l| {
+            let mut it = l.split(',').map(|x| x.parse::<f64>().unwrap());
+            [it.next().unwrap(), it.next().unwrap()]
+        })
+        .collect();
+    assert_eq!(rows, d.waveform, "the CSV is the full analysis's waveform, full precision");
 }
 
 /// Inputs that once asked for gigabytes or gave NaN: bounded, finite, or refused naming the flag (exit 2).

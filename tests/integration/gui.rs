@@ -1076,9 +1076,18 @@ fn the_report_is_written_beside_the_window_and_an_edit_made_meanwhile_is_kept() 
     assert!(busy.text.starts_with("Writing the report"), "{}", busy.text);
     assert!(!harness.state_mut().save_report_to(&out), "one report at a time");
     assert_eq!(harness.state().status().unwrap().kind, StatusKind::Error);
-    // The user goes on editing while the report is written: the first frame draws (the window is not blocked)
-    // and takes the edit.
-    click(&mut harness, &format!("one more {part}"));
+    // The user goes on editing while the report is written (the edit lands before the report's outcome is
+    // looked for, however fast the report is).
+    harness
+        .state_mut()
+        .edit(
+            hushrail::gui::history::Edit::SetCount { rail: 0, group: 0, count: count + 1 },
+            format!("one more {part}"),
+            false,
+        )
+        .unwrap();
+    // The window is not blocked: frames draw while the report is written.
+    harness.run();
     until_report_written(&mut harness);
     assert_eq!(harness.state().board().rails[0].decaps[0].count, count + 1, "the edit made meanwhile is kept");
     let done = harness.state().status().cloned().unwrap();

@@ -2,8 +2,12 @@
 //! load's verdict and the findings a placement adds.
 
 use crate::common::*;
-use hushrail::analysis::placed::{LoadMatrix, PlacedCircuit, Workspace, analyze_placed, load_sweep};
-use hushrail::analysis::{AnalysisOptions, analyze_rail, explain};
+use hushrail::analysis::placed::{
+    LoadMatrix, MAX_ASCENT_TRIES, PlacedCircuit, Workspace, analyze_placed, effective, load_sweep, placed_worst_vertex,
+};
+use hushrail::analysis::{
+    AnalysisOptions, SearchMethod, SearchOptions, Side, analyze_rail, explain, log_grid, search_words,
+};
 use hushrail::io::{board_to_string, parse_board, read_board};
 use hushrail::model::{Board, Combine, GroupSpots, Load};
 use hushrail::physics::Corner;
@@ -48,9 +52,14 @@ fn placed_boards_read_write_and_read_back_the_same() {
         assert!(text.contains("\"plane_pair\"") && text.contains("\"at_m\""));
     }
     // A lumped board writes no placement fields at all (old files keep their text).
-    for (stem, path, b) in reference_boards() {
+    for (_, path, b) in reference_boards() {
         let text = board_to_string(&b);
-        assert!(!text.contains("plane_pair") || stem.contains("placed"), "{}", show(&path));
+        let placed = b.rails.iter().any(|r| r.placement.is_some());
+        assert!(!text.contains("plane_pair") || placed, "{}", show(&path));
+        let mut lumped = b.clone();
+        lumped.rails.retain(|r| r.placement.is_none());
+        let text = board_to_string(&lumped);
+        assert!(!text.contains("plane_pair") && !text.contains("at_m"), "{}", show(&path));
     }
 }
 
@@ -272,4 +281,111 @@ fn a_far_part_is_named_with_the_inductance_the_planes_add() {
     let z_far = load_sweep(&board, &board.rails[0], 0, None, &f, Corner::Typical).unwrap()[0].norm();
     let z_near = load_sweep(&near, &near.rails[0], 0, None, &f, Corner::Typical).unwrap()[0].norm();
     assert!(z_near < 0.8 * z_far, "{z_near} vs {z_far}");
+}
+
+/// The grid's highest effective impedance (any load) of `board`'s placed rail in the worst corner with every part
+/// taken as typed: solved on its own circuit, one frequency at a time (the plain solve, not the search's tree).
+fn brute_grid_worst(board: &Board, grid: &[f64]) -> f64 {
+    let rail = &board.rails[0];
+    let circuit = PlacedCircuit::of_rail(board, rail, Corner::Worst, grid[grid.len() - 1]).unwrap();
+    let mut ws = Workspace::default();
+    let step = rail.total_step_a();
+    grid.iter()
+        .flat_map(|&f| effective(&circuit, &circuit.solve(f, &mut ws), rail.combine, step))
+        .map(|z| z.norm())
+        .fold(0.0, f64::max)
+}
+
+/// `board` with each group's part at the tolerance ends `ends[g]` = (C high?, ESR high?), its tolerances removed,
+/// so the worst corner has exactly one vertex: these values.
+fn at_vertex(board: &Board, ends: &[(bool, bool)]) -> Board {
+    let mut b = board.clone();
+    let rail = b.rails[0].clone();
+    for (g, group) in rail.decaps.iter().enumerate() {
+        let mut part = board.part(&group.part).unwrap().clone();
+        let (tc, tr) = (part.c_tolerance(), part.esr_tolerance());
+        part.capacitance_f *= if ends[g].0 { 1.0 + tc } else { 1.0 - tc };
+        part.esr_ohm *= if ends[g].1 { 1.0 + tr } else { 1.0 - tr };
+        part.tolerance_pct = None;
+        part.esr_tolerance_pct = Some(0.0);
+        part.id = format!("{}-vertex{g}", part.id);
+        b.rails[0].decaps[g].part = part.id.clone();
+        b.parts.push(part);
+    }
+    b
+}
+
+/// The worst corner of a placed rail is searched on the placed circuit: against a brute force over every vertex
+/// (each one its own board, its own circuit, solved one frequency at a time), the search finds the highest grid
+/// figure and the vertex that gives it; past the exhaustive limit it says it found the best it could, no bound.
+#[test]
+fn the_placed_worst_corner_is_the_worst_vertex_by_brute_force() {
+    let mut board = placed("two_loads.json");
+    // Tolerances on two of the three groups (the third varies its ESR by the default ±30 %): 4 × 4 × 2 vertices.
+    for (id, pct) in [("c1u", 10.0), ("c22u", 20.0)] {
+        board.parts.iter_mut().find(|p| p.id == id).unwrap().tolerance_pct = Some(pct);
+    }
+    let rail = board.rails[0].clone();
+    let band = rail.band().unwrap().hz;
+    let grid = log_grid(band[0], band[1], 120);
+    let mut brute = Vec::new();
+    for v in 0..64u32 {
+        let ends: Vec<(bool, bool)> = (0..3).map(|g| (v >> (2 * g) & 1 == 1, v >> (2 * g + 1) & 1 == 1)).collect();
+        // The third group gives no C tolerance: its C end is one vertex, not two.
+        if ends[2].0 {
+            continue;
+        }
+        brute.push((brute_grid_worst(&at_vertex(&board, &ends), &grid), ends));
+    }
+    assert_eq!(brute.len(), 32);
+    let (top, top_ends) = brute.iter().cloned().max_by(|a, b| a.0.total_cmp(&b.0)).unwrap();
+    let typical = brute_grid_worst(&at_vertex(&board, &[(true, true); 3]), &grid);
+    let low = brute.iter().map(|b| b.0).fold(f64::INFINITY, f64::min);
+    assert!(top > low * 1.01, "the vertices differ, so choosing matters ({low} .. {top}, one vertex {typical})");
+
+    let mut circuit = PlacedCircuit::of_rail(&board, &rail, Corner::Worst, band[1]).unwrap();
+    let found = placed_worst_vertex(&board, &rail, &mut circuit, &grid, &SearchOptions::default());
+    assert_eq!(found.method, SearchMethod::Exhaustive);
+    assert_eq!((found.vertices, found.evaluated), (32.0, 32));
+    assert!(rel(found.grid_worst_ohm, top) < 1e-9, "search {} vs brute force {top}", found.grid_worst_ohm);
+    let ends: Vec<(bool, bool)> =
+        found.groups.iter().map(|g| (g.capacitance == Side::High, g.esr == Side::High)).collect();
+    let c_ok = |g: usize| found.groups[g].capacitance != Side::Middle || g == 2;
+    assert!((0..3).all(c_ok) && found.groups[2].capacitance == Side::Middle);
+    assert!(rel(brute_grid_worst(&at_vertex(&board, &ends), &grid), top) < 1e-9, "{ends:?} vs {top_ends:?}");
+    // The circuit is left at the vertex.
+    let step = rail.total_step_a();
+    let mut ws = Workspace::default();
+    let left = grid
+        .iter()
+        .flat_map(|&f| effective(&circuit, &circuit.solve(f, &mut ws), rail.combine, step))
+        .map(|z| z.norm())
+        .fold(0.0, f64::max);
+    assert!(rel(left, top) < 1e-9);
+
+    // The rail's worst corner takes this vertex: the analysis reports it and its figure is at least the grid's.
+    let a = analyze_rail(
+        &board,
+        0,
+        &AnalysisOptions { corner: Corner::Worst, band_points: 120, ..AnalysisOptions::default() },
+    )
+    .unwrap();
+    assert_eq!(a.vertex.as_ref().unwrap().groups, found.groups);
+    assert!(a.worst_ohm >= top * (1.0 - 1e-9));
+    assert!(search_words(&a).unwrap().contains("every one of 32 tolerance vertices tried"));
+
+    // Past the exhaustive limit: a vertex found by ascent, its figure that vertex's own, no bound claimed.
+    let mut circuit = PlacedCircuit::of_rail(&board, &rail, Corner::Worst, band[1]).unwrap();
+    let options = SearchOptions { exhaustive_limit: 4.0, ..SearchOptions::default() };
+    let ascent = placed_worst_vertex(&board, &rail, &mut circuit, &grid, &options);
+    assert_eq!(ascent.method, SearchMethod::BestFound);
+    assert!(ascent.bound_ohm.is_infinite() && ascent.evaluated <= MAX_ASCENT_TRIES);
+    let ends: Vec<(bool, bool)> =
+        ascent.groups.iter().map(|g| (g.capacitance == Side::High, g.esr == Side::High)).collect();
+    assert!(rel(brute_grid_worst(&at_vertex(&board, &ends), &grid), ascent.grid_worst_ohm) < 1e-9);
+    assert!(ascent.grid_worst_ohm <= top * (1.0 + 1e-9));
+    let mut worst_options = AnalysisOptions { corner: Corner::Worst, band_points: 120, ..AnalysisOptions::default() };
+    worst_options.search = options;
+    let a = analyze_rail(&board, 0, &worst_options).unwrap();
+    assert!(search_words(&a).unwrap().contains("not proven the worst"));
 }

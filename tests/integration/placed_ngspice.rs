@@ -1,14 +1,50 @@
 //! Placed rails against ngspice: the netlist `hushrail netlist --mesh` writes (the plane pair as a mesh of cells,
 //! every branch at its port), run at two cell sizes and extrapolated, against the cavity-model engine. The mesh
 //! converges at second order in the cell size, so (4·Z(h/2) − Z(h))/3 removes the leading error (Richardson
-//! extrapolation). |Z| at every load of every network in tests/networks/placed/ within 0.5 % below the second
-//! plane resonance.
+//! extrapolation). |Z| at every load of every network in tests/networks/placed/, and of every placed rail of the
+//! sample boards, within 0.5 % below the second plane resonance.
 
 use crate::common::*;
 use hushrail::analysis::placed::load_sweep;
 use hushrail::io::{AcSweep, mesh_netlist, parse_wrdata, read_board};
 use hushrail::physics::Corner;
 use num_complex::Complex64 as C;
+
+/// Every board with a placed rail: the placed test networks, and the sample boards (their lumped rails are checked
+/// on the lumped netlist in ngspice.rs). A sample's plane pair carries a loss tangent and foil skin loss that SPICE
+/// cannot hold (PLANE-MODEL.md: compare with the same losses on both sides), so here it is taken without them: the
+/// check is of the plane's reactive model and the ports, with every branch's own loss kept.
+fn placed_boards() -> Vec<(std::path::PathBuf, hushrail::model::Board)> {
+    let dir = root().join("tests/networks/placed");
+    let mut paths: Vec<_> = std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).collect();
+    paths.sort();
+    let mut out: Vec<_> = paths
+        .into_iter()
+        .filter(|p| p.extension().is_some_and(|e| e == "json"))
+        .map(|p| {
+            let b = read_board(&p).unwrap();
+            (p, b)
+        })
+        .collect();
+    for (_, path, mut board) in reference_boards() {
+        if !path.starts_with(root().join("sample_boards")) {
+            continue;
+        }
+        let mut placed = false;
+        for rail in &mut board.rails {
+            if let Some(p) = rail.placement.as_mut() {
+                p.plane_pair.loss_tangent = None;
+                p.plane_pair.copper_m = None;
+                placed = true;
+            }
+        }
+        if placed {
+            out.push((path, board));
+        }
+    }
+    assert!(out.len() >= 6, "the placed networks and the three sample boards");
+    out
+}
 
 fn mesh_answer(board: &hushrail::model::Board, rail: usize, load: usize, sweep: &AcSweep, h: f64) -> Vec<(f64, C)> {
     let text = mesh_netlist(board, &board.rails[rail], sweep, h, (load, None), "out.txt", Corner::AsGiven).unwrap();
@@ -21,12 +57,9 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
     if !ngspice_available() {
         return;
     }
-    let dir = root().join("tests/networks/placed");
-    let mut paths: Vec<_> = std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).collect();
-    paths.sort();
-    for path in paths.iter().filter(|p| p.extension().is_some_and(|e| e == "json")) {
-        let board = read_board(path).unwrap();
-        for (ri, rail) in board.rails.iter().enumerate() {
+    for (path, board) in placed_boards() {
+        let path = &path;
+        for (ri, rail) in board.rails.iter().enumerate().filter(|(_, r)| r.placement.is_some()) {
             let st = rail.placement.as_ref().unwrap().plane_pair.stackup();
             let mut modes: Vec<f64> = (0..6)
                 .flat_map(|m| (0..6).map(move |n| (m, n)))
@@ -88,7 +121,11 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                     );
                 }
                 // Flank points (above) at most a quarter: far_part's U5 has 4 of 17, one_load's U1 2, two_loads' U1
-                // and U2 1 each; every other point holds the 0.5 % above.
+                // and U2 1 each, the samples' placed rails 0 or 1 (VCORE_PLACED's loads 0 and 1, V1V2_MCU_PLACED 1,
+                // VCCINT_PLACED 0); every other point holds the 0.5 % above. Not tighter: far_part needs 4 of 17,
+                // and the finer pair of meshes (1 mm and 0.5 mm) that would shrink the flanks costs ngspice minutes
+                // per load on this machine (far_part's 1 mm run alone took 44 s with other builds running; 0.5 mm
+                // has four times the cells).
                 assert!(
                     skipped * 4 <= fine.len(),
                     "{} {}: {skipped} of {} points on resonance flanks",

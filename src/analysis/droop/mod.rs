@@ -369,10 +369,12 @@ fn decimate(t: &[f64], v: &[f64], nominal_v: f64, window_s: f64, points: usize) 
                 }
                 k += 1;
             }
-            let mut extra: Vec<usize> = [lo, hi].into_iter().flatten().collect();
-            extra.sort_unstable();
-            extra.dedup();
-            for j in extra {
+            // The two in time order, once (no allocation: this runs for every interval of the grid).
+            let extra = match (lo, hi) {
+                (Some(a), Some(b)) if a != b => [Some(a.min(b)), Some(a.max(b))],
+                (a, b) => [a.or(b), None],
+            };
+            for j in extra.into_iter().flatten() {
                 if t[j] > out.last().map_or(-1.0, |p: &[f64; 2]| p[0]) {
                     out.push([t[j], nominal_v - v[j]]);
                 }
@@ -463,16 +465,77 @@ pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result
     let Some((main, board_modes)) = modes_of(&plan) else {
         return fallback(board, rail_index, rail, &plan, options);
     };
+    let samples = step_walk(&plan, &main, board_modes.as_ref());
+    Ok(assemble(rail, &plan, &samples, Some(&main)))
+}
+
+/// The step's waveform and verdict alone: what [`droop`] gives in [`Droop::waveform`] and [`Droop::meets`], by the
+/// same walk and the same figures, without the worst pattern, the sustained estimate or the board node's waveform
+/// (for a face that prints only the waveform: `droop --csv`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct StepWaveform {
+    /// The step's waveform: (t, V) on the output grid plus each interval's lowest and highest point.
+    pub waveform: Vec<[f64; 2]>,
+    /// True when the step's droop is within the allowed band.
+    pub meets: bool,
+}
+
+/// The step's waveform and verdict, equal to [`droop`]'s [`Droop::waveform`] and [`Droop::meets`].
+pub fn step_waveform(board: &Board, rail_index: usize, options: &DroopOptions) -> Result<StepWaveform, DroopError> {
+    let rail = board.rails.get(rail_index).ok_or_else(|| DroopError::BadOption("no such rail".into()))?;
+    let plan = plan(board, rail, options)?;
+    let Some((main, board_modes)) = modes_of(&plan) else {
+        let d = fallback(board, rail_index, rail, &plan, options)?;
+        return Ok(StepWaveform { waveform: d.waveform, meets: d.meets });
+    };
+    // The board node's modes stay in the walk: its samples' times follow both nodes, and the waveform is taken
+    // on those samples.
+    let samples = step_walk(&plan, &main, board_modes.as_ref());
+    let step = step_figures(rail, &plan, &samples);
+    Ok(StepWaveform { waveform: step.waveform, meets: step.meets })
+}
+
+/// The walk of the load's step (a ramp over rise/0.8 to ΔI) through the modes.
+fn step_walk(plan: &Plan, main: &Modal, board: Option<&Modal>) -> Samples {
     let load = Pwl { corners: vec![(0.0, 0.0), (plan.ramp_s, plan.step_a)] };
-    let samples = response::walk(&Walk {
-        main: &main,
-        board: board_modes.as_ref(),
+    response::walk(&Walk {
+        main,
+        board,
         load: &load,
         window_s: plan.window_s,
         grid_points: plan.points,
         max_samples: MAX_SAMPLES,
-    });
-    Ok(assemble(rail, &plan, &samples, Some(&main)))
+    })
+}
+
+/// The step's own figures from its walk: its lowest point, the verdict and the waveform shown.
+struct StepFigures {
+    min_v: f64,
+    t_min_s: f64,
+    droop_v: f64,
+    allowed_v: f64,
+    meets: bool,
+    waveform: Vec<[f64; 2]>,
+}
+
+fn step_figures(rail: &Rail, plan: &Plan, s: &Samples) -> StepFigures {
+    let nominal_v = plan.nominal_v;
+    let (_, t_min_s, droop_v) = s.peak;
+    let min_v = nominal_v - droop_v;
+    let allowed_v = rail.voltage_v * rail.ripple_pct / 100.0;
+    StepFigures {
+        min_v,
+        t_min_s,
+        droop_v,
+        allowed_v,
+        meets: droop_v <= allowed_v,
+        waveform: with_point(
+            decimate(&s.t, &s.main, nominal_v, plan.window_s, plan.points),
+            t_min_s,
+            min_v,
+            plan.window_s,
+        ),
+    }
 }
 
 /// When the poles cannot be found: the reference integrator for the step (within its step budget), no pattern.
@@ -518,12 +581,9 @@ impl Plan {
 /// The figures from a walk of the step response.
 fn assemble(rail: &Rail, plan: &Plan, s: &Samples, main: Option<&Modal>) -> Droop {
     let nominal_v = plan.nominal_v;
-    let (_, t_min_s, peak) = s.peak;
-    let droop_v = peak;
-    let min_v = nominal_v - peak;
-    let allowed_v = rail.voltage_v * rail.ripple_pct / 100.0;
+    let StepFigures { min_v, t_min_s, droop_v, allowed_v, meets, waveform } = step_figures(rail, plan, s);
     let final_v = nominal_v - s.final_drop;
-    let tolerance = 0.1 * (s.final_drop - peak).abs().max(droop_v.abs());
+    let tolerance = 0.1 * (s.final_drop - droop_v).abs().max(droop_v.abs());
     let settling_s = if s.undamped || s.end_bound > tolerance {
         None
     } else {
@@ -635,15 +695,10 @@ fn assemble(rail: &Rail, plan: &Plan, s: &Samples, main: Option<&Modal>) -> Droo
         t_min_s,
         droop_v,
         allowed_v,
-        meets: droop_v <= allowed_v,
+        meets,
         final_v,
         settling_s,
-        waveform: with_point(
-            decimate(&s.t, &s.main, nominal_v, plan.window_s, plan.points),
-            t_min_s,
-            min_v,
-            plan.window_s,
-        ),
+        waveform,
         worst_case,
         worst_case_meets,
         min_interval_s,

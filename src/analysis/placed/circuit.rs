@@ -93,7 +93,7 @@ pub struct Workspace {
 }
 
 /// Frequencies factored together (the lanes of one batch).
-const BATCH: usize = 2;
+pub(super) const BATCH: usize = 2;
 
 /// The smallest pivot magnitude accepted; a smaller one is replaced so the solve stays finite (it means a port
 /// shorted to another with no impedance between them, which the validated inputs never give at f > 0).
@@ -101,7 +101,7 @@ const TINY_PIVOT: f64 = 1e-300;
 
 /// One unknown of the system solved per frequency, in elimination order.
 #[derive(Debug, Clone, Copy, PartialEq)]
-enum Row {
+pub(super) enum Row {
     /// The current into branch b's port (b in `branches` order, also its plane port).
     Branch(usize),
     /// The voltage u the plate term carries.
@@ -111,7 +111,7 @@ enum Row {
 }
 
 /// Where row i of a packed lower triangle starts.
-fn row_start(i: usize) -> usize {
+pub(super) fn row_start(i: usize) -> usize {
     i * (i + 1) / 2
 }
 
@@ -226,7 +226,7 @@ impl PlacedCircuit {
     }
 
     /// Fill the packed lower triangle of the system for `rows` at the lanes' frequencies.
-    fn fill<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut Vec<Lanes<N>>) {
+    pub(super) fn fill<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut Vec<Lanes<N>>) {
         let size = rows.len();
         a.clear();
         a.resize(row_start(size), Lanes::default());
@@ -251,21 +251,18 @@ impl PlacedCircuit {
     fn add_modes<const N: usize>(&self, rows: &[Row], lanes: &[LaneSetup<'_>; N], a: &mut [Lanes<N>]) {
         let top = lanes.iter().map(|s| s.parts.modes).max().unwrap_or(0);
         let ports: Vec<Option<usize>> = rows.iter().map(|&r| self.port_of(r)).collect();
+        let n = rows.len();
+        // values[k·n + i]: mode k at row i's port (0 for the border); coef[k]: its coefficient in each lane.
+        let mut values = vec![0.0; top * n];
+        let mut coef = Vec::with_capacity(top);
         for k in 0..top {
-            let c = Lanes::from_fn(|l| if k < lanes[l].parts.modes { lanes[l].modes[k] } else { C::new(0.0, 0.0) });
+            coef.push(Lanes::from_fn(|l| if k < lanes[l].parts.modes { lanes[l].modes[k] } else { C::new(0.0, 0.0) }));
             let phi = self.plane.mode_values(k);
-            let values: Vec<f64> = ports.iter().map(|p| p.map_or(0.0, |x| phi[x])).collect();
-            for (i, &vi) in values.iter().enumerate() {
-                if ports[i].is_none() || vi == 0.0 {
-                    continue;
-                }
-                let ci = c.scale(vi);
-                let start = row_start(i);
-                for (x, &vj) in a[start..start + i + 1].iter_mut().zip(&values[..=i]) {
-                    *x = x.add_scaled(ci, vj);
-                }
+            for (v, p) in values[k * n..(k + 1) * n].iter_mut().zip(&ports) {
+                *v = p.map_or(0.0, |x| phi[x]);
             }
         }
+        add_modes_rows(a, &values, &coef, n);
     }
 
     /// The impedances among the loads at `f_hz`.
@@ -299,7 +296,7 @@ impl PlacedCircuit {
 
     /// The loads' matrix of lane `l` from a factored system whose first `pivots` rows are eliminated and whose
     /// last rows are the loads.
-    fn load_matrix<const N: usize>(&self, f_hz: f64, a: &[Lanes<N>], pivots: usize, l: usize) -> LoadMatrix {
+    pub(super) fn load_matrix<const N: usize>(&self, f_hz: f64, a: &[Lanes<N>], pivots: usize, l: usize) -> LoadMatrix {
         let nc = self.loads.len();
         let mut at_pins = vec![C::new(0.0, 0.0); nc * nc];
         for k in 0..nc {
@@ -385,18 +382,59 @@ impl PlacedCircuit {
     }
 }
 
+/// a += Σ_k coef[k]·v_k·v_kᵀ over the packed lower triangle (v_k = values[k·n..(k + 1)·n]), row by row so a row
+/// stays in cache while every mode is added to it; compiled for AVX2 where the processor has it (the same
+/// operations in the same order, so the same bits).
+fn add_modes_rows<const N: usize>(a: &mut [Lanes<N>], values: &[f64], coef: &[Lanes<N>], n: usize) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, checked on the line above; nothing else is required of the caller.
+        unsafe { add_modes_rows_avx2(a, values, coef, n) };
+        return;
+    }
+    add_modes_rows_plain(a, values, coef, n);
+}
+
+/// [`add_modes_rows_plain`] compiled with AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn add_modes_rows_avx2<const N: usize>(a: &mut [Lanes<N>], values: &[f64], coef: &[Lanes<N>], n: usize) {
+    add_modes_rows_plain(a, values, coef, n);
+}
+
+/// See [`add_modes_rows`].
+#[inline(always)]
+fn add_modes_rows_plain<const N: usize>(a: &mut [Lanes<N>], values: &[f64], coef: &[Lanes<N>], n: usize) {
+    for i in 0..n {
+        let start = row_start(i);
+        let row = &mut a[start..start + i + 1];
+        for (k, c) in coef.iter().enumerate() {
+            let v = &values[k * n..k * n + i + 1];
+            let vi = v[i];
+            if vi == 0.0 {
+                continue;
+            }
+            let ci = c.scale(vi);
+            for (x, &vj) in row.iter_mut().zip(v) {
+                *x = x.add_scaled(ci, vj);
+            }
+        }
+    }
+}
+
 /// What one lane needs at its frequency: the plane's level and multipliers, the modes' coefficients, the branches'
 /// impedances and the plate admittance.
-struct LaneSetup<'a> {
+pub(super) struct LaneSetup<'a> {
     parts: StaticParts<'a>,
     coef: [C; 3],
     modes: Vec<C>,
-    branch: Vec<C>,
+    /// Each branch's impedance at the lane's frequency (added to its port's diagonal by `fill`).
+    pub(super) branch: Vec<C>,
     plate: C,
 }
 
 impl<'a> LaneSetup<'a> {
-    fn new(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
+    pub(super) fn new(circuit: &'a PlacedCircuit, f_hz: f64) -> LaneSetup<'a> {
         let mut setup = LaneSetup::plane_only(circuit, f_hz);
         setup.branch = circuit.branches.iter().map(|b| b.branch.impedance(f_hz)).collect();
         setup
@@ -420,20 +458,119 @@ impl<'a> LaneSetup<'a> {
 /// (the plane's matrix plus branch impedances: the diagonal dominates the elimination): rows below keep the
 /// multipliers L, the diagonal D, and the trailing block becomes the Schur complement.
 fn eliminate<const N: usize>(a: &mut [Lanes<N>], col: &mut Vec<Lanes<N>>, size: usize, pivots: usize) {
-    col.resize(size, Lanes::default());
-    for k in 0..pivots {
-        let kk = row_start(k) + k;
-        let inv = a[kk].recip_guarded(TINY_PIVOT);
+    eliminate_rows(a, col, size, 0..pivots);
+}
+
+/// Eliminate rows `pivots` of the packed symmetric matrix `a` (size × size), every row before them already
+/// eliminated: the same LDLᵀ steps as [`eliminate`], so a factorization can be carried on from a kept prefix.
+pub(super) fn eliminate_rows<const N: usize>(
+    a: &mut [Lanes<N>],
+    col: &mut Vec<Lanes<N>>,
+    size: usize,
+    pivots: std::ops::Range<usize>,
+) {
+    // Each lane is eliminated on its own with real and imaginary parts in separate arrays (the rows from the first
+    // pivot on, copied out and back): the inner update is then a plain loop over contiguous f64s, which the compiler
+    // vectorizes, where lanes of complex pairs spill registers. The steps and their order are the same in each lane.
+    col.clear();
+    if pivots.is_empty() {
+        return;
+    }
+    let offset = row_start(pivots.start);
+    let end = row_start(size);
+    let len = end - offset;
+    let mut re = vec![0.0; len];
+    let mut im = vec![0.0; len];
+    let mut col_re = vec![0.0; size];
+    let mut col_im = vec![0.0; size];
+    for l in 0..N {
+        for (x, (r, i)) in a[offset..end].iter().zip(re.iter_mut().zip(im.iter_mut())) {
+            *r = x.re[l];
+            *i = x.im[l];
+        }
+        eliminate_lane(Lane {
+            re: &mut re,
+            im: &mut im,
+            col_re: &mut col_re,
+            col_im: &mut col_im,
+            offset,
+            size,
+            pivots: pivots.clone(),
+        });
+        for (x, (r, i)) in a[offset..end].iter_mut().zip(re.iter().zip(&im)) {
+            x.re[l] = *r;
+            x.im[l] = *i;
+        }
+    }
+}
+
+/// One lane's elimination: its packed rows split into real and imaginary parts, the column buffers, where the
+/// rows start, the system's size and the pivots to eliminate.
+struct Lane<'a> {
+    re: &'a mut [f64],
+    im: &'a mut [f64],
+    col_re: &'a mut [f64],
+    col_im: &'a mut [f64],
+    offset: usize,
+    size: usize,
+    pivots: std::ops::Range<usize>,
+}
+
+/// [`eliminate_rows`] on one lane: `re`, `im` hold the packed rows from the one starting at `offset` on. Where the
+/// processor has AVX2 the same code is compiled for it (four f64s per instruction instead of two); the operations
+/// and their order are the same (no fused multiply-add), so every machine gives the same bits.
+fn eliminate_lane(lane: Lane<'_>) {
+    #[cfg(target_arch = "x86_64")]
+    if std::arch::is_x86_feature_detected!("avx2") {
+        // SAFETY: the processor has AVX2, checked on the line above; nothing else is required of the caller.
+        unsafe { eliminate_lane_avx2(lane) };
+        return;
+    }
+    eliminate_lane_plain(lane);
+}
+
+/// [`eliminate_lane_plain`] compiled with AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+fn eliminate_lane_avx2(lane: Lane<'_>) {
+    eliminate_lane_plain(lane);
+}
+
+/// The elimination of one lane (see [`eliminate_lane`]); inlined into each instruction-set version.
+#[inline(always)]
+fn eliminate_lane_plain(lane: Lane<'_>) {
+    let Lane { re, im, col_re, col_im, offset, size, pivots } = lane;
+    for k in pivots {
+        let kk = row_start(k) + k - offset;
+        let (pr, pi) = (re[kk], im[kk]);
+        let n2 = pr * pr + pi * pi;
+        // A tiny (or NaN) pivot is replaced by TINY_PIVOT, as Lanes::recip_guarded does.
+        let (inv_re, inv_im) = if n2.is_nan() || n2.sqrt() < TINY_PIVOT {
+            re[kk] = TINY_PIVOT;
+            im[kk] = 0.0;
+            (1.0 / TINY_PIVOT, 0.0)
+        } else {
+            (pr / n2, -pi / n2)
+        };
         for j in k + 1..size {
-            col[j] = a[row_start(j) + k];
+            let x = row_start(j) + k - offset;
+            col_re[j] = re[x];
+            col_im[j] = im[x];
         }
         for i in k + 1..size {
-            let start = row_start(i);
-            let s = a[start + k] * inv;
-            for (x, c) in a[start + k + 1..start + i + 1].iter_mut().zip(&col[k + 1..=i]) {
-                *x = x.sub_mul(s, *c);
+            let start = row_start(i) - offset;
+            let (ar, ai) = (re[start + k], im[start + k]);
+            let (sr, si) = (ar * inv_re - ai * inv_im, ar * inv_im + ai * inv_re);
+            let xr = &mut re[start + k + 1..start + i + 1];
+            let xi = &mut im[start + k + 1..start + i + 1];
+            let cr = &col_re[k + 1..=i];
+            let ci = &col_im[k + 1..=i];
+            for (((xr, xi), cr), ci) in xr.iter_mut().zip(xi.iter_mut()).zip(cr).zip(ci) {
+                *xr -= sr * cr - si * ci;
+                *xi -= sr * ci + si * cr;
             }
-            a[start + k] = s;
+            re[start + k] = sr;
+            im[start + k] = si;
         }
     }
 }

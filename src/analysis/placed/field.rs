@@ -45,11 +45,16 @@ pub struct PlaneField {
 /// beside it); for a load without both, I_k = −ΔI (or 0 for an idle one); and Σ_j I_j = a·b·Y_sq·u (the plate).
 /// `None` when the system is singular.
 pub fn port_currents(circuit: &PlacedCircuit, load: usize, step_a: f64, f_hz: f64) -> Option<(Vec<C>, C)> {
+    let mut q = Vec::new();
+    circuit.plane.rest_into(f_hz, &mut q);
+    solve_ports(circuit, &q, load, step_a, f_hz)
+}
+
+/// [`port_currents`] with the plane's matrix Q at `f_hz` (without its common term) already at hand.
+fn solve_ports(circuit: &PlacedCircuit, q: &[C], load: usize, step_a: f64, f_hz: f64) -> Option<(Vec<C>, C)> {
     let np = circuit.branches.len();
     let n = np + circuit.loads.len();
     let size = n + 1;
-    let mut q = Vec::new();
-    circuit.plane.rest_into(f_hz, &mut q);
     let mut a = vec![C::new(0.0, 0.0); size * size];
     let mut rhs = vec![C::new(0.0, 0.0); size];
     let zero = C::new(0.0, 0.0);
@@ -112,7 +117,9 @@ pub fn plane_field(
     }
     let circuit = PlacedCircuit::of_rail(board, rail, corner, f_hz)?;
     let step_a = circuit.loads.get(load)?.step_a;
-    let (currents, u) = port_currents(&circuit, load, step_a, f_hz)?;
+    let mut q = Vec::new();
+    circuit.plane.rest_into(f_hz, &mut q);
+    let (currents, u) = solve_ports(&circuit, &q, load, step_a, f_hz)?;
     let st = circuit.plane.stackup;
     let [a, b] = st.size_m;
     let long = cells_long.clamp(4, 400) as f64;
@@ -128,8 +135,6 @@ pub fn plane_field(
     }
     let max_v = volts.iter().copied().fold(0.0, f64::max);
     let min_v = volts.iter().copied().fold(f64::INFINITY, f64::min);
-    let mut q = Vec::new();
-    circuit.plane.rest_into(f_hz, &mut q);
     let n = currents.len();
     let port_v = (0..n).map(|i| (0..n).map(|j| q[i * n + j] * currents[j]).sum::<C>() + u).collect();
     Some(PlaneField { f_hz, load, step_a, cells, volts, max_v, min_v, port_v })

@@ -15,15 +15,20 @@ mod circuit;
 mod field;
 mod lanes;
 mod ldl;
+mod worst;
 
 pub use advice::{PartPath, PlacedFinding, part_path, placed_findings};
 pub use circuit::{BranchPort, Drag, LoadMatrix, LoadPort, PlacedCircuit, PortOwner, Workspace};
 pub use field::{PlaneField, plane_field, port_currents};
+pub use worst::{MAX_ASCENT_TRIES, placed_worst_vertex};
 
 use super::findings::{self, Extremum, ViolationBand};
 use super::grid::log_grid;
 use super::network::{Network, View};
-use super::rail::{AnalysisOptions, AntiResonance, BranchRef, Curve, RailAnalysis, analyze_lumped, target_impedance};
+use super::rail::{
+    AnalysisOptions, AntiResonance, BranchRef, Curve, RailAnalysis, analyze_lumped_at, target_impedance,
+};
+use super::worst::{SearchOptions, WorstVertex};
 use crate::model::{Board, Combine, Rail};
 use crate::physics::Corner;
 use num_complex::Complex64 as C;
@@ -104,10 +109,17 @@ pub fn combine_terms(combine: Combine, terms: impl Iterator<Item = f64>) -> f64 
 pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOptions) -> Option<PlacedAnalysis> {
     let rail = board.rails.get(rail_index)?;
     let band = rail.band()?;
-    let circuit = PlacedCircuit::of_rail(board, rail, options.corner, f_max_for(rail, options))?;
+    let mut circuit = PlacedCircuit::of_rail(board, rail, options.corner, f_max_for(rail, options))?;
     if circuit.loads.is_empty() {
         return None;
     }
+    // The worst corner: the tolerance vertex searched on this circuit, which is left at it.
+    let vertex = (options.corner == Corner::Worst).then(|| {
+        let grid = log_grid(band.hz[0], band.hz[1], options.band_points.max(2));
+        placed_worst_vertex(board, rail, &mut circuit, &grid, &options.search)
+    });
+    let scales = vertex.as_ref().map(WorstVertex::scales).unwrap_or_default();
+    let circuit = circuit;
     let target = target_impedance(rail);
     let step = rail.total_step_a();
     // One solve gives every load; the scans of the loads share them through this cache.
@@ -146,12 +158,13 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
     // The rail's band, target and groups as the lumped engine gives them; its verdict figures from the worst load.
     let mut lumped_rail = rail.clone();
     lumped_rail.placement = None;
-    let mut a = analyze_lumped(board, &lumped_rail, &AnalysisOptions { curve: None, ..*options })?;
+    let lumped_options = AnalysisOptions { curve: None, ..*options };
+    let mut a = analyze_lumped_at(board, &lumped_rail, &lumped_options, View::Board, vertex)?;
     // The figures shown: the load asked for, else the worst (the rail's verdict: it meets target only when every
     // load does).
     let shown = options.load.filter(|&k| k < loads.len()).unwrap_or(worst_load);
     let w = &loads[shown];
-    let network = Network::of_rail_in(board, &lumped_rail, options.corner);
+    let network = Network::of_rail_scaled(board, &lumped_rail, options.corner, &scales);
     a.view = w.view;
     a.worst_ohm = w.worst_ohm;
     a.worst_hz = w.worst_hz;
@@ -182,6 +195,7 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
         })
         .collect();
     a.scan = w.scan.clone();
+    a.placed_findings = placed_findings(board, rail, &circuit, target);
     a.curve = options.curve.map(|(from, to, n)| {
         let freq_hz = log_grid(from, to, n);
         let z = freq_hz.iter().map(|&f| eff_at(f)[shown]).collect();
@@ -203,16 +217,8 @@ pub fn analyze_placed(board: &Board, rail_index: usize, options: &AnalysisOption
     Some(PlacedAnalysis { rail: a, loads, worst_load })
 }
 
-/// The findings a placed rail adds (none for a lumped rail), for the rail's analysis `a`.
-pub fn findings_for(board: &Board, rail: &Rail, a: &RailAnalysis) -> Vec<super::Finding> {
-    match PlacedCircuit::of_rail(board, rail, a.corner, a.band_hz[1]) {
-        Some(circuit) => placed_findings(board, rail, &circuit, a.target_ohm),
-        None => Vec::new(),
-    }
-}
-
 /// The impedance at load `at` (its die when it has a package) at each of `freq_hz`: its self-impedance, or with
-/// `from` the transfer impedance Z(at, from). `None` when the rail is not placed or a load index is out of range.
+/// `from` the transfer impedance Z(at, from); in the worst corner at the tolerance vertex the check finds. `None` when the rail is not placed or a load index is out of range.
 pub fn load_sweep(
     board: &Board,
     rail: &Rail,
@@ -222,10 +228,15 @@ pub fn load_sweep(
     corner: Corner,
 ) -> Option<Vec<C>> {
     let f_max = freq_hz.iter().copied().fold(rail.band_hz_or_default()[1], f64::max);
-    let circuit = PlacedCircuit::of_rail(board, rail, corner, f_max)?;
+    let mut circuit = PlacedCircuit::of_rail(board, rail, corner, f_max)?;
     let other = from.unwrap_or(at);
     if at >= circuit.loads.len() || other >= circuit.loads.len() {
         return None;
+    }
+    // In the worst corner the parts sit at the vertex the check's search finds over the band (default density).
+    if let (Corner::Worst, Some(band)) = (corner, rail.band()) {
+        let grid = log_grid(band.hz[0], band.hz[1], AnalysisOptions::default().band_points);
+        placed_worst_vertex(board, rail, &mut circuit, &grid, &SearchOptions::default());
     }
     let mut ws = Workspace::default();
     Some(freq_hz.iter().map(|&f| circuit.solve(f, &mut ws).die(at, other)).collect())

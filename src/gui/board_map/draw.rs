@@ -108,27 +108,39 @@ pub fn map(painter: &Painter, rect: Rect, t: &Transform, scene: &Scene<'_>) {
             }
         }
     }
-    // Names last, over every shape: a load's above its pin field, the regulator's beside it, a part's designator
-    // under it where there is room (else the tooltip names it).
+    // Names last, over every shape: a load's above its pin field (else below), the regulator's beside it, a part's
+    // designator under it where there is room; a name that would cover another is left to the tooltip.
+    let mut taken: Vec<Rect> = Vec::new();
     for item in scene.items {
         let r = t.rect_of(item.at_m, item.size_m, MIN_SIDE);
-        match item.thing {
-            Thing::Load(k) => {
-                let words =
-                    if k == scene.shown_load { format!("{} (on the plot)", item.label) } else { item.label.clone() };
-                label(&painter, pos2(r.center().x, r.top() - 3.0), Align2::CENTER_BOTTOM, &words, v);
+        let places: Vec<(egui::Pos2, Align2)> = match item.thing {
+            Thing::Load(_) => vec![
+                (pos2(r.center().x, r.top() - 3.0), Align2::CENTER_BOTTOM),
+                (pos2(r.center().x, r.bottom() + 3.0), Align2::CENTER_TOP),
+            ],
+            Thing::Source => vec![(pos2(r.right() + 4.0, r.center().y), Align2::LEFT_CENTER)],
+            Thing::Part { .. } if r.width() >= 14.0 => vec![(pos2(r.center().x, r.bottom() + 2.0), Align2::CENTER_TOP)],
+            Thing::Part { .. } => Vec::new(),
+        };
+        for (pos, align) in places {
+            let size = label_size(&painter, &item.label);
+            let spot = align.anchor_size(pos, size);
+            if taken.iter().all(|t| !t.intersects(spot)) {
+                label(&painter, pos, align, &item.label, v);
+                taken.push(spot);
+                break;
             }
-            Thing::Source => label(&painter, pos2(r.right() + 4.0, r.center().y), Align2::LEFT_CENTER, &item.label, v),
-            Thing::Part { .. } if r.width() >= 14.0 => {
-                label(&painter, pos2(r.center().x, r.bottom() + 2.0), Align2::CENTER_TOP, &item.label, v)
-            }
-            Thing::Part { .. } => {}
         }
     }
     scale_bar(&painter, rect, t, v);
     if let Some(field) = scene.field {
         field_scale(&painter, rect, scene.rail, field, v);
     }
+}
+
+/// The size a name takes on the map, points.
+fn label_size(painter: &Painter, words: &str) -> egui::Vec2 {
+    painter.layout_no_wrap(words.to_string(), FontId::proportional(12.5), Color32::WHITE).size() + vec2(3.0, 3.0)
 }
 
 /// Text with the panel's colour behind it, so it reads over the field and the parts in both themes.

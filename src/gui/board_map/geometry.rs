@@ -97,12 +97,12 @@ impl Transform {
     }
 
     /// A point in metres on the screen.
-    pub fn to_screen(&self, m: [f64; 2]) -> Pos2 {
+    pub fn to_screen(self, m: [f64; 2]) -> Pos2 {
         pos2(self.origin.x + (m[0] * self.scale) as f32, self.origin.y - (m[1] * self.scale) as f32)
     }
 
     /// A screen point in metres.
-    pub fn to_metres(&self, p: Pos2) -> [f64; 2] {
+    pub fn to_metres(self, p: Pos2) -> [f64; 2] {
         [(p.x - self.origin.x) as f64 / self.scale, (self.origin.y - p.y) as f64 / self.scale]
     }
 

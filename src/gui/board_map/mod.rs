@@ -69,6 +69,8 @@ pub struct MapState {
     place: place_form::PlaceForm,
     /// The import window (File ▸ Import the placement).
     pub import: import::ImportForm,
+    /// The circuit a part's hover figures read, with the board revision, rail and corner it was built for.
+    hover_circuit: Option<((u64, usize, crate::physics::Corner), crate::analysis::placed::PlacedCircuit)>,
     /// The transform the map was drawn with last frame (tests find things on screen through it).
     last_transform: Option<Transform>,
 }
@@ -87,6 +89,7 @@ impl Default for MapState {
             add_group: None,
             place: place_form::PlaceForm::default(),
             import: Default::default(),
+            hover_circuit: None,
             last_transform: None,
         }
     }
@@ -258,11 +261,14 @@ impl App {
             // The legend: each group's colour (and shape past eight groups), then the other things.
             let dark = ui.visuals().dark_mode;
             for (g, d) in rail.decaps.iter().enumerate() {
-                let (r, _) = ui.allocate_exact_size(egui::vec2(11.0, 11.0), Sense::hover());
-                draw::swatch(ui.painter(), r, g, dark);
-                ui.label(format!("{} ×{}", d.part, d.count));
+                // A swatch and its group's name stay on one line.
+                ui.horizontal(|ui| {
+                    let (r, _) = ui.allocate_exact_size(egui::vec2(11.0, 11.0), Sense::hover());
+                    draw::swatch(ui.painter(), r, g, dark);
+                    ui.label(format!("{} ×{}", d.part, d.count));
+                });
             }
-            ui.label(RichText::new("· outlined: load pins · grey: regulator ·").weak());
+            ui.label(RichText::new("· outlined: load pins (heavier: the load on the plot) · grey: regulator ·").weak());
             ui.label(RichText::new("what a position means").weak().underline()).on_hover_text(crate::notes::POSITIONS);
         });
     }
@@ -334,15 +340,14 @@ impl App {
                 self.view.map.grab = Some(grab);
             }
         }
-        if response.drag_stopped() {
-            if let Some(grab) = self.view.map.grab.take()
-                && !grab.fresh
-                && let Some(now) = self.doc.board.rails.get(index)
-            {
-                let what = thing_words(now, grab.thing, grab.whole_group);
-                let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
-                self.status = Some(Status::info(format!("Moved {what}{at}.")));
-            }
+        if response.drag_stopped()
+            && let Some(grab) = self.view.map.grab.take()
+            && !grab.fresh
+            && let Some(now) = self.doc.board.rails.get(index)
+        {
+            let what = thing_words(now, grab.thing, grab.whole_group);
+            let at = items_after(now, grab.thing).map(|m| format!(" to {}", at_words(m))).unwrap_or_default();
+            self.status = Some(Status::info(format!("Moved {what}{at}.")));
         }
         if response.clicked()
             && let Some(p) = pointer
@@ -397,7 +402,7 @@ impl App {
     /// What the tooltip says about an item: what it is, where, and for a part what the planes add between it and
     /// the shown load.
     fn hover_words(
-        &self,
+        &mut self,
         rail: &Rail,
         item: &Item,
         shown_load: usize,
@@ -446,7 +451,7 @@ impl App {
 
     /// The engine's path from a part to a load (the same figures as the far-part finding).
     fn part_path_to(
-        &self,
+        &mut self,
         rail: &Rail,
         item: &Item,
         load: usize,
@@ -454,17 +459,23 @@ impl App {
     ) -> Option<crate::analysis::placed::PartPath> {
         let Thing::Part { group, spot } = item.thing else { return None };
         let r = result?;
-        let circuit = crate::analysis::placed::PlacedCircuit::of_rail(
-            &self.doc.board,
-            rail,
-            r.analysis.corner,
-            r.analysis.band_hz[1],
-        )?;
+        // Preparing the plane costs more than a frame: the circuit is kept while the board stays as it is.
+        let key = (self.doc.history.revision(), self.view.selected_rail, r.analysis.corner);
+        if self.view.map.hover_circuit.as_ref().is_none_or(|(k, _)| *k != key) {
+            let circuit = crate::analysis::placed::PlacedCircuit::of_rail(
+                &self.doc.board,
+                rail,
+                r.analysis.corner,
+                r.analysis.band_hz[1],
+            )?;
+            self.view.map.hover_circuit = Some((key, circuit));
+        }
+        let circuit = &self.view.map.hover_circuit.as_ref()?.1;
         let reference = spot.map(|_| item.label.clone());
         let i = circuit.branches.iter().position(|b| {
             b.owner == crate::analysis::placed::PortOwner::Group { group, reference: reference.clone() }
         })?;
-        crate::analysis::placed::part_path(&self.doc.board, rail, &circuit, i, load, r.analysis.target_ohm)
+        crate::analysis::placed::part_path(&self.doc.board, rail, circuit, i, load, r.analysis.target_ohm)
     }
 }
 
