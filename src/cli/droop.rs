@@ -32,6 +32,8 @@ pub struct DroopArgs {
     #[arg(long, conflicts_with = "csv")]
     pub json: bool,
     /// Print the waveform as CSV (t_s,v): the grid of --points plus each interval's lowest and highest point.
+    /// On a placed rail, the waveform at its worst load (the largest step droop; the text and JSON name it) and
+    /// the exit code of every load.
     #[arg(long)]
     pub csv: bool,
     /// Do not filter the load's current to the rail's band (the whole spectrum of its edges meets the network).

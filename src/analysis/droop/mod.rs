@@ -471,7 +471,8 @@ pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result
 
 /// The step's waveform and verdict alone: what [`droop`] gives in [`Droop::waveform`] and [`Droop::meets`], by the
 /// same walk and the same figures, without the worst pattern, the sustained estimate or the board node's waveform
-/// (for a face that prints only the waveform: `droop --csv`).
+/// (for a face that prints only the waveform: `droop --csv`). On a placed rail it is the worst load's waveform
+/// (the load with the largest step droop) and the verdict of every load, exactly [`droop`]'s.
 #[derive(Debug, Clone, PartialEq)]
 pub struct StepWaveform {
     /// The step's waveform: (t, V) on the output grid plus each interval's lowest and highest point.
@@ -484,6 +485,12 @@ pub struct StepWaveform {
 pub fn step_waveform(board: &Board, rail_index: usize, options: &DroopOptions) -> Result<StepWaveform, DroopError> {
     let rail = board.rails.get(rail_index).ok_or_else(|| DroopError::BadOption("no such rail".into()))?;
     let plan = plan(board, rail, options)?;
+    if rail.placement.is_some() {
+        // A placed rail's waveform is its worst load's (the largest step droop) and its verdict every load's,
+        // as in [`droop`]: never the lumped network's.
+        let d = placed::droop_placed(board, rail, plan, options)?;
+        return Ok(StepWaveform { waveform: d.waveform, meets: d.meets });
+    }
     let Some((main, board_modes)) = modes_of(&plan) else {
         let d = fallback(board, rail_index, rail, &plan, options)?;
         return Ok(StepWaveform { waveform: d.waveform, meets: d.meets });

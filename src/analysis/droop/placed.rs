@@ -48,6 +48,8 @@ pub struct LoadDroop {
     pub worst_case_meets: bool,
     /// The largest relative deviation of the fitted impedance from the plane pair's over the sampled grid.
     pub fit_error: f64,
+    /// The step's waveform at this load: (t, V) on the output grid plus each interval's lowest and highest point.
+    pub waveform: Vec<[f64; 2]>,
 }
 
 /// The frequencies the loads' impedances are sampled at: from a hundredth of the band's lower edge (100 Hz at the
@@ -129,6 +131,7 @@ pub(super) fn droop_placed(
             worst_case_droop_v: d.worst_case_droop_v(),
             worst_case_meets: d.worst_case_meets,
             fit_error: fitted.error,
+            waveform: d.waveform.clone(),
         };
         all.push((d, summary));
     }
