@@ -27,7 +27,8 @@ pub use integrator::{IntegratedStep, MAX_STEPS, step_integrated};
 pub use placed::{FIT_TOLERANCE, LoadDroop};
 pub use rational::{Modal, RailModes};
 pub use words::{
-    droop_figure, lines as droop_lines, stimulus_line as droop_stimulus_line, verdict_line as droop_verdict_line,
+    droop_figure, lines as droop_lines, load_line as droop_load_line, stimulus_line as droop_stimulus_line,
+    verdict_line as droop_verdict_line,
 };
 
 use super::findings::scan;
