@@ -512,16 +512,19 @@ fn the_step_alone_is_the_full_droops_step() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(if d.meets { 0 } else { 1 }));
-    let text = String::from_utf8_lossy(&out.stdout);
-    let rows: Vec<[f64; 2]> = text
+    assert_eq!(csv_rows(&out.stdout), d.waveform, "the CSV is the full analysis's waveform, full precision");
+}
+
+/// The (t, V) rows of `droop --csv`'s output, past its header.
+fn csv_rows(stdout: &[u8]) -> Vec<[f64; 2]> {
+    String::from_utf8_lossy(stdout)
         .lines()
         .skip(1)
         .map(|l| {
             let mut it = l.split(',').map(|x| x.parse::<f64>().unwrap());
             [it.next().unwrap(), it.next().unwrap()]
         })
-        .collect();
-    assert_eq!(rows, d.waveform, "the CSV is the full analysis's waveform, full precision");
+        .collect()
 }
 
 /// Inputs that once asked for gigabytes or gave NaN: bounded, finite, or refused naming the flag (exit 2).
@@ -659,13 +662,5 @@ fn placed_csv_is_the_worst_loads_waveform() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(if d.meets { 0 } else { 1 }));
-    let rows: Vec<[f64; 2]> = String::from_utf8_lossy(&out.stdout)
-        .lines()
-        .skip(1)
-        .map(|l| {
-            let mut it = l.split(',').map(|x| x.parse::<f64>().unwrap());
-            [it.next().unwrap(), it.next().unwrap()]
-        })
-        .collect();
-    assert_eq!(rows, d.waveform);
+    assert_eq!(csv_rows(&out.stdout), d.waveform);
 }

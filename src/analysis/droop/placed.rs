@@ -12,14 +12,13 @@
 //! stepping, band filter and figures as a lumped rail. The fit's error is checked against [`FIT_TOLERANCE`] and
 //! stated in the result's warnings when above it.
 
-use super::{Droop, DroopError, DroopOptions, MAX_SAMPLES, Plan, assemble, response, vecfit};
+use super::{Droop, DroopError, DroopOptions, Plan, assemble, step_walk, vecfit};
 use crate::analysis::grid::log_grid;
 use crate::analysis::network::View;
 use crate::analysis::placed::PlacedCircuit;
 use crate::model::{Board, Rail};
 use crate::physics::{Corner, TWO_PI};
 use num_complex::Complex64 as C;
-use response::{Pwl, Walk};
 
 /// The largest relative fit error left unmentioned: above it the result's warnings give it.
 pub const FIT_TOLERANCE: f64 = 1e-2;
@@ -83,7 +82,6 @@ pub(super) fn droop_placed(
     }
     let matrices = circuit.solve_grid(&freq_hz);
     let w: Vec<f64> = freq_hz.iter().map(|f| TWO_PI * f).collect();
-    let load = Pwl { corners: vec![(0.0, 0.0), (plan.ramp_s, plan.step_a)] };
     let mut all: Vec<(Droop, LoadDroop)> = Vec::with_capacity(circuit.loads.len());
     for (k, port) in circuit.loads.iter().enumerate() {
         let h: Vec<C> = matrices
@@ -100,14 +98,7 @@ pub(super) fn droop_placed(
             Some(f) => fitted.modal.filtered(TWO_PI * f.poles_hz[0], TWO_PI * f.poles_hz[1]),
             None => fitted.modal.clone(),
         };
-        let samples = response::walk(&Walk {
-            main: &main,
-            board: None,
-            load: &load,
-            window_s: plan.window_s,
-            grid_points: plan.points,
-            max_samples: MAX_SAMPLES,
-        });
+        let samples = step_walk(&plan, &main, None);
         let mut d = assemble(rail, &plan, &samples, Some(&main));
         let view = if port.package.is_some() { View::Die } else { View::Board };
         d.node = view;

@@ -112,10 +112,7 @@ fn fit_with(w: &[f64], z: &[C], pairs: usize) -> Option<Fitted> {
                 .chain([C::new(g, 0.0), s * g])
                 .chain(phi.iter().map(|&p| -fk * p * g))
                 .collect();
-            a.extend(row.iter().map(|x| x.re));
-            b.push((fk * g).re);
-            a.extend(row.iter().map(|x| x.im));
-            b.push((fk * g).im);
+            push_rows(&mut a, &mut b, &row, fk * g);
         }
         let x = least_squares(&a, &b, cols)?;
         let tilde = residues(&poles, &x[n + 2..]);
@@ -139,10 +136,7 @@ fn fit_with(w: &[f64], z: &[C], pairs: usize) -> Option<Fitted> {
         basis(&poles, s, &mut phi);
         let g = 1.0 / fk.norm().max(1e-300);
         let row: Vec<C> = phi.iter().map(|&p| p * g).chain([C::new(g, 0.0), s * g]).collect();
-        a.extend(row.iter().map(|x| x.re));
-        b.push((fk * g).re);
-        a.extend(row.iter().map(|x| x.im));
-        b.push((fk * g).im);
+        push_rows(&mut a, &mut b, &row, fk * g);
     }
     let x = least_squares(&a, &b, cols)?;
     let modal = Modal { e: x[n + 1], d: x[n], modes: residues(&poles, &x[..n]) };
@@ -230,6 +224,15 @@ fn least_squares(a: &[f64], b: &[f64], cols: usize) -> Option<Vec<f64>> {
     }
     let out: Vec<f64> = x.iter().zip(&scale).map(|(v, s)| v / s).collect();
     out.iter().all(|v| v.is_finite()).then_some(out)
+}
+
+/// One complex equation row·x = rhs as the two real rows the real least squares takes (its real and imaginary
+/// parts), appended to the row-major matrix `a` and the right side `b`.
+fn push_rows(a: &mut Vec<f64>, b: &mut Vec<f64>, row: &[C], rhs: C) {
+    a.extend(row.iter().map(|x| x.re));
+    b.push(rhs.re);
+    a.extend(row.iter().map(|x| x.im));
+    b.push(rhs.im);
 }
 
 #[cfg(test)]
