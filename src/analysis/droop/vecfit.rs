@@ -95,25 +95,10 @@ fn residues(poles: &[C], c: &[f64]) -> Vec<(C, C)> {
 
 fn fit_with(w: &[f64], z: &[C], pairs: usize) -> Option<Fitted> {
     let mut poles = starting_poles(w, pairs);
-    let mut phi = Vec::new();
     for _ in 0..PASSES {
         // σ(s)·f(s) ≈ Σ cφ + d + e·s with σ = 1 + Σ c̃φ: linear in (c, d, e, c̃).
         let n = basis_len(&poles);
-        let cols = 2 * n + 2;
-        let mut a = Vec::with_capacity(2 * w.len() * cols);
-        let mut b = Vec::with_capacity(2 * w.len());
-        for (&wk, &fk) in w.iter().zip(z) {
-            let s = C::new(0.0, wk);
-            basis(&poles, s, &mut phi);
-            let g = 1.0 / fk.norm().max(1e-300);
-            let row: Vec<C> = phi
-                .iter()
-                .map(|&p| p * g)
-                .chain([C::new(g, 0.0), s * g])
-                .chain(phi.iter().map(|&p| -fk * p * g))
-                .collect();
-            push_rows(&mut a, &mut b, &row, fk * g);
-        }
+        let (a, b, cols) = weighted_system(w, z, &poles, true);
         let x = least_squares(&a, &b, cols)?;
         let tilde = residues(&poles, &x[n + 2..]);
         // σ's zeros: the eigenvalues of diag(a) − 1·r̃ᵀ (the paper's eq. (A.8), in complex form).
@@ -128,16 +113,7 @@ fn fit_with(w: &[f64], z: &[C], pairs: usize) -> Option<Fitted> {
     }
     // The residues with the poles fixed.
     let n = basis_len(&poles);
-    let cols = n + 2;
-    let mut a = Vec::with_capacity(2 * w.len() * cols);
-    let mut b = Vec::with_capacity(2 * w.len());
-    for (&wk, &fk) in w.iter().zip(z) {
-        let s = C::new(0.0, wk);
-        basis(&poles, s, &mut phi);
-        let g = 1.0 / fk.norm().max(1e-300);
-        let row: Vec<C> = phi.iter().map(|&p| p * g).chain([C::new(g, 0.0), s * g]).collect();
-        push_rows(&mut a, &mut b, &row, fk * g);
-    }
+    let (a, b, cols) = weighted_system(w, z, &poles, false);
     let x = least_squares(&a, &b, cols)?;
     let modal = Modal { e: x[n + 1], d: x[n], modes: residues(&poles, &x[..n]) };
     let error = w
@@ -224,6 +200,30 @@ fn least_squares(a: &[f64], b: &[f64], cols: usize) -> Option<Vec<f64>> {
     }
     let out: Vec<f64> = x.iter().zip(&scale).map(|(v, s)| v / s).collect();
     out.iter().all(|v| v.is_finite()).then_some(out)
+}
+
+/// The least-squares system of the fit on `poles`, each sample weighted by 1/|f| (relative error): columns
+/// (c, d, e), and with `sigma` also c̃ of σ's residues (the pole relocation); the matrix row-major, the right side
+/// and the number of columns.
+fn weighted_system(w: &[f64], z: &[C], poles: &[C], sigma: bool) -> (Vec<f64>, Vec<f64>, usize) {
+    let n = basis_len(poles);
+    let cols = if sigma { 2 * n + 2 } else { n + 2 };
+    let mut a = Vec::with_capacity(2 * w.len() * cols);
+    let mut b = Vec::with_capacity(2 * w.len());
+    let mut phi = Vec::new();
+    let mut row = Vec::with_capacity(cols);
+    for (&wk, &fk) in w.iter().zip(z) {
+        let s = C::new(0.0, wk);
+        basis(poles, s, &mut phi);
+        let g = 1.0 / fk.norm().max(1e-300);
+        row.clear();
+        row.extend(phi.iter().map(|&p| p * g).chain([C::new(g, 0.0), s * g]));
+        if sigma {
+            row.extend(phi.iter().map(|&p| -fk * p * g));
+        }
+        push_rows(&mut a, &mut b, &row, fk * g);
+    }
+    (a, b, cols)
 }
 
 /// One complex equation row·x = rhs as the two real rows the real least squares takes (its real and imaginary
