@@ -18,8 +18,10 @@ pub const LEAVES_OUT: &[&str] = &[
     "A placed rail (one with a plane_pair) adds where each part sits: the plane pair as an ideal-edged \
      rectangular cavity, so the spreading inductance between each part and each load and the plane's own \
      resonances are in it. It leaves out fringing and radiation at the plane's edges, antipads and cut-outs, \
-     non-rectangular outlines and several plane pairs joined by vias; the droop still treats a placed rail's \
-     parts as one node (the check, suggest, the report and the window's plot judge at the loads).",
+     non-rectangular outlines and several plane pairs joined by vias. The droop is taken at each load, every \
+     load's step through the plane pair's self and transfer impedances (fitted as poles and residues, every load \
+     stepping at once), and so are the check, suggest, the report and the window's plot; only the window's \
+     drawing of a chosen pattern's waveform still treats a placed rail's parts as one node.",
     POSITIONS,
     "Both leave out a regulator's control loop beyond a second-order loop of a given crossover and phase \
      margin (without them, beyond its output R-L), ageing of class II ceramics, ESR and \

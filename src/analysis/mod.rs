@@ -22,10 +22,10 @@ pub use check::{
     yield_words,
 };
 pub use droop::{
-    BandFilter, Droop, DroopError, DroopOptions, IntegratedStep, LINEAR_LIMIT, MAX_STEPS, Modal, NodeDroop,
-    PatternResponse, Pulse, RailModes, StepWaveform, Sustained, WorstCase, droop, droop_figure, droop_lines,
-    droop_stimulus_line, droop_verdict_line, pattern_response, rail_modes, step_integrated, step_waveform,
-    worst_pattern_over,
+    BandFilter, Droop, DroopError, DroopOptions, FIT_TOLERANCE, IntegratedStep, LINEAR_LIMIT, LoadDroop, MAX_STEPS,
+    Modal, NodeDroop, PatternResponse, Pulse, RailModes, StepWaveform, Sustained, WorstCase, droop, droop_figure,
+    droop_lines, droop_load_line, droop_stimulus_line, droop_verdict_line, pattern_response, rail_modes,
+    step_integrated, step_waveform, worst_pattern_over,
 };
 pub use findings::{Extremum, Scan, ViolationBand, scan};
 pub use grid::log_grid;

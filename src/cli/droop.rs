@@ -32,6 +32,8 @@ pub struct DroopArgs {
     #[arg(long, conflicts_with = "csv")]
     pub json: bool,
     /// Print the waveform as CSV (t_s,v): the grid of --points plus each interval's lowest and highest point.
+    /// On a placed rail, the waveform at its worst load (the largest step droop; the text and JSON name it) and
+    /// the exit code of every load.
     #[arg(long)]
     pub csv: bool,
     /// Do not filter the load's current to the rail's band (the whole spectrum of its edges meets the network).
@@ -56,6 +58,25 @@ pub fn droop_json(d: &Droop) -> serde_json::Value {
     let o = v.as_object_mut().expect("an object");
     if let Some(b) = board_node {
         o.insert("board_node".into(), b);
+    }
+    if !d.loads.is_empty() {
+        // The shape `check` gives a placed rail's loads: one object per load, in the rail's order.
+        o.insert(
+            "loads".into(),
+            d.loads
+                .iter()
+                .map(|l| {
+                    let mut j = json!({"name": l.name, "view": l.view.name(), "meets": l.meets,
+                                       "min_v": l.min_v, "t_min_s": l.t_min_s, "droop_v": l.droop_v,
+                                       "beyond_linear_model": d.beyond_model(l.droop_v),
+                                       "worst_case_meets": l.worst_case_meets, "fit_error": l.fit_error});
+                    if let Some(v) = l.worst_case_droop_v {
+                        j["worst_case_droop_v"] = json!(v);
+                    }
+                    j
+                })
+                .collect(),
+        );
     }
     if let Some(t) = d.settling_s {
         o.insert("settling_s".into(), json!(t));

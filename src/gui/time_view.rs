@@ -8,7 +8,7 @@ use super::app::App;
 use super::jobs::{Job, Poll};
 use super::results::{DroopResult, droop_options};
 use super::theme;
-use crate::analysis::{Droop, PatternResponse, View, pattern_response};
+use crate::analysis::{Droop, LoadDroop, PatternResponse, View, pattern_response};
 use crate::units::{Unit, format, format_sig};
 use egui::{RichText, Ui};
 use egui_plot::{GridMark, HLine, HoverPosition, Line, LineStyle, MarkerShape, Plot, PlotPoints, Points, Polygon};
@@ -101,7 +101,11 @@ impl App {
                 return;
             }
         };
-        let (word, color) = if d.meets {
+        // On a placed rail, the load chosen under "at load" (the plot's choice), else the worst: its own
+        // waveform, figures and verdict from the engine.
+        let chosen = self.view.results.look().load.filter(|&k| k < d.loads.len());
+        let shown = Shown::of(d, chosen);
+        let (word, color) = if shown.meets {
             ("droop within the allowed band", pal.ok)
         } else {
             ("droop beyond the allowed band", pal.fail)
@@ -111,10 +115,19 @@ impl App {
             ui.label(format!(
                 "after a {}{}",
                 crate::analysis::droop_stimulus_line(d),
-                if d.node == View::Die { ", seen at the die" } else { "" }
+                if shown.node == View::Die { ", seen at the die" } else { "" }
             ));
         });
-        ui.label(crate::analysis::droop_verdict_line(d));
+        match shown.load {
+            Some(l) => {
+                let which = if chosen.is_some() { "the load chosen under \"at load\"" } else { "the worst load" };
+                ui.label(RichText::new(format!("Drawn at load {}, {which}", l.name)).strong());
+                ui.label(crate::analysis::droop_load_line(d, l));
+            }
+            None => {
+                ui.label(crate::analysis::droop_verdict_line(d));
+            }
+        }
         let lines = droop_lines(d);
         if !lines.is_empty() {
             // On a laptop's screen the figures would take half the plot's height: there they start folded (the
@@ -162,11 +175,11 @@ impl App {
         let floor = d.nominal_v - d.allowed_v;
         let t_end = d.window_s;
         // Everything drawn fits the first view: the floor, nominal and every waveform, with a little room.
-        let mut drawn: Vec<&[[f64; 2]]> = vec![&d.waveform];
+        let mut drawn: Vec<&[[f64; 2]]> = vec![shown.waveform];
         drawn.extend(d.board_node.as_ref().map(|b| b.waveform.as_slice()));
         // A pattern that swings far wider than the step would flatten the step to a line: then the view keeps to
         // the step and says where the pattern goes.
-        let scale = d.droop_v.abs().max(d.allowed_v);
+        let scale = shown.droop_v.abs().max(d.allowed_v);
         let pattern_fits = match &pattern {
             Some(Ok(p)) => d.nominal_v - p.min_v <= 4.0 * scale,
             _ => true,
@@ -190,12 +203,12 @@ impl App {
             .iter()
             .flat_map(|w| w.iter().map(|p| p[1]))
             .filter(|v| v.is_finite())
-            .fold((floor.min(d.min_v), d.nominal_v), |(lo, hi), v| (lo.min(v), hi.max(v)));
+            .fold((floor.min(shown.min_v), d.nominal_v), |(lo, hi), v| (lo.min(v), hi.max(v)));
         // The markers too: a dip narrower than the drawn points' spacing is missing from the line, not from the
         // figures (they come from the full-resolution run).
         let marked_lo = match &pattern {
-            Some(Ok(p)) if pattern_fits => d.min_v.min(p.min_v),
-            _ => d.min_v,
+            Some(Ok(p)) if pattern_fits => shown.min_v.min(p.min_v),
+            _ => shown.min_v,
         };
         let line_lo = v_lo;
         let (v_lo, v_hi) = (v_lo.min(marked_lo), v_hi);
@@ -205,7 +218,7 @@ impl App {
                 RichText::new(format!(
                     "The lowest point (diamond) is a dip narrower than the drawn points ({} apart): zoom in on it to \
                      see its shape; the figures are from the full-resolution run.",
-                    format(d.window_s / (d.waveform.len().max(2) - 1) as f64, Unit::Second)
+                    format(d.window_s / (shown.waveform.len().max(2) - 1) as f64, Unit::Second)
                 ))
                 .small()
                 .weak(),
@@ -285,15 +298,58 @@ impl App {
                             .color(pal.worst),
                     );
                 }
-                pu.line(Line::new("after the step", PlotPoints::from(scaled(&d.waveform))).color(pal.curve).width(2.5));
+                pu.line(
+                    Line::new("after the step", PlotPoints::from(scaled(shown.waveform))).color(pal.curve).width(2.5),
+                );
                 pu.points(
-                    Points::new("lowest", vec![[d.t_min_s * k, d.min_v]])
+                    Points::new("lowest", vec![[shown.t_min_s * k, shown.min_v]])
                         .shape(MarkerShape::Diamond)
                         .radius(6.0)
-                        .color(if d.meets { pal.ok } else { pal.fail }),
+                        .color(if shown.meets { pal.ok } else { pal.fail }),
                 );
             });
         self.plot_rect = Some(shown.response.rect);
+    }
+}
+
+/// The step the time view draws: the rail's own, or on a placed rail one load's (the chosen one, else the worst).
+struct Shown<'a> {
+    /// The load drawn, on a placed rail.
+    load: Option<&'a LoadDroop>,
+    waveform: &'a [[f64; 2]],
+    min_v: f64,
+    t_min_s: f64,
+    droop_v: f64,
+    meets: bool,
+    node: View,
+}
+
+impl<'a> Shown<'a> {
+    /// Load `chosen` of a placed rail's droop, or its worst load; the droop itself on a lumped rail.
+    fn of(d: &'a Droop, chosen: Option<usize>) -> Shown<'a> {
+        let load = chosen
+            .and_then(|k| d.loads.get(k))
+            .or_else(|| d.loads.iter().max_by(|a, b| a.droop_v.total_cmp(&b.droop_v)));
+        match load {
+            Some(l) => Shown {
+                load: Some(l),
+                waveform: &l.waveform,
+                min_v: l.min_v,
+                t_min_s: l.t_min_s,
+                droop_v: l.droop_v,
+                meets: l.meets,
+                node: l.view,
+            },
+            None => Shown {
+                load: None,
+                waveform: &d.waveform,
+                min_v: d.min_v,
+                t_min_s: d.t_min_s,
+                droop_v: d.droop_v,
+                meets: d.meets,
+                node: d.node,
+            },
+        }
     }
 }
 

@@ -512,16 +512,19 @@ fn the_step_alone_is_the_full_droops_step() {
         .output()
         .unwrap();
     assert_eq!(out.status.code(), Some(if d.meets { 0 } else { 1 }));
-    let text = String::from_utf8_lossy(&out.stdout);
-    let rows: Vec<[f64; 2]> = text
+    assert_eq!(csv_rows(&out.stdout), d.waveform, "the CSV is the full analysis's waveform, full precision");
+}
+
+/// The (t, V) rows of `droop --csv`'s output, past its header.
+fn csv_rows(stdout: &[u8]) -> Vec<[f64; 2]> {
+    String::from_utf8_lossy(stdout)
         .lines()
         .skip(1)
         .map(|l| {
             let mut it = l.split(',').map(|x| x.parse::<f64>().unwrap());
             [it.next().unwrap(), it.next().unwrap()]
         })
-        .collect();
-    assert_eq!(rows, d.waveform, "the CSV is the full analysis's waveform, full precision");
+        .collect()
 }
 
 /// Inputs that once asked for gigabytes or gave NaN: bounded, finite, or refused naming the flag (exit 2).
@@ -622,4 +625,42 @@ fn the_regulator_loop_is_named_as_the_cause_of_its_peaks() {
         let findings = hushrail::analysis::explain(&board, &board.rails[i], &a);
         assert!(findings.iter().any(|f| f.text.contains(&s.cause)), "{rail}: the check says the same: {findings:?}");
     }
+}
+
+/// `droop --csv` on a placed rail is its worst load's waveform (the largest step droop), never the lumped
+/// network's, with every load's verdict as its exit code; each load carries its own waveform, whose lowest point
+/// is that load's figure.
+#[test]
+fn placed_csv_is_the_worst_loads_waveform() {
+    let board = hushrail::io::read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let i = board.rail_index("VCORE_PLACED").unwrap();
+    let options = DroopOptions { window_s: Some(2e-6), points: Some(401), ..Default::default() };
+    let d = droop(&board, i, &options).unwrap();
+    assert!(d.loads.len() >= 2, "the sample's placed rail has several loads");
+    let worst = d.loads.iter().max_by(|a, b| a.droop_v.total_cmp(&b.droop_v)).unwrap();
+    assert_eq!(worst.waveform, d.waveform);
+    for l in &d.loads {
+        let lowest = l.waveform.iter().map(|r| r[1]).fold(f64::INFINITY, f64::min);
+        assert!((lowest - l.min_v).abs() <= 1e-12 * l.min_v.abs(), "{}: {lowest} vs {}", l.name, l.min_v);
+    }
+    let s = step_waveform(&board, i, &options).unwrap();
+    assert_eq!(s.waveform, d.waveform);
+    assert_eq!(s.meets, d.meets);
+    let out = hushrail()
+        .args([
+            "droop",
+            "sample_boards/edge_camera.json",
+            "--rail",
+            "VCORE_PLACED",
+            "--window",
+            "2u",
+            "--points",
+            "401",
+            "--csv",
+        ])
+        .current_dir(root())
+        .output()
+        .unwrap();
+    assert_eq!(out.status.code(), Some(if d.meets { 0 } else { 1 }));
+    assert_eq!(csv_rows(&out.stdout), d.waveform);
 }

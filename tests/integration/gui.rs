@@ -1128,3 +1128,33 @@ fn a_report_that_cannot_be_written_says_why_and_leaves_no_part_file() {
     let status = harness.state().status().cloned().unwrap();
     assert_eq!((status.kind, status.text.as_str()), (StatusKind::Info, "Nothing to redo."));
 }
+
+/// On a placed rail the time view draws the load chosen under "at load" (the plot's choice), says which, and gives
+/// that load's figures and verdict in the engine's words; with no choice, the worst load's.
+#[test]
+fn the_time_view_on_a_placed_rail_shows_the_load_chosen() {
+    use hushrail::analysis::{droop, droop_load_line};
+    use hushrail::gui::results::droop_options;
+    let board = sample();
+    let rail = board.rail_index("VCORE_PLACED").unwrap();
+    let d = droop(&board, rail, &droop_options()).unwrap();
+    assert!(d.loads.len() >= 2);
+    let mut harness = window(board.clone());
+    select_rail(&mut harness, "VCORE_PLACED");
+    harness.get_by_label("Load step").click();
+    let worst = d.loads.iter().max_by(|a, b| a.droop_v.total_cmp(&b.droop_v)).unwrap();
+    step_until(&mut harness, &format!("Drawn at load {}, the worst load", worst.name), 3000);
+    harness.run();
+    assert!(harness.query_by_label(&droop_load_line(&d, worst)).is_some());
+    for (k, l) in d.loads.iter().enumerate() {
+        harness.state_mut().set_look(hushrail::gui::results::Look { load: Some(k), ..Default::default() });
+        harness.run();
+        let which = format!("Drawn at load {}, the load chosen under \"at load\"", l.name);
+        assert!(harness.query_by_label(&which).is_some(), "says which load: {which}");
+        let line = droop_load_line(&d, l);
+        assert!(harness.query_by_label(&line).is_some(), "the engine's figures for load {}: {line}", l.name);
+        for other in d.loads.iter().filter(|o| o.name != l.name) {
+            assert!(harness.query_by_label(&droop_load_line(&d, other)).is_none(), "only the chosen load's verdict");
+        }
+    }
+}

@@ -14,16 +14,21 @@
 //! so. The low-pass has two real poles at 1.194 and 2.388 times the band's upper edge: 3 dB down at the edge,
 //! 40 dB per decade beyond, and no overshoot, so the filtered current never exceeds ΔI.
 
+mod eigen;
 mod integrator;
 mod pattern;
+mod placed;
 mod rational;
 mod response;
+mod vecfit;
 mod words;
 
 pub use integrator::{IntegratedStep, MAX_STEPS, step_integrated};
+pub use placed::{FIT_TOLERANCE, LoadDroop};
 pub use rational::{Modal, RailModes};
 pub use words::{
-    droop_figure, lines as droop_lines, stimulus_line as droop_stimulus_line, verdict_line as droop_verdict_line,
+    droop_figure, lines as droop_lines, load_line as droop_load_line, stimulus_line as droop_stimulus_line,
+    verdict_line as droop_verdict_line,
 };
 
 use super::findings::scan;
@@ -235,6 +240,9 @@ pub struct Droop {
     pub sustained: Option<Sustained>,
     /// Things the user asked for that the answer cannot honour, and what was done instead.
     pub warnings: Vec<String>,
+    /// On a placed rail, each load's droop in the rail's order (the figures above are the worst load's); empty on
+    /// a lumped rail.
+    pub loads: Vec<LoadDroop>,
 }
 
 impl Droop {
@@ -452,6 +460,9 @@ fn sustained(rail: &Rail, network: &Network, band_hz: [f64; 2], step_a: f64, r_d
 pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result<Droop, DroopError> {
     let rail = board.rails.get(rail_index).ok_or_else(|| DroopError::BadOption("no such rail".into()))?;
     let plan = plan(board, rail, options)?;
+    if rail.placement.is_some() {
+        return placed::droop_placed(board, rail, plan, options);
+    }
     let Some((main, board_modes)) = modes_of(&plan) else {
         return fallback(board, rail_index, rail, &plan, options);
     };
@@ -461,7 +472,8 @@ pub fn droop(board: &Board, rail_index: usize, options: &DroopOptions) -> Result
 
 /// The step's waveform and verdict alone: what [`droop`] gives in [`Droop::waveform`] and [`Droop::meets`], by the
 /// same walk and the same figures, without the worst pattern, the sustained estimate or the board node's waveform
-/// (for a face that prints only the waveform: `droop --csv`).
+/// (for a face that prints only the waveform: `droop --csv`). On a placed rail it is the worst load's waveform
+/// (the load with the largest step droop) and the verdict of every load, exactly [`droop`]'s.
 #[derive(Debug, Clone, PartialEq)]
 pub struct StepWaveform {
     /// The step's waveform: (t, V) on the output grid plus each interval's lowest and highest point.
@@ -474,6 +486,12 @@ pub struct StepWaveform {
 pub fn step_waveform(board: &Board, rail_index: usize, options: &DroopOptions) -> Result<StepWaveform, DroopError> {
     let rail = board.rails.get(rail_index).ok_or_else(|| DroopError::BadOption("no such rail".into()))?;
     let plan = plan(board, rail, options)?;
+    if rail.placement.is_some() {
+        // A placed rail's waveform is its worst load's (the largest step droop) and its verdict every load's,
+        // as in [`droop`]: never the lumped network's.
+        let d = placed::droop_placed(board, rail, plan, options)?;
+        return Ok(StepWaveform { waveform: d.waveform, meets: d.meets });
+    }
     let Some((main, board_modes)) = modes_of(&plan) else {
         let d = fallback(board, rail_index, rail, &plan, options)?;
         return Ok(StepWaveform { waveform: d.waveform, meets: d.meets });
@@ -694,8 +712,14 @@ fn assemble(rail: &Rail, plan: &Plan, s: &Samples, main: Option<&Modal>) -> Droo
         min_interval_s,
         min_interval_from,
         max_pulses,
-        sustained: sustained(rail, &plan.network, plan.band_hz, plan.step_a, r_dc),
+        // On a placed rail the lumped network's peak is not the load's: the caller gives no estimate there.
+        sustained: if rail.placement.is_none() {
+            sustained(rail, &plan.network, plan.band_hz, plan.step_a, r_dc)
+        } else {
+            None
+        },
         warnings,
+        loads: Vec::new(),
     }
 }
 

@@ -1,6 +1,6 @@
 //! A droop's figures in words: the one text the command line, the window and the report all show.
 
-use super::{Droop, LINEAR_LIMIT, WorstCase};
+use super::{Droop, LINEAR_LIMIT, LoadDroop, WorstCase};
 use crate::analysis::View;
 use crate::units::{Unit, format};
 
@@ -45,9 +45,12 @@ pub fn filter_line(d: &Droop) -> Option<String> {
 
 /// The step's verdict: within or outside the allowed band, where, and the figures.
 pub fn verdict_line(d: &Droop) -> String {
-    let at = match d.node {
-        View::Board => "at the board",
-        View::Die => "at the die",
+    let worst = d.loads.iter().max_by(|a, b| a.droop_v.total_cmp(&b.droop_v));
+    let at = match (d.node, worst) {
+        (View::Board, None) => "at the board".to_string(),
+        (View::Die, None) => "at the die".to_string(),
+        (View::Board, Some(l)) => format!("at the worst load, {}'s pins", l.name),
+        (View::Die, Some(l)) => format!("at the worst load, {}'s die", l.name),
     };
     let verdict = if d.meets { "WITHIN" } else { "OUTSIDE" };
     format!(
@@ -109,11 +112,33 @@ pub fn sustained_line(d: &Droop) -> Option<String> {
     })
 }
 
+/// One load's droop on a placed rail, as the command line lists them under the rail's.
+pub fn load_line(d: &Droop, l: &LoadDroop) -> String {
+    let verdict = if l.meets { "WITHIN" } else { "OUTSIDE" };
+    let at = match l.view {
+        View::Board => "at its pins",
+        View::Die => "at its die",
+    };
+    let pattern = match l.worst_case_droop_v {
+        Some(v) => format!("worst on/off pattern {}", droop_figure(d, v)),
+        None => "worst on/off pattern unbounded".to_string(),
+    };
+    format!(
+        "load {}: {verdict} {at}: droop {} (lowest {} at {}); {pattern}; fit to the plane pair within {:.2} %",
+        l.name,
+        droop_figure(d, l.droop_v),
+        format(l.min_v, Unit::Volt),
+        format(l.t_min_s, Unit::Second),
+        100.0 * l.fit_error
+    )
+}
+
 /// Every line, in the order shown: the figures, then the notes.
 pub fn lines(d: &Droop) -> Vec<String> {
     let mut out = vec![stimulus_line(d)];
     out.extend(filter_line(d));
     out.push(verdict_line(d));
+    out.extend(d.loads.iter().map(|l| format!("  {}", load_line(d, l))));
     if let Some(b) = &d.board_node {
         out.push(format!(
             "at the board: droop {} (lowest {} at {})",
