@@ -64,7 +64,26 @@ stop() {
     kill "$xvfb"; wait "$xvfb" 2>/dev/null || true; xvfb=
 }
 
-# SHOTS_PARTS=extra takes only the 1280x800 pictures, with a plain picture before each click (to check the clicks
+# One picture at 1280x800 in the current theme: NAME, a board file (or "" for the built-in sample), then clicks
+# "X,Y,SECONDS" in turn (with SHOTS_PARTS other than all, a plain picture NAME_plain before the last one), the
+# pointer moved out of the way, the picture NAME.
+scene() {
+    local name=$1 board=$2 left cx cy wait
+    shift 2
+    start 1280 800 "$dark" $board
+    left=$#
+    for click in "$@"; do
+        left=$((left - 1))
+        IFS=, read -r cx cy wait <<<"$click"
+        if [ "$left" -eq 0 ] && [ "$parts" != all ]; then shot "$out/${name}_plain-1280x800-$theme.png"; fi
+        x mousemove "$cx" "$cy" click 1; sleep "$wait"
+    done
+    x mousemove 1270 790; sleep 1
+    shot "$out/$name-1280x800-$theme.png"
+    stop
+}
+
+# SHOTS_PARTS=extra takes only the 1280x800 pictures, with a plain picture before the last click (to check the clicks
 # after a layout change); SHOTS_PARTS=verdicts only the map, rating and corner ones.
 parts=${SHOTS_PARTS:-all}
 [ "$parts" = extra ] || [ "$parts" = verdicts ] || for size in 1280x800 1920x1080; do
@@ -85,37 +104,11 @@ done
 for dark in true false; do
     theme=$([ "$dark" = true ] && echo dark || echo light)
     # The time view of the first rail, with the worst-case load pattern.
-    [ "$parts" = verdicts ] || {
-    start 1280 800 "$dark"
-    x mousemove 352 67 click 1; sleep 3
-    [ "$parts" = all ] || shot "$out/time_view_plain-1280x800-$theme.png"
-    x mousemove 240 169 click 1; sleep 4
-    x mousemove 1270 790; sleep 1
-    shot "$out/time_view-1280x800-$theme.png"
-    stop
-
+    [ "$parts" = verdicts ] || scene time_view "" 352,67,3 240,169,4
     # Suggested mixes for the first rail from the built-in shelf, every option pinned.
-    start 1280 800 "$dark"
-    x mousemove 1058 41 click 1; sleep 1
-    [ "$parts" = all ] || shot "$out/suggest_plain-1280x800-$theme.png"
-    x mousemove 926 528 click 1; sleep 12
-    [ "$parts" = all ] || shot "$out/suggest_found-1280x800-$theme.png"
-    x mousemove 1012 607 click 1; sleep 1.5
-    x mousemove 1270 790; sleep 1
-    shot "$out/suggest-1280x800-$theme.png"
-    stop
-    }
-
+    [ "$parts" = verdicts ] || scene suggest "" 1058,41,1 926,528,12 1012,607,1.5
     # The board map of VCORE_PLACED (the fourth rail), the plane's voltage at a frequency clicked on its plot.
-    start 1280 800 "$dark"
-    x mousemove 80 300 click 1; sleep 2
-    x mousemove 417 107 click 1; sleep 3
-    [ "$parts" = all ] || shot "$out/map_plain-1280x800-$theme.png"
-    x mousemove 855 470 click 1; sleep 3
-    x mousemove 1270 790; sleep 1
-    shot "$out/map-1280x800-$theme.png"
-    stop
-
+    scene map "" 80,300,2 417,107,3 855,470,3
     # The motor-drive board with its 4.7 µF parts rated 2.5 V, V3V3_ANALOG (the third rail) with the worst corner.
     python3 - "$work/motor_drive_over_rating.json" <<'PY'
 import json, sys
@@ -125,21 +118,7 @@ for part in board["parts"]:
         part["rated_voltage_v"] = 2.5
 json.dump(board, open(sys.argv[1], "w"), indent=1)
 PY
-    start 1280 800 "$dark" "$work/motor_drive_over_rating.json"
-    x mousemove 80 240 click 1; sleep 2
-    [ "$parts" = all ] || shot "$out/rating_plain-1280x800-$theme.png"
-    x mousemove 660 131 click 1; sleep 3
-    x mousemove 1270 790; sleep 1
-    shot "$out/rating-1280x800-$theme.png"
-    stop
-
+    scene rating "$work/motor_drive_over_rating.json" 80,240,2 660,131,3
     # The gate rail (the second) of the motor-drive board: its worst corner and the yield of random boards.
-    start 1280 800 "$dark" sample_boards/motor_drive.json
-    x mousemove 80 168 click 1; sleep 2
-    [ "$parts" = all ] || shot "$out/corner_yield_plain-1280x800-$theme.png"
-    x mousemove 660 67 click 1; sleep 2
-    x mousemove 812 138 click 1; sleep 15
-    x mousemove 1270 790; sleep 1
-    shot "$out/corner_yield-1280x800-$theme.png"
-    stop
+    scene corner_yield sample_boards/motor_drive.json 80,168,2 660,67,2 812,138,15
 done

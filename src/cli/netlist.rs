@@ -63,6 +63,11 @@ pub struct NetlistArgs {
 pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     let (board, file) = load_board(args.board.as_ref())?;
     let rail = super::find_rail(&board, &file, &args.rail)?;
+    if args.mesh.is_none()
+        && let Some(why) = crate::io::one_node_refusal(rail)
+    {
+        return Err(format!("{file}: {why}"));
+    }
     if args.droop {
         let options = super::droop_options(&args.step, &args.rise, &args.window, 2)?;
         let index = board.rail_index(&rail.name).unwrap_or(0);

@@ -295,6 +295,9 @@ impl App {
                 }
             }
             FileAction::Netlist => {
+                if let Some(why) = crate::io::one_node_refusal(rail) {
+                    return Err(why);
+                }
                 let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: EXPORT_PER_DECADE };
                 Ok(rail_netlist(board, rail, &sweep, a.view, "hushrail_ac.txt").into_bytes())
             }

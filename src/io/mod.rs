@@ -28,7 +28,9 @@ pub use centroid::{Centroid, Columns, LengthUnit, PlacedPart, Side, parse_centro
 pub use impedance_csv::{EXPORT_Z0_OHM, impedance_csv, impedance_s1p};
 pub use layout_import::{GroupMatch, ImportOptions, ImportReport, place_rail};
 pub use mesh_netlist::{MAX_MESH_CELLS, mesh_drive_node, mesh_netlist};
-pub use netlist::{AcSweep, DIE_NODE, RAIL_NODE, Transient, parse_wrdata, rail_netlist, rail_tran_netlist};
+pub use netlist::{
+    AcSweep, DIE_NODE, RAIL_NODE, Transient, one_node_refusal, parse_wrdata, rail_netlist, rail_tran_netlist,
+};
 pub use png_image::{png_bytes, write_png};
 pub use report::{DroopSection, ReportContext, civil_from_days, escape, report_html, utc_date_today, write_report};
 pub use strict_json::parse as parse_json_strict;

@@ -44,6 +44,19 @@ pub const RAIL_NODE: &str = "rail";
 /// The die node's name in the netlist (present when the rail gives a package).
 pub const DIE_NODE: &str = "die";
 
+/// Why `rail` has no one-node netlist: on a plane pair, one node would leave the planes out, so its netlist is the
+/// meshed plane (`netlist --mesh H`, AC). `None` for a lumped rail.
+pub fn one_node_refusal(rail: &Rail) -> Option<String> {
+    rail.placement.as_ref().map(|_| {
+        format!(
+            "rail {} sits on a plane pair, and one node would leave the planes out: write it with its plane meshed \
+             (hushrail netlist --mesh H, for example --mesh 1mm; AC only, a placed rail's transient netlist is not \
+             written yet)",
+            rail.name
+        )
+    })
+}
+
 /// The netlist text for an AC sweep seen from `view`: frequency, Re V and Im V of the view's node go to
 /// `data_file` with 15 digits.
 pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, view: View, data_file: &str) -> String {

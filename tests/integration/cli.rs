@@ -297,3 +297,21 @@ fn mounting_lengths_take_mm_and_mil() {
     assert_eq!(a.1, b.1);
     assert_eq!(a.1, c.1);
 }
+
+/// A placed rail has no one-node netlist: AC and --droop are refused with the reason and the way to write it
+/// (its plane meshed), exit 2; --mesh writes it.
+#[test]
+fn a_placed_rails_netlist_is_its_meshed_plane_never_one_node() {
+    for extra in [&[][..], &["--droop"][..]] {
+        let mut args = vec!["netlist", "sample_boards/edge_camera.json", "--rail", "VCORE_PLACED"];
+        args.extend_from_slice(extra);
+        let (code, stdout, stderr) = run(&args);
+        assert_eq!(code, 2, "{args:?}: {stderr}");
+        assert!(stdout.is_empty());
+        assert!(stderr.contains("edge_camera.json") && stderr.contains("--mesh"), "{stderr}");
+    }
+    let (code, stdout, _) =
+        run(&["netlist", "sample_boards/edge_camera.json", "--rail", "VCORE_PLACED", "--mesh", "4mm"]);
+    assert_eq!(code, 0);
+    assert!(stdout.contains("VCORE_PLACED"));
+}
