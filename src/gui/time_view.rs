@@ -327,9 +327,7 @@ struct Shown<'a> {
 impl<'a> Shown<'a> {
     /// Load `chosen` of a placed rail's droop, or its worst load; the droop itself on a lumped rail.
     fn of(d: &'a Droop, chosen: Option<usize>) -> Shown<'a> {
-        let load = chosen
-            .and_then(|k| d.loads.get(k))
-            .or_else(|| d.loads.iter().max_by(|a, b| a.droop_v.total_cmp(&b.droop_v)));
+        let load = chosen.and_then(|k| d.loads.get(k)).or_else(|| d.worst_load());
         match load {
             Some(l) => Shown {
                 load: Some(l),

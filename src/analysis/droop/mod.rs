@@ -246,6 +246,12 @@ pub struct Droop {
 }
 
 impl Droop {
+    /// On a placed rail, its worst load (the largest step droop, whose figures the rail's are); `None` on a lumped
+    /// rail.
+    pub fn worst_load(&self) -> Option<&LoadDroop> {
+        placed::worst_load(&self.loads).map(|k| &self.loads[k])
+    }
+
     /// The worst pattern's droop, V (`None` when unbounded).
     pub fn worst_case_droop_v(&self) -> Option<f64> {
         self.worst_case.droop_v()

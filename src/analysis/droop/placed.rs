@@ -51,6 +51,11 @@ pub struct LoadDroop {
     pub waveform: Vec<[f64; 2]>,
 }
 
+/// The worst of a placed rail's loads: the largest step droop (the rail's figures are its). `None` when empty.
+pub fn worst_load(loads: &[LoadDroop]) -> Option<usize> {
+    (0..loads.len()).max_by(|&a, &b| loads[a].droop_v.total_cmp(&loads[b].droop_v))
+}
+
 /// The frequencies the loads' impedances are sampled at: from a hundredth of the band's lower edge (100 Hz at the
 /// most, so the settled droop is the DC resistance's) to four times the higher of the band's edge and the loads'
 /// edge content (past it the band filter, or the ramp's own spectrum, leaves little).
@@ -126,8 +131,8 @@ pub(super) fn droop_placed(
         };
         all.push((d, summary));
     }
-    let worst = (0..all.len()).max_by(|&a, &b| all[a].1.droop_v.total_cmp(&all[b].1.droop_v)).unwrap_or(0);
     let loads: Vec<LoadDroop> = all.iter().map(|(_, l)| l.clone()).collect();
+    let worst = worst_load(&loads).unwrap_or(0);
     let mut d = all.swap_remove(worst).0;
     d.meets = loads.iter().all(|l| l.meets);
     d.worst_case_meets = loads.iter().all(|l| l.worst_case_meets);

@@ -45,8 +45,7 @@ pub fn filter_line(d: &Droop) -> Option<String> {
 
 /// The step's verdict: within or outside the allowed band, where, and the figures.
 pub fn verdict_line(d: &Droop) -> String {
-    let worst = d.loads.iter().max_by(|a, b| a.droop_v.total_cmp(&b.droop_v));
-    let at = match (d.node, worst) {
+    let at = match (d.node, d.worst_load()) {
         (View::Board, None) => "at the board".to_string(),
         (View::Die, None) => "at the die".to_string(),
         (View::Board, Some(l)) => format!("at the worst load, {}'s pins", l.name),

@@ -34,23 +34,30 @@ pub fn placed_sensitivity(board: &Board, rail: &Rail, analysis: &RailAnalysis) -
         return Vec::new();
     }
     // One probe per group that has a spot: a zero-step load at the spot, the size of the group's ports.
+    let probes: Vec<(usize, LoadPlacement)> = placement
+        .groups
+        .iter()
+        .enumerate()
+        .filter_map(|(i, gp)| {
+            let at_m = match &gp.spots {
+                GroupSpots::At(xy) => *xy,
+                GroupSpots::Each(spots) => spots
+                    .iter()
+                    .map(|s| s.at_m)
+                    .min_by(|a, b| nearest_load_m(placement, *a).total_cmp(&nearest_load_m(placement, *b)))?,
+            };
+            let side = gp.port_side_m();
+            Some((i, LoadPlacement { at_m, pins_m: Some([side, side]), package: None, die: None }))
+        })
+        .collect();
+    let groups: Vec<usize> = probes.iter().map(|(i, _)| *i).collect();
     let mut probed = rail.clone();
-    let mut groups = Vec::new();
-    for (i, gp) in placement.groups.iter().enumerate() {
-        let spot = match &gp.spots {
-            GroupSpots::At(xy) => Some(*xy),
-            GroupSpots::Each(spots) => spots
-                .iter()
-                .map(|s| s.at_m)
-                .min_by(|a, b| nearest_load_m(placement, *a).total_cmp(&nearest_load_m(placement, *b))),
-        };
-        let Some(at_m) = spot else { continue };
-        let side = gp.port_side_m();
+    let mut probed_placement = placement.clone();
+    for (i, at) in probes {
         probed.loads.push(Load::new(format!("probe of group {}", i + 1), 0.0, None));
-        let probes = probed.placement.as_mut().expect("the rail is placed");
-        probes.loads.push(LoadPlacement { at_m, pins_m: Some([side, side]), package: None, die: None });
-        groups.push(i);
+        probed_placement.loads.push(at);
     }
+    probed.placement = Some(probed_placement);
     let scales: Vec<Scale> = analysis.vertex.as_ref().map(|v| v.scales()).unwrap_or_default();
     let freq = &analysis.scan.freq_hz;
     let f_max = freq.iter().copied().fold(rail.band_hz_or_default()[1], f64::max);
