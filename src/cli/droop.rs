@@ -70,7 +70,7 @@ pub fn droop_json(d: &Droop) -> serde_json::Value {
                                        "min_v": l.min_v, "t_min_s": l.t_min_s, "droop_v": l.droop_v,
                                        "beyond_linear_model": d.beyond_model(l.droop_v),
                                        "worst_case_meets": l.worst_case_meets, "fit_error": l.fit_error});
-                    if let Some(v) = l.worst_case_droop_v {
+                    if let Some(v) = l.worst_case_droop_v() {
                         j["worst_case_droop_v"] = json!(v);
                     }
                     j

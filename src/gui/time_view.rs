@@ -8,7 +8,7 @@ use super::app::App;
 use super::jobs::{Job, Poll};
 use super::results::{DroopResult, droop_options};
 use super::theme;
-use crate::analysis::{Droop, LoadDroop, PatternResponse, View, pattern_response};
+use crate::analysis::{Droop, LoadDroop, PatternResponse, View, WorstCase, pattern_response};
 use crate::units::{Unit, format, format_sig};
 use egui::{RichText, Ui};
 use egui_plot::{GridMark, HLine, HoverPosition, Line, LineStyle, MarkerShape, Plot, PlotPoints, Points, Polygon};
@@ -21,19 +21,22 @@ use std::sync::Arc;
 pub struct PatternView {
     /// The droop whose pattern it is (compared by identity, so a new droop computes a new response).
     pub of: Arc<DroopResult>,
+    /// The load it is at, on a placed rail (another load has its own pattern and response).
+    pub at: Option<usize>,
     /// The response, or why it could not be computed; `None` while it is computed.
     pub response: Option<Result<PatternResponse, String>>,
     job: Option<Job<Result<PatternResponse, String>>>,
 }
 
 impl PatternView {
-    /// Start computing the response to `d`'s worst-case pattern on rail `index` of `board`.
-    fn start(board: &crate::model::Board, index: usize, of: Arc<DroopResult>, d: &Droop) -> PatternView {
-        let (board, pattern) = (board.clone(), d.worst_case.pattern().to_vec());
+    /// Start computing the response to the worst-case pattern of the step `shown` (on a placed rail, at its load)
+    /// on rail `index` of `board`.
+    fn start(board: &crate::model::Board, index: usize, of: Arc<DroopResult>, shown: &Shown) -> PatternView {
+        let (board, pattern, at) = (board.clone(), shown.worst_case.pattern().to_vec(), shown.at);
         let job = Job::start("pattern", move || {
-            pattern_response(&board, index, &pattern, &droop_options()).map_err(|e| e.to_string())
+            pattern_response(&board, index, at, &pattern, &droop_options()).map_err(|e| e.to_string())
         });
-        PatternView { of, response: None, job: Some(job) }
+        PatternView { of, at, response: None, job: Some(job) }
     }
 
     /// Take the answer when it has come.
@@ -145,9 +148,9 @@ impl App {
         let show_pattern = &mut self.show_worst_pattern;
         ui.checkbox(show_pattern, "Show the worst-case on/off load pattern and the voltage it gives");
         let pattern = if self.show_worst_pattern {
-            let stale = self.view.pattern.as_ref().is_none_or(|p| !Arc::ptr_eq(&p.of, &result));
+            let stale = self.view.pattern.as_ref().is_none_or(|p| !Arc::ptr_eq(&p.of, &result) || p.at != shown.at);
             if stale {
-                self.view.pattern = Some(PatternView::start(&self.doc.board, index, result.clone(), d));
+                self.view.pattern = Some(PatternView::start(&self.doc.board, index, result.clone(), &shown));
             }
             let view = self.view.pattern.as_mut().map(|p| {
                 p.poll();
@@ -257,7 +260,7 @@ impl App {
             })
             .show(ui, |pu| {
                 if let Some(Ok(_)) = &pattern {
-                    for pulse in d.worst_case.pattern() {
+                    for pulse in shown.worst_case.pattern() {
                         pu.polygon(
                             Polygon::new(
                                 "load on",
@@ -314,38 +317,45 @@ impl App {
 
 /// The step the time view draws: the rail's own, or on a placed rail one load's (the chosen one, else the worst).
 struct Shown<'a> {
-    /// The load drawn, on a placed rail.
+    /// The load drawn, on a placed rail, and its index among the rail's loads.
     load: Option<&'a LoadDroop>,
+    at: Option<usize>,
     waveform: &'a [[f64; 2]],
     min_v: f64,
     t_min_s: f64,
     droop_v: f64,
     meets: bool,
     node: View,
+    /// The worst on/off pattern at the point drawn.
+    worst_case: &'a WorstCase,
 }
 
 impl<'a> Shown<'a> {
     /// Load `chosen` of a placed rail's droop, or its worst load; the droop itself on a lumped rail.
     fn of(d: &'a Droop, chosen: Option<usize>) -> Shown<'a> {
-        let load = chosen.and_then(|k| d.loads.get(k)).or_else(|| d.worst_load());
-        match load {
-            Some(l) => Shown {
+        let at = chosen.filter(|&k| k < d.loads.len()).or_else(|| d.worst_load_index());
+        match at.map(|k| (k, &d.loads[k])) {
+            Some((k, l)) => Shown {
                 load: Some(l),
+                at: Some(k),
                 waveform: &l.waveform,
                 min_v: l.min_v,
                 t_min_s: l.t_min_s,
                 droop_v: l.droop_v,
                 meets: l.meets,
                 node: l.view,
+                worst_case: &l.worst_case,
             },
             None => Shown {
                 load: None,
+                at: None,
                 waveform: &d.waveform,
                 min_v: d.min_v,
                 t_min_s: d.t_min_s,
                 droop_v: d.droop_v,
                 meets: d.meets,
                 node: d.node,
+                worst_case: &d.worst_case,
             },
         }
     }

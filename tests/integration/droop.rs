@@ -266,7 +266,7 @@ fn random_patterns_never_droop_more_than_the_worst_case() {
             pattern.push(Pulse { on_s: t, off_s: t + on });
             t += on + off;
         }
-        let v_min = pattern_response(&board, i, &pattern, &options).unwrap().min_v;
+        let v_min = pattern_response(&board, i, None, &pattern, &options).unwrap().min_v;
         let dr = d.nominal_v - v_min;
         // The worst pattern's ages are chosen on samples of the step response (0.15 rad of its fastest live mode
         // apart, extrema refined by a parabola): a pattern elsewhere can beat it by that resolution only.
@@ -275,12 +275,12 @@ fn random_patterns_never_droop_more_than_the_worst_case() {
     // The computed pattern itself reaches the worst case in our own response too.
     let WorstCase::Bounded { t_s, .. } = &d.worst_case else { panic!("bounded") };
     let opts = DroopOptions { window_s: Some(t_s + 1e-8), ..options };
-    let v_min = pattern_response(&board, i, d.worst_case.pattern(), &opts).unwrap().min_v;
+    let v_min = pattern_response(&board, i, None, d.worst_case.pattern(), &opts).unwrap().min_v;
     let reached = d.nominal_v - v_min;
     // Its lowest sample on this grid, against the refined lowest point of the same response.
     assert!((reached - worst).abs() <= 1e-3 * worst, "{reached} vs {worst}");
     if ngspice_available() {
-        let ours = pattern_response(&board, i, &pattern, &options).unwrap().min_v;
+        let ours = pattern_response(&board, i, None, &pattern, &options).unwrap().min_v;
         let rows = ngspice_tran(&board, i, pattern_corners(&pattern, d.step_a, d.ramp_s), &d, d.window_s);
         let (_, theirs) = lowest(&rows);
         let (a, b) = (d.nominal_v - ours, d.nominal_v - theirs);
@@ -665,4 +665,52 @@ fn placed_csv_is_the_worst_loads_waveform() {
         .unwrap();
     assert_eq!(out.status.code(), Some(if d.meets { 0 } else { 1 }));
     assert_eq!(csv_rows(&out.stdout), d.waveform);
+}
+
+/// On a placed rail the worst pattern and its response are each load's own: a single step through
+/// `pattern_response` at load k lands on that load's step droop (never the lumped network's), the load's worst
+/// pattern reaches the load's worst-case droop, and random patterns that keep the shortest interval stay above it.
+/// A placed rail's response needs a load named, and a lumped rail's refuses one.
+#[test]
+fn placed_patterns_are_each_loads_own() {
+    let board = hushrail::io::read_board(&root().join("sample_boards/edge_camera.json")).unwrap();
+    let i = board.rail_index("VCORE_PLACED").unwrap();
+    let options = DroopOptions { window_s: Some(1e-6), points: Some(400), ..Default::default() };
+    let d = droop(&board, i, &options).unwrap();
+    assert!(d.loads.len() >= 2);
+    let step = [Pulse { on_s: 0.0, off_s: f64::INFINITY }];
+    for (k, l) in d.loads.iter().enumerate() {
+        let single = pattern_response(&board, i, Some(k), &step, &options).unwrap();
+        assert!(
+            (single.min_v - l.min_v).abs() <= 1e-3 * l.droop_v,
+            "{}: a single step gives {} V, the load's droop {} V",
+            l.name,
+            single.min_v,
+            l.min_v
+        );
+        let WorstCase::Bounded { droop_v: worst, pattern, t_s, .. } = &l.worst_case else {
+            panic!("{}: bounded", l.name)
+        };
+        assert!(*worst >= l.droop_v * (1.0 - 1e-9), "{}: the worst case is at least the single step", l.name);
+        let opts = DroopOptions { window_s: Some(t_s + 1e-8), ..options };
+        let reached = d.nominal_v - pattern_response(&board, i, Some(k), pattern, &opts).unwrap().min_v;
+        assert!((reached - worst).abs() <= 1e-3 * worst, "{}: the pattern reaches {reached}, worst {worst}", l.name);
+        let mut rng = Lcg(5 + k as u64);
+        for _ in 0..10 {
+            let mut random = Vec::new();
+            let mut t = rng.next() * 50e-9;
+            while t < d.window_s {
+                let on = rng.next() * 80e-9 + d.min_interval_s;
+                let off = rng.next() * 80e-9 + d.min_interval_s;
+                random.push(Pulse { on_s: t, off_s: t + on });
+                t += on + off;
+            }
+            let dr = d.nominal_v - pattern_response(&board, i, Some(k), &random, &options).unwrap().min_v;
+            assert!(dr <= worst * (1.0 + 1e-3), "{}: a random pattern droops {dr} > worst {worst}", l.name);
+        }
+    }
+    assert!(pattern_response(&board, i, None, &step, &options).is_err(), "a placed rail needs its load named");
+    assert!(pattern_response(&board, i, Some(d.loads.len()), &step, &options).is_err());
+    let lumped = board.rail_index("VCORE").unwrap();
+    assert!(pattern_response(&board, lumped, Some(0), &step, &options).is_err(), "a lumped rail has no load index");
 }

@@ -249,7 +249,12 @@ impl Droop {
     /// On a placed rail, its worst load (the largest step droop, whose figures the rail's are); `None` on a lumped
     /// rail.
     pub fn worst_load(&self) -> Option<&LoadDroop> {
-        placed::worst_load(&self.loads).map(|k| &self.loads[k])
+        self.worst_load_index().map(|k| &self.loads[k])
+    }
+
+    /// The index of [`Droop::worst_load`] among the rail's loads.
+    pub fn worst_load_index(&self) -> Option<usize> {
+        placed::worst_load(&self.loads)
     }
 
     /// The worst pattern's droop, V (`None` when unbounded).
@@ -759,10 +764,13 @@ fn pattern_load(pattern: &[Pulse], step_a: f64, ramp_s: f64) -> Pwl {
 }
 
 /// The rail's voltage under any on/off pattern of amplitude `step_a` (ramps of rise/0.8) over the window, from
-/// the same exact modal response [`droop`] uses, filtered to the band as [`droop`] says.
+/// the same exact modal response [`droop`] uses, filtered to the band as [`droop`] says. On a placed rail the
+/// voltage is at load `at` (index among the rail's loads, required there), every load toggling together as
+/// [`droop`] takes them, through that load's own model; on a lumped rail `at` must be `None`.
 pub fn pattern_response(
     board: &Board,
     rail_index: usize,
+    at: Option<usize>,
     pattern: &[Pulse],
     options: &DroopOptions,
 ) -> Result<PatternResponse, DroopError> {
@@ -771,9 +779,30 @@ pub fn pattern_response(
     if pattern.len() > 1_000_000 {
         return Err(DroopError::BadOption(format!("a pattern may have up to 1 000 000 pulses, not {}", pattern.len())));
     }
-    let (main, _) = modes_of(&plan).ok_or_else(|| {
-        DroopError::BadOption(format!("the poles of rail {} could not be found for a pattern response", rail.name))
-    })?;
+    let (plan, main) = match (rail.placement.is_some(), at) {
+        (true, Some(k)) => placed::load_model(board, rail, plan, options, k)?,
+        (true, None) => {
+            return Err(DroopError::BadOption(format!(
+                "rail {} is placed on a plane pair: a pattern's response is at one of its loads, name it",
+                rail.name
+            )));
+        }
+        (false, Some(_)) => {
+            return Err(DroopError::BadOption(format!(
+                "rail {} is one node (no plane pair): its pattern's response is not at a load",
+                rail.name
+            )));
+        }
+        (false, None) => {
+            let (main, _) = modes_of(&plan).ok_or_else(|| {
+                DroopError::BadOption(format!(
+                    "the poles of rail {} could not be found for a pattern response",
+                    rail.name
+                ))
+            })?;
+            (plan, main)
+        }
+    };
     let load = pattern_load(pattern, plan.step_a, plan.ramp_s);
     let s = response::walk(&Walk {
         main: &main,

@@ -12,10 +12,10 @@
 //! stepping, band filter and figures as a lumped rail. The fit's error is checked against [`FIT_TOLERANCE`] and
 //! stated in the result's warnings when above it.
 
-use super::{Droop, DroopError, DroopOptions, Plan, assemble, step_walk, vecfit};
+use super::{Droop, DroopError, DroopOptions, Modal, Plan, WorstCase, assemble, step_walk, vecfit};
 use crate::analysis::grid::log_grid;
 use crate::analysis::network::View;
-use crate::analysis::placed::PlacedCircuit;
+use crate::analysis::placed::{LoadMatrix, PlacedCircuit};
 use crate::model::{Board, Rail};
 use crate::physics::{Corner, TWO_PI};
 use num_complex::Complex64 as C;
@@ -41,14 +41,21 @@ pub struct LoadDroop {
     pub droop_v: f64,
     /// True when the step's droop is within the allowed band.
     pub meets: bool,
-    /// The worst pattern's droop, V (`None` when unbounded).
-    pub worst_case_droop_v: Option<f64>,
+    /// The worst on/off pattern at this load (every load toggling together) and its droop.
+    pub worst_case: WorstCase,
     /// True when the worst pattern's droop is within the allowed band.
     pub worst_case_meets: bool,
     /// The largest relative deviation of the fitted impedance from the plane pair's over the sampled grid.
     pub fit_error: f64,
     /// The step's waveform at this load: (t, V) on the output grid plus each interval's lowest and highest point.
     pub waveform: Vec<[f64; 2]>,
+}
+
+impl LoadDroop {
+    /// The worst pattern's droop, when bounded.
+    pub fn worst_case_droop_v(&self) -> Option<f64> {
+        self.worst_case.droop_v()
+    }
 }
 
 /// The worst of a placed rail's loads: the largest step droop (the rail's figures are its). `None` when empty.
@@ -66,33 +73,56 @@ fn fit_grid(plan: &Plan) -> Vec<f64> {
     log_grid(lo, hi, n)
 }
 
-/// Every load's droop on placed rail `rail`; the rail's figures are its worst load's (the largest step droop), and
-/// it meets only when every load does.
-pub(super) fn droop_placed(
-    board: &Board,
-    rail: &Rail,
-    mut plan: Plan,
-    options: &DroopOptions,
-) -> Result<Droop, DroopError> {
-    let sum_a: f64 = rail.loads.iter().map(|l| l.step_a).sum();
+/// A placed rail's plan: as a lumped rail's, except that the default step is every load's ΔI summed (the loads
+/// step together, see the module's notes), never the root-sum-square a rail with `"combine": "rss"` totals.
+fn placed_plan(rail: &Rail, mut plan: Plan, options: &DroopOptions) -> Plan {
     if options.step_a.is_none() {
-        plan.step_a = sum_a;
+        plan.step_a = rail.loads.iter().map(|l| l.step_a).sum();
     }
-    let freq_hz = fit_grid(&plan);
-    let f_max = freq_hz.last().copied().unwrap_or(plan.band_hz[1]);
-    let circuit = PlacedCircuit::of_rail(board, rail, Corner::Typical, f_max)
-        .ok_or_else(|| DroopError::BadOption(format!("rail {} has no loads on its plane pair", rail.name)))?;
-    if circuit.loads.is_empty() || sum_a.is_nan() || sum_a <= 0.0 {
-        return Err(DroopError::BadOption(format!("rail {} has no load step on its plane pair", rail.name)));
+    plan
+}
+
+/// The loads' impedances sampled on the fit grid: what every time-domain figure of a placed rail starts from.
+struct Sampled {
+    circuit: PlacedCircuit,
+    freq_hz: Vec<f64>,
+    matrices: Vec<LoadMatrix>,
+    sum_a: f64,
+}
+
+impl Sampled {
+    /// Build rail `rail`'s placed circuit and solve it on the fit grid.
+    fn of(board: &Board, rail: &Rail, plan: &Plan) -> Result<Sampled, DroopError> {
+        let sum_a: f64 = rail.loads.iter().map(|l| l.step_a).sum();
+        let freq_hz = fit_grid(plan);
+        let f_max = freq_hz.last().copied().unwrap_or(plan.band_hz[1]);
+        let circuit = PlacedCircuit::of_rail(board, rail, Corner::Typical, f_max)
+            .ok_or_else(|| DroopError::BadOption(format!("rail {} has no loads on its plane pair", rail.name)))?;
+        if circuit.loads.is_empty() || sum_a.is_nan() || sum_a <= 0.0 {
+            return Err(DroopError::BadOption(format!("rail {} has no load step on its plane pair", rail.name)));
+        }
+        let matrices = circuit.solve_grid(&freq_hz);
+        Ok(Sampled { circuit, freq_hz, matrices, sum_a })
     }
-    let matrices = circuit.solve_grid(&freq_hz);
-    let w: Vec<f64> = freq_hz.iter().map(|f| TWO_PI * f).collect();
-    let mut all: Vec<(Droop, LoadDroop)> = Vec::with_capacity(circuit.loads.len());
-    for (k, port) in circuit.loads.iter().enumerate() {
-        let h: Vec<C> = matrices
+
+    /// Load `k`'s impedance H_k = Σ_l Z_kl·ΔI_l / ΣΔI fitted as poles and residues, and that fit passed through
+    /// the plan's band filter (the model every walk at load k takes).
+    fn fit_load(&self, rail: &Rail, plan: &Plan, k: usize) -> Result<(vecfit::Fitted, Modal), DroopError> {
+        let loads = &self.circuit.loads;
+        let port = loads.get(k).ok_or_else(|| {
+            DroopError::BadOption(format!(
+                "rail {} has {} loads on its plane pair, no load {}",
+                rail.name,
+                loads.len(),
+                k + 1
+            ))
+        })?;
+        let h: Vec<C> = self
+            .matrices
             .iter()
-            .map(|m| circuit.loads.iter().enumerate().map(|(l, other)| m.die(k, l) * (other.step_a / sum_a)).sum())
+            .map(|m| loads.iter().enumerate().map(|(l, other)| m.die(k, l) * (other.step_a / self.sum_a)).sum())
             .collect();
+        let w: Vec<f64> = self.freq_hz.iter().map(|f| TWO_PI * f).collect();
         let fitted = vecfit::fit(&w, &h).ok_or_else(|| {
             DroopError::BadOption(format!(
                 "the impedance at load {} of rail {} could not be fitted as poles and residues",
@@ -103,6 +133,38 @@ pub(super) fn droop_placed(
             Some(f) => fitted.modal.filtered(TWO_PI * f.poles_hz[0], TWO_PI * f.poles_hz[1]),
             None => fitted.modal.clone(),
         };
+        Ok((fitted, main))
+    }
+}
+
+/// Load `k`'s model on placed rail `rail`, filtered as the plan says, and the plan as a placed rail takes it: what
+/// a pattern's response at that load walks through, the same model [`droop_placed`] gives the load's figures from.
+pub(super) fn load_model(
+    board: &Board,
+    rail: &Rail,
+    plan: Plan,
+    options: &DroopOptions,
+    k: usize,
+) -> Result<(Plan, Modal), DroopError> {
+    let plan = placed_plan(rail, plan, options);
+    let (_, main) = Sampled::of(board, rail, &plan)?.fit_load(rail, &plan, k)?;
+    Ok((plan, main))
+}
+
+/// Every load's droop on placed rail `rail`; the rail's figures are its worst load's (the largest step droop), and
+/// it meets only when every load does.
+pub(super) fn droop_placed(
+    board: &Board,
+    rail: &Rail,
+    plan: Plan,
+    options: &DroopOptions,
+) -> Result<Droop, DroopError> {
+    let plan = placed_plan(rail, plan, options);
+    let sampled = Sampled::of(board, rail, &plan)?;
+    let (freq_hz, f_max) = (&sampled.freq_hz, sampled.freq_hz.last().copied().unwrap_or(plan.band_hz[1]));
+    let mut all: Vec<(Droop, LoadDroop)> = Vec::with_capacity(sampled.circuit.loads.len());
+    for (k, port) in sampled.circuit.loads.iter().enumerate() {
+        let (fitted, main) = sampled.fit_load(rail, &plan, k)?;
         let samples = step_walk(&plan, &main, None);
         let mut d = assemble(rail, &plan, &samples, Some(&main));
         let view = if port.package.is_some() { View::Die } else { View::Board };
@@ -124,7 +186,7 @@ pub(super) fn droop_placed(
             t_min_s: d.t_min_s,
             droop_v: d.droop_v,
             meets: d.meets,
-            worst_case_droop_v: d.worst_case_droop_v(),
+            worst_case: d.worst_case.clone(),
             worst_case_meets: d.worst_case_meets,
             fit_error: fitted.error,
             waveform: d.waveform.clone(),

@@ -118,7 +118,7 @@ pub fn load_line(d: &Droop, l: &LoadDroop) -> String {
         View::Board => "at its pins",
         View::Die => "at its die",
     };
-    let pattern = match l.worst_case_droop_v {
+    let pattern = match l.worst_case_droop_v() {
         Some(v) => format!("worst on/off pattern {}", droop_figure(d, v)),
         None => "worst on/off pattern unbounded".to_string(),
     };
