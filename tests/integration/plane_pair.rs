@@ -216,3 +216,34 @@ fn moving_a_port_gives_the_matrix_of_the_moved_layout() {
         }
     }
 }
+
+/// The kept planes (analysis::placed::prepared): the same layout twice is the same preparation, shared; a layout
+/// one port apart from a kept one is derived by moving that port and gives the fresh preparation's matrix to
+/// rounding; a layout two ports apart, another frequency or another stack-up is prepared afresh and matches too.
+#[test]
+fn kept_planes_give_the_fresh_preparations_matrix() {
+    use hushrail::analysis::placed::prepared;
+    let st = lossy();
+    let p = ports();
+    let first = prepared(st, p.clone(), 1e9, DEFAULT_TOLERANCE);
+    let again = prepared(st, p.clone(), 1e9, DEFAULT_TOLERANCE);
+    assert!(std::sync::Arc::ptr_eq(&first, &again), "the same layout is prepared once");
+    let fresh = PreparedPlane::new(st, p.clone(), 1e9, DEFAULT_TOLERANCE);
+    assert_eq!(*first, fresh, "a kept plane is the fresh preparation, to the bit");
+    let mut one = p.clone();
+    one[3] = PortRect::square(0.071, 0.018, 0.5e-3);
+    let mut two = one.clone();
+    two[0] = PortRect::square(0.02, 0.02, 2e-3);
+    let mut thin = st;
+    thin.dielectric_m = 5e-5;
+    for (layout, stackup, f_max) in [(one.clone(), st, 1e9), (two, st, 1e9), (one, st, 2e9), (p, thin, 1e9)] {
+        let kept = prepared(stackup, layout.clone(), f_max, DEFAULT_TOLERANCE);
+        let fresh = PreparedPlane::new(stackup, layout.clone(), f_max, DEFAULT_TOLERANCE);
+        assert_eq!(kept.ports, layout);
+        for f in [1e6, 5e8] {
+            for (x, y) in kept.matrix(f).iter().zip(&fresh.matrix(f)) {
+                assert!((x - y).norm() <= 1e-13 * y.norm(), "{f} Hz: {x} vs {y}");
+            }
+        }
+    }
+}

@@ -15,12 +15,14 @@ mod circuit;
 mod field;
 mod lanes;
 mod ldl;
+mod plane_cache;
 mod sensitivity;
 mod worst;
 
 pub use advice::{PartPath, PlacedFinding, part_path, placed_findings};
 pub use circuit::{BranchPort, Drag, LoadMatrix, LoadPort, PlacedCircuit, PortOwner, Workspace};
 pub use field::{PlaneField, plane_field, port_currents};
+pub use plane_cache::{forget_prepared_planes, prepared};
 pub use sensitivity::placed_sensitivity;
 pub use worst::{MAX_ASCENT_TRIES, placed_worst_vertex};
 
