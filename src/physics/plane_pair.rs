@@ -168,9 +168,6 @@ impl Interval {
     fn centre(&self) -> f64 {
         (self.lo + self.hi) / 2.0
     }
-    fn mirrored(&self, len: f64) -> Interval {
-        Interval { lo: len - self.hi, hi: len - self.lo }
-    }
 }
 
 /// Below this |z| [`phi`] takes its series, above it the closed form. The closed form cancels near 0: φ₂'s second
@@ -225,26 +222,24 @@ fn rect_sum(p: Interval, q: Interval, kk: impl Fn(f64) -> f64) -> f64 {
     kk(p.hi + q.hi) - kk(p.hi + q.lo) - kk(p.lo + q.hi) + kk(p.lo + q.lo)
 }
 
-/// avg over y ∈ iv of e^{−αy}.
-fn avg_exp<T: Field>(alpha: T, iv: Interval) -> T {
-    (-alpha * iv.lo).exp() * phi(1, alpha * iv.width())
-}
-
 /// The 1-D Green's function of a line of length `len` with open ends, −g'' + α²g = δ(y − y′), averaged over
 /// y ∈ p and y′ ∈ q:  Σ_n ε_n cos(nπy/L)cos(nπy′/L)/(L·((nπ/L)² + α²)), averaged. Re α ≥ 0, α ≠ 0.
 ///
 /// Written as its four image terms, e^{−α|y−y′|}, e^{−α(y+y′)}, e^{−α(2L−y−y′)}, e^{−α(2L−|y−y′|)}, over
-/// 2α(1 − e^{−2αL}); every exponent has a non-positive real part, so nothing overflows for any mode.
+/// 2α(1 − e^{−2αL}); every exponent has a non-positive real part, so nothing overflows for any mode. An image term
+/// that does not change sign over the ports is a product of one exponential per port, and the average of
+/// e^{−α(y − y₀)} over an interval of width w starting at y₀ is φ₁(αw): so the edges' two terms, and all four when
+/// the ports do not overlap, are φ₁(αw_p)·φ₁(αw_q) times one exponential each (the static sums' innermost work:
+/// three φ₁ and four exponentials per mode, where averaging each term on its own took about twice as many).
 fn green_avg<T: Field>(alpha: T, len: f64, p: Interval, q: Interval) -> T {
-    let s2 = avg_exp(alpha, p) * avg_exp(alpha, q);
-    let s3 = avg_exp(alpha, p.mirrored(len)) * avg_exp(alpha, q.mirrored(len));
-    let (s1, s4) = if p.hi <= q.lo || q.hi <= p.lo {
+    let both = phi(1, alpha * p.width()) * phi(1, alpha * q.width());
+    let edges = (-alpha * (p.lo + q.lo)).exp() + (-alpha * (2.0 * len - p.hi - q.hi)).exp();
+    let sum = if p.hi <= q.lo || q.hi <= p.lo {
         let (lo, hi) = if p.hi <= q.lo { (p, q) } else { (q, p) };
-        let gap = hi.lo - lo.hi;
-        let s1 = (-alpha * gap).exp() * phi(1, alpha * lo.width()) * phi(1, alpha * hi.width());
-        // 2L − y′ + y = (L − y′) + (L + y) with y in the lower interval, y′ in the upper.
-        let s4 = avg_exp(alpha, hi.mirrored(len)) * (-alpha * len).exp() * avg_exp(alpha, lo);
-        (s1, s4)
+        // |y − y′| = y′ − y with y in the lower interval: e^{−α(hi.lo − lo.hi)} at the nearest ends, and
+        // 2L − y′ + y = (2L − hi.hi) + lo.lo at the farthest.
+        let direct = (-alpha * (hi.lo - lo.hi)).exp() + (-alpha * (2.0 * len - hi.hi + lo.lo)).exp();
+        both * (edges + direct)
     } else {
         let area = p.width() * q.width();
         let s1 = rect_diff0(p, q, |s| phi(2, alpha * s.abs()) * (s * s)) / area;
@@ -257,9 +252,9 @@ fn green_avg<T: Field>(alpha: T, len: f64, p: Interval, q: Interval) -> T {
                 ((-alpha * (2.0 * len - s.abs())).exp() - e2l * (x + T::real(1.0))) / (alpha * alpha)
             }
         }) / area;
-        (s1, s4)
+        both * edges + s1 + s4
     };
-    (s1 + s2 + s3 + s4) / (alpha * alpha * (4.0 * len) * phi(1, alpha * (2.0 * len)))
+    sum / (alpha * alpha * (4.0 * len) * phi(1, alpha * (2.0 * len)))
 }
 
 /// The static remainders of the sum over n without its n = 0 term, averaged over p × q:
