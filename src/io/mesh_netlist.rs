@@ -58,10 +58,16 @@ pub fn mesh_netlist(
     Ok(t)
 }
 
-/// The options of the mesh's transient. `pivrel` low: the mesh's matrix spans conductances from its capacitors'
-/// C/Δt to the edges' 1/R (1e6 S at MIN_SHEET_OHM), so ngspice's default pivot threshold (1e-3 of the column)
-/// rejects the kept pivot order whenever the time step changes and orders the matrix again, most of its time.
-const TRAN_OPTIONS: &str = "reltol=1e-6 abstol=1e-12 vntol=1e-9 pivrel=1e-12";
+/// The options of the mesh's transient: the lumped transient's tolerances, and two more, each measured on
+/// tests/networks/placed/tran_pair.json (100 ns, 2 mm cells; answers alike to 1e-5 V against a 0.12 V droop).
+/// `pivrel` low: the matrix spans conductances from the cells' C/Δt to the edges' 1/R (1e6 S at MIN_SHEET_OHM), so
+/// ngspice's default pivot threshold (1e-3 of the column) rejects the kept pivot order whenever the time step
+/// changes and orders the matrix again, most of its time (20 ns of an undamped variant: 2.9 s by default, 0.18 s
+/// with 1e-12, the same waveform). `method=gear`: the mesh has modes of a few cells at tens of gigahertz, far above
+/// anything the droop takes, which the trapezoidal rule keeps ringing undamped and its step control then follows
+/// (19 628 steps, 4.0 s); the second-order Gear (backward differentiation) formula damps what its step does not
+/// resolve (4 921 steps, 0.96 s; at 1 mm cells 9.5 s against 39 s).
+const TRAN_OPTIONS: &str = "method=gear reltol=1e-6 abstol=1e-12 vntol=1e-9 pivrel=1e-12";
 
 /// The netlist of a placed rail meshed at about `cell_m` for a transient from the DC operating point: every load
 /// draws its share ΔI_l/ΣΔI of the piecewise-linear current `tran.load` (through the band filter when `tran` has

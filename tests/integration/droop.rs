@@ -679,18 +679,20 @@ fn value_at(rows: &[(f64, f64)], t: f64) -> f64 {
 /// (`io::mesh_tran_netlist`, what `hushrail netlist --droop --mesh H` writes: the mesh of the AC check in
 /// placed_ngspice.rs, each cell a capacitance and each shared edge an R-L, PLANE-MODEL.md's outside check, with
 /// every load drawing its share ΔI_l/ΣΔI of the same ramp at once, as the droop takes them). The network is
-/// tests/networks/placed/tran_pair.json (30 × 20 mm, two loads with packages and dies, unfiltered, 100 ns: its
-/// lowest voltages come at 4-6 ns, and it rings for tens of ns, so the waveform's phase is checked too).
+/// tests/networks/placed/tran_pair.json (30 × 20 mm, two loads with packages and dies, unfiltered, 100 ns: the
+/// lowest voltages come at 3-5 ns, during and just after the ramp, and the waveform rings down over the window, so
+/// it is checked at six times as well).
 ///
 /// The mesh converges at second order in the cell size, so it runs at 2 mm and 1 mm (every port covers whole cells
 /// of both) and each figure is extrapolated, (4·X(h/2) − X(h))/3 (Richardson extrapolation). Tolerance of each
 /// voltage: the fit's own stated error times the droop, plus 1 % of the droop (what the lumped comparison above
 /// holds the modal stepping and ngspice's step control to), plus the mesh's remaining error taken as its last
 /// correction |X_extrapolated − X(h/2)| (common practice for a second-order sequence); of the lowest voltage's
-/// time, 1 % plus its own last correction. Measured (debug build, 2-core machine): ngspice 1.0 s at 2 mm and
-/// 12.9 s at 1 mm; the lowest voltage at U1's die 0.857972 V (engine) against 0.857913 V (extrapolated; 0.855682 V
-/// at 2 mm, 0.857355 V at 1 mm), at U2's die 0.875186 V against 0.875156 V; the waveform within 1.2 mV of the
-/// extrapolated mesh at every time checked (against a droop of 142 and 125 mV).
+/// time, 1 % plus its own last correction. Measured (debug build, 2-core machine with another build running):
+/// ngspice about 1 s at 2 mm and 9.5 s at 1 mm; the lowest voltage at U1's die 0.882599 V at 4.269 ns (engine)
+/// against 0.882541 V at 4.272 ns (extrapolated from 0.880530 V at 2 mm and 0.882038 V at 1 mm), at U2's die
+/// 0.877413 V at 3.343 ns against 0.877393 V at 3.346 ns; the waveform within 0.11 mV of the extrapolated mesh at
+/// every time checked (droops of 117 and 123 mV).
 #[test]
 fn placed_droop_matches_ngspice_on_a_meshed_plane_at_each_load() {
     if !ngspice_available() {
