@@ -2,7 +2,7 @@
 
 use super::{EXIT_PASS, emit, load_board};
 use crate::analysis::droop;
-use crate::io::{AcSweep, Transient, mesh_netlist, rail_netlist, rail_tran_netlist};
+use crate::io::{AcSweep, Transient, mesh_netlist, mesh_tran_netlist, rail_netlist, rail_tran_netlist};
 use crate::units::{Unit, parse};
 use clap::Args;
 use std::path::PathBuf;
@@ -44,12 +44,13 @@ pub struct NetlistArgs {
     #[arg(long, requires = "droop")]
     pub window: Option<String>,
     /// On a placed rail: mesh the plane pair into square cells of about this side (engineering notation, metres:
-    /// "1m", "0.5m") and attach every branch at its port; the AC sweep drives the load given by --at.
-    #[arg(long, conflicts_with = "droop")]
+    /// "1m", "0.5m") and attach every branch at its port; the AC sweep drives the load given by --at, and with
+    /// --droop every load draws its share of the step at once and every load's voltage is written.
+    #[arg(long)]
     pub mesh: Option<String>,
     /// With --mesh: the load whose impedance the netlist reads (at its die when it has a package) [default: the
     /// first].
-    #[arg(long, requires = "mesh")]
+    #[arg(long, requires = "mesh", conflicts_with = "droop")]
     pub at: Option<String>,
     /// With --mesh and --at: drive this load instead, so V(at) is the transfer impedance.
     #[arg(long, requires = "at")]
@@ -81,7 +82,14 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
             max_step_s: (d.ramp_s / 50.0).min(d.window_s / 2000.0),
             filter_poles_hz: d.filter.map(|f| f.poles_hz),
         };
-        return write_out(args, &board, &rail_tran_netlist(&board, rail, &tran, &args.data));
+        let text = match &args.mesh {
+            Some(h) => {
+                mesh_tran_netlist(&board, rail, &tran, mesh_cell(h)?, &args.data, crate::physics::Corner::Typical)
+                    .map_err(|e| format!("{file}: {e}"))?
+            }
+            None => rail_tran_netlist(&board, rail, &tran, &args.data),
+        };
+        return write_out(args, &board, &text);
     }
     let from = super::flag_value(&args.from, Unit::Hertz, &crate::model::ranges::FREQUENCY, "from")?;
     let to = super::flag_value(&args.to, Unit::Hertz, &crate::model::ranges::FREQUENCY, "to")?;
@@ -93,7 +101,7 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     }
     let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: args.per_decade };
     if let Some(h) = &args.mesh {
-        let cell = parse(h, Unit::Metre).map_err(|e| format!("--mesh: {e}"))?;
+        let cell = mesh_cell(h)?;
         let index = |name: &str| {
             rail.loads.iter().position(|l| l.name == name).ok_or_else(|| {
                 let names: Vec<&str> = rail.loads.iter().map(|l| l.name.as_str()).collect();
@@ -110,6 +118,11 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
     let view = args.view.resolve(rail)?;
     let text = rail_netlist(&board, rail, &sweep, view, &args.data);
     write_out(args, &board, &text)
+}
+
+/// The --mesh cell size, m.
+fn mesh_cell(h: &str) -> Result<f64, String> {
+    parse(h, Unit::Metre).map_err(|e| format!("--mesh: {e}"))
 }
 
 fn write_out(args: &NetlistArgs, board: &crate::model::Board, text: &str) -> Result<i32, String> {

@@ -9,7 +9,7 @@
 //! conductance proportional to frequency, so the foil is its DC resistance and a loss tangent is left out; the
 //! netlist says so in its heading.
 
-use super::netlist::AcSweep;
+use super::netlist::{AcSweep, Transient, control_block, write_load_step, write_tran};
 use crate::analysis::placed::PlacedCircuit;
 use crate::model::{Board, Rail};
 use crate::physics::Corner;
@@ -41,12 +41,85 @@ pub fn mesh_netlist(
     data_file: &str,
     corner: Corner,
 ) -> Result<String, String> {
+    let drive = from.unwrap_or(at);
+    let (mut t, loads) = mesh_text(board, rail, sweep.to_hz, cell_m, corner, &[at, drive])?;
+    let _ = writeln!(
+        t,
+        "* 1 A AC drawn at load {drive} ({}); V({}) is the impedance seen there",
+        loads[drive].0,
+        mesh_drive_node(at)
+    );
+    let _ = writeln!(t, "Idrive 0 {} DC 0 AC 1", mesh_drive_node(drive));
+    // The network is linear: ngspice may skip the DC operating point, which on a fine mesh of near-ideal
+    // conductors is slow to converge and tells nothing here.
+    let _ = writeln!(t, ".options noopac");
+    let _ = writeln!(t, ".ac dec {} {} {}", sweep.points_per_decade, num(sweep.from_hz), num(sweep.to_hz));
+    t.push_str(&control_block(data_file, &format!("v({})", mesh_drive_node(at))));
+    Ok(t)
+}
+
+/// The options of the mesh's transient: the lumped transient's tolerances, and two more, each measured on
+/// tests/networks/placed/tran_pair.json (100 ns, 2 mm cells; answers alike to 1e-5 V against a 0.12 V droop).
+/// `pivrel` low: the matrix spans conductances from the cells' C/Δt to the edges' 1/R (1e6 S at MIN_SHEET_OHM), so
+/// ngspice's default pivot threshold (1e-3 of the column) rejects the kept pivot order whenever the time step
+/// changes and orders the matrix again, most of its time (20 ns of an undamped variant: 2.9 s by default, 0.18 s
+/// with 1e-12, the same waveform). `method=gear`: the mesh has modes of a few cells at tens of gigahertz, far above
+/// anything the droop takes, which the trapezoidal rule keeps ringing undamped and its step control then follows
+/// (19 628 steps, 4.0 s); the second-order Gear (backward differentiation) formula damps what its step does not
+/// resolve (4 921 steps, 0.96 s; at 1 mm cells 9.5 s against 39 s). Where a load draws its step at its pins (no
+/// package), the plane itself rings at gigahertz there and both formulas follow it: on a 30 × 20 mm variant at 3 mm
+/// cells, 20 ns took 3.8 s with Gear and 1.05 s with the trapezoidal rule, the waveforms 6 mV apart on a 345 mV
+/// droop (the ringing's phase).
+const TRAN_OPTIONS: &str = "method=gear reltol=1e-6 abstol=1e-12 vntol=1e-9 pivrel=1e-12";
+
+/// The netlist of a placed rail meshed at about `cell_m` for a transient from the DC operating point: every load
+/// draws its share ΔI_l/ΣΔI of the piecewise-linear current `tran.load` (through the band filter when `tran` has
+/// one) at its die (or pins), all at once, as the droop takes them; time and the voltage at every load, in the
+/// rail's order, go to `data_file`.
+pub fn mesh_tran_netlist(
+    board: &Board,
+    rail: &Rail,
+    tran: &Transient,
+    cell_m: f64,
+    data_file: &str,
+    corner: Corner,
+) -> Result<String, String> {
+    let (mut t, loads) = mesh_text(board, rail, rail.band_hz_or_default()[1], cell_m, corner, &[])?;
+    let sum: f64 = loads.iter().map(|l| l.1).sum();
+    if loads.is_empty() || sum.is_nan() || sum <= 0.0 {
+        return Err(format!("rail {} has no load step on its plane pair", rail.name));
+    }
+    let names: Vec<&str> = loads.iter().map(|l| l.0.as_str()).collect();
+    let _ = writeln!(
+        t,
+        "* the load step drawn at every load at once, each its share of it ({}); their voltages are read",
+        names.join(", ")
+    );
+    let sinks: Vec<(String, f64)> =
+        loads.iter().enumerate().map(|(l, (_, step))| (mesh_drive_node(l), step / sum)).collect();
+    write_load_step(&mut t, tran, &sinks);
+    write_tran(&mut t, tran, TRAN_OPTIONS);
+    let vectors: Vec<String> = (0..loads.len()).map(|l| format!("v({})", mesh_drive_node(l))).collect();
+    t.push_str(&control_block(data_file, &vectors.join(" ")));
+    Ok(t)
+}
+
+/// The mesh, the supply and every branch and load, without stimulus or analysis; each load's name and step, A.
+/// `loads_used` are the loads the caller drives or reads (refused when the rail has no such load).
+fn mesh_text(
+    board: &Board,
+    rail: &Rail,
+    f_max_hz: f64,
+    cell_m: f64,
+    corner: Corner,
+    loads_used: &[usize],
+) -> Result<(String, Vec<(String, f64)>), String> {
     if rail.placement.is_none() {
         return Err(format!("rail {} is not placed (it has no plane_pair), so it has no plane to mesh", rail.name));
     }
-    let circuit = PlacedCircuit::of_rail(board, rail, corner, sweep.to_hz)
+    let circuit = PlacedCircuit::of_rail(board, rail, corner, f_max_hz)
         .ok_or_else(|| format!("rail {} could not be built", rail.name))?;
-    if at >= circuit.loads.len() || from.is_some_and(|f| f >= circuit.loads.len()) {
+    if loads_used.iter().any(|&l| l >= circuit.loads.len()) {
         return Err(format!("rail {} has no such load", rail.name));
     }
     let st = circuit.plane.stackup;
@@ -85,14 +158,6 @@ pub fn mesh_netlist(
          ({} ohm per square) and the loss tangent ({}) is left out",
         num(sheet),
         num(st.loss_tangent)
-    );
-    let drive = from.unwrap_or(at);
-    let _ = writeln!(
-        t,
-        "* 1 A AC drawn at load {} ({}); V({}) is the impedance seen there",
-        drive,
-        circuit.loads[drive].name,
-        mesh_drive_node(at)
     );
     let _ = writeln!(t, "Vsupply supply 0 DC {}", num(rail.voltage_v));
     let cell = |i: usize, j: usize| format!("n{i}_{j}");
@@ -180,17 +245,7 @@ pub fn mesh_netlist(
             }
         }
     }
-    let _ = writeln!(t, "Idrive 0 {} DC 0 AC 1", mesh_drive_node(drive));
-    // The network is linear: ngspice may skip the DC operating point, which on a fine mesh of near-ideal
-    // conductors is slow to converge and tells nothing here.
-    let _ = writeln!(t, ".options noopac");
-    let _ = writeln!(t, ".ac dec {} {} {}", sweep.points_per_decade, num(sweep.from_hz), num(sweep.to_hz));
-    let _ = write!(
-        t,
-        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} v({})\nquit\n.endc\n.end\n",
-        mesh_drive_node(at)
-    );
-    Ok(t)
+    Ok((t, circuit.loads.iter().map(|l| (l.name.clone(), l.step_a)).collect()))
 }
 
 /// A series R-L-C between two nodes; zero R and L are left out (SPICE refuses or warns on them).

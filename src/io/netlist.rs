@@ -50,8 +50,7 @@ pub fn one_node_refusal(rail: &Rail) -> Option<String> {
     rail.placement.as_ref().map(|_| {
         format!(
             "rail {} sits on a plane pair, and one node would leave the planes out: write it with its plane meshed \
-             (hushrail netlist --mesh H, for example --mesh 1mm; AC only, a placed rail's transient netlist is not \
-             written yet)",
+             (hushrail netlist --mesh H, for example --mesh 1mm; with --droop, the load step's transient)",
             rail.name
         )
     })
@@ -70,7 +69,7 @@ pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, view: View, dat
         full_precision(sweep.from_hz),
         full_precision(sweep.to_hz)
     );
-    t.push_str(&control_block(data_file, node));
+    t.push_str(&control_block(data_file, &format!("v({node})")));
     t
 }
 
@@ -79,29 +78,15 @@ pub fn rail_netlist(board: &Board, rail: &Rail, sweep: &AcSweep, view: View, dat
 pub fn rail_tran_netlist(board: &Board, rail: &Rail, tran: &Transient, data_file: &str) -> String {
     let node = if rail.package.is_some() { DIE_NODE } else { RAIL_NODE };
     let mut t = network_text(board, rail, &format!("a piecewise-linear load current drawn from node {node}"));
-    let corners: Vec<String> =
-        tran.load.iter().map(|(time, i)| format!("{} {}", full_precision(*time), full_precision(*i))).collect();
-    match tran.filter_poles_hz {
-        None => {
-            let _ = writeln!(t, "Iload {node} 0 PWL({})", corners.join(" "));
-        }
-        Some([a, b]) => {
-            // The load's current as a voltage (1 V per A), through two R-C low-passes (1 Ω, C = 1/(2π f)) with a
-            // unity buffer between them, drawn from the node by a transconductance of 1 A/V.
-            let c = |f: f64| full_precision(1.0 / (2.0 * std::f64::consts::PI * f));
-            let _ = writeln!(
-                t,
-                "* the load's current filtered to the band: poles at {} Hz and {} Hz",
-                full_precision(a),
-                full_precision(b)
-            );
-            let _ = writeln!(t, "Vpwl lpwl 0 PWL({})", corners.join(" "));
-            let _ = writeln!(t, "Rf1 lpwl lf1 1\nCf1 lf1 0 {}\nEf1 lf1b 0 lf1 0 1", c(a));
-            let _ = writeln!(t, "Rf2 lf1b lf2 1\nCf2 lf2 0 {}", c(b));
-            let _ = writeln!(t, "Gload {node} 0 lf2 0 1");
-        }
-    }
-    let _ = writeln!(t, ".options reltol=1e-6 abstol=1e-12 vntol=1e-9");
+    write_load_step(&mut t, tran, &[(node.to_string(), 1.0)]);
+    write_tran(&mut t, tran, "reltol=1e-6 abstol=1e-12 vntol=1e-9");
+    t.push_str(&control_block(data_file, &format!("v({node})")));
+    t
+}
+
+/// The `.options` line and the `.tran` card of `tran`.
+pub(super) fn write_tran(t: &mut String, tran: &Transient, options: &str) {
+    let _ = writeln!(t, ".options {options}");
     let _ = writeln!(
         t,
         ".tran {} {} 0 {}",
@@ -109,8 +94,44 @@ pub fn rail_tran_netlist(board: &Board, rail: &Rail, tran: &Transient, data_file
         full_precision(tran.stop_s),
         full_precision(tran.max_step_s)
     );
-    t.push_str(&control_block(data_file, node));
-    t
+}
+
+/// The load's piecewise-linear current `tran.load`, drawn from each node of `sinks` times its share (through the
+/// band filter when `tran` has one). One sink is named `Iload` (or `Gload`), several `Iload{i}` (or `Gload{i}`).
+pub(super) fn write_load_step(t: &mut String, tran: &Transient, sinks: &[(String, f64)]) {
+    let name = |i: usize| if sinks.len() == 1 { String::new() } else { i.to_string() };
+    let corners = |share: f64| -> String {
+        let c: Vec<String> = tran
+            .load
+            .iter()
+            .map(|(time, i)| format!("{} {}", full_precision(*time), full_precision(*i * share)))
+            .collect();
+        c.join(" ")
+    };
+    match tran.filter_poles_hz {
+        None => {
+            for (i, (node, share)) in sinks.iter().enumerate() {
+                let _ = writeln!(t, "Iload{} {node} 0 PWL({})", name(i), corners(*share));
+            }
+        }
+        Some([a, b]) => {
+            // The load's current as a voltage (1 V per A), through two R-C low-passes (1 Ω, C = 1/(2π f)) with a
+            // unity buffer between them, drawn from each node by a transconductance of its share in A/V.
+            let c = |f: f64| full_precision(1.0 / (2.0 * std::f64::consts::PI * f));
+            let _ = writeln!(
+                t,
+                "* the load's current filtered to the band: poles at {} Hz and {} Hz",
+                full_precision(a),
+                full_precision(b)
+            );
+            let _ = writeln!(t, "Vpwl lpwl 0 PWL({})", corners(1.0));
+            let _ = writeln!(t, "Rf1 lpwl lf1 1\nCf1 lf1 0 {}\nEf1 lf1b 0 lf1 0 1", c(a));
+            let _ = writeln!(t, "Rf2 lf1b lf2 1\nCf2 lf2 0 {}", c(b));
+            for (i, (node, share)) in sinks.iter().enumerate() {
+                let _ = writeln!(t, "Gload{} {node} 0 lf2 0 {}", name(i), full_precision(*share));
+            }
+        }
+    }
 }
 
 /// The branches of the rail, the supply, and a heading.
@@ -169,9 +190,10 @@ pub(crate) fn write_branch(t: &mut String, tag: &str, start: &str, end: &str, b:
     }
 }
 
-fn control_block(data_file: &str, node: &str) -> String {
+/// The control block: run, then write the scale and `vectors` (as "v(a) v(b)") to `data_file` with 15 digits.
+pub(super) fn control_block(data_file: &str, vectors: &str) -> String {
     format!(
-        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} v({node})\nquit\n.endc\n.end\n"
+        ".control\nset wr_singlescale\nset wr_vecnames\nset numdgt=15\nrun\nwrdata {data_file} {vectors}\nquit\n.endc\n.end\n"
     )
 }
 

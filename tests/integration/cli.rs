@@ -299,7 +299,8 @@ fn mounting_lengths_take_mm_and_mil() {
 }
 
 /// A placed rail has no one-node netlist: AC and --droop are refused with the reason and the way to write it
-/// (its plane meshed), exit 2; --mesh writes it.
+/// (its plane meshed), exit 2; --mesh writes it, with --droop as a transient of every load's share of the step
+/// (--at, which picks one load's AC drive, is refused with it; a cell of zero is refused, naming the file).
 #[test]
 fn a_placed_rails_netlist_is_its_meshed_plane_never_one_node() {
     for extra in [&[][..], &["--droop"][..]] {
@@ -314,4 +315,19 @@ fn a_placed_rails_netlist_is_its_meshed_plane_never_one_node() {
         run(&["netlist", "sample_boards/edge_camera.json", "--rail", "VCORE_PLACED", "--mesh", "4mm"]);
     assert_eq!(code, 0);
     assert!(stdout.contains("VCORE_PLACED"));
+    let tran = ["netlist", "sample_boards/edge_camera.json", "--rail", "VCORE_PLACED", "--droop", "--mesh"];
+    let (code, stdout, stderr) = run(&[&tran[..], &["4mm"]].concat());
+    assert_eq!(code, 0, "{stderr}");
+    // Every load drawing its share (through the band filter, which this rail's droop applies).
+    assert!(
+        stdout.contains(".tran ") && stdout.contains("PWL(") && stdout.contains("wrdata hushrail_out.txt v(load0)")
+    );
+    assert!(stdout.contains("Gload0 load0 0 lf2 0 ") && stdout.contains("Gload1 load1 0 lf2 0 "), "{stdout}");
+    for bad in [&["4mm", "--at", "U1"][..], &["0m"][..]] {
+        let (code, stdout, stderr) = run(&[&tran[..], bad].concat());
+        assert_eq!(code, 2, "{bad:?}: {stderr}");
+        assert!(stdout.is_empty() && !stderr.is_empty(), "{bad:?}");
+    }
+    let (_, _, stderr) = run(&[&tran[..], &["0m"]].concat());
+    assert!(stderr.contains("edge_camera.json") && stderr.contains("cell"), "{stderr}");
 }

@@ -121,11 +121,11 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                     );
                 }
                 // Flank points (above) at most a quarter: far_part's U5 has 4 of 17, one_load's U1 2, two_loads' U1
-                // and U2 1 each, the samples' placed rails 0 or 1 (VCORE_PLACED's loads 0 and 1, V1V2_MCU_PLACED 1,
-                // VCCINT_PLACED 0); every other point holds the 0.5 % above. Not tighter: far_part needs 4 of 17,
-                // and the finer pair of meshes (1 mm and 0.5 mm) that would shrink the flanks costs ngspice minutes
-                // per load on this machine (far_part's 1 mm run alone took 44 s with other builds running; 0.5 mm
-                // has four times the cells).
+                // and U2 1 each, tran_pair's U1 and U2 0, the samples' placed rails 0 or 1 (VCORE_PLACED's loads 0
+                // and 1, V1V2_MCU_PLACED 1, VCCINT_PLACED 0); every other point holds the 0.5 % above. Not tighter:
+                // far_part needs 4 of 17, and the finer pair of meshes (1 mm and 0.5 mm) that would shrink the flanks
+                // costs ngspice minutes per load on this machine (far_part's 1 mm run alone took 44 s with other
+                // builds running; 0.5 mm has four times the cells).
                 assert!(
                     skipped * 4 <= fine.len(),
                     "{} {}: {skipped} of {} points on resonance flanks",
