@@ -51,8 +51,11 @@ pub fn mesh_netlist(
     );
     let _ = writeln!(t, "Idrive 0 {} DC 0 AC 1", mesh_drive_node(drive));
     // The network is linear: ngspice may skip the DC operating point, which on a fine mesh of near-ideal
-    // conductors is slow to converge and tells nothing here.
-    let _ = writeln!(t, ".options noopac");
+    // conductors is slow to converge and tells nothing here. A low pivot threshold keeps the first frequency's
+    // pivot order for the rest (as in the transient, [`TRAN_OPTIONS`]): by default ngspice orders the matrix again
+    // at nearly every frequency. Measured on tests/networks/placed/far_part.json at 1 mm cells, 17 frequencies:
+    // 18.4 s by default, 0.14 s with it, |Z| alike to 3e-7.
+    let _ = writeln!(t, ".options noopac pivrel=1e-12");
     let _ = writeln!(t, ".ac dec {} {} {}", sweep.points_per_decade, num(sweep.from_hz), num(sweep.to_hz));
     t.push_str(&control_block(data_file, &format!("v({})", mesh_drive_node(at))));
     Ok(t)

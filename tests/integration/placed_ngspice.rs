@@ -70,44 +70,25 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
             let top = 0.9 * modes[1];
             let sweep = AcSweep { from_hz: 1e6, to_hz: top, points_per_decade: 5 };
             for (k, load) in rail.loads.iter().enumerate() {
-                // Cells of 2 mm and 1 mm: every port of the networks covers whole cells of both. The parts as typed
-                // (the as-given corner) on both sides: the check is of the plane, not of the derating.
-                let coarse = mesh_answer(&board, ri, k, &sweep, 2e-3);
-                let fine = mesh_answer(&board, ri, k, &sweep, 1e-3);
+                // Cells of 1 mm and 0.5 mm: every port of the networks covers whole cells of both. The parts as
+                // typed (the as-given corner) on both sides: the check is of the plane, not of the derating.
+                let coarse = mesh_answer(&board, ri, k, &sweep, 1e-3);
+                let fine = mesh_answer(&board, ri, k, &sweep, 5e-4);
                 let freqs: Vec<f64> = fine.iter().map(|r| r.0).collect();
                 let ours = load_sweep(&board, rail, k, None, &freqs, Corner::AsGiven).unwrap();
-                let mut worst = 0.0f64;
-                let mut skipped = 0;
+                let (mut worst, mut widest_step) = (0.0f64, 0.0f64);
                 for ((c, fi), z) in coarse.iter().zip(&fine).zip(&ours) {
                     assert!((c.0 / fi.0 - 1.0).abs() < 1e-9);
-                    // On the flank of a sharp resonance the two meshes differ by far more than second order: with
-                    // 2 mm cells a part's 2 mm port is one cell, so the ports' spreading inductance, and with it the
-                    // mesh's resonance frequencies, still move with the cell size, and (4·Z(h/2) − Z(h))/3 leaves an
-                    // error of the order of the step it took. Measured on far_part U5 (typical corner, 17 points
-                    // from 1 MHz to 2.12 GHz): the meshes differ by 14 %, 10 %, 11 % and 20 % at 504 MHz (the peak of
-                    // the far parts' path against the plane, 6.4 Ω), 814 MHz, 1.31 GHz (next to mode (1,0) at
-                    // 1.18 GHz) and 2.12 GHz, where the extrapolation differs from ours by 1.5 %, 0.35 %, 0.11 % and
-                    // 0.6 %, each less than the extrapolation's own step |Z(h/2) − Z(h)|/3 (2.6 Ω… 0.02 Ω), and
-                    // the coarse, fine and extrapolated values move towards ours (5.35, 6.13, 6.38 against 6.48 Ω at
-                    // 504 MHz): the mesh, not a model difference. Such points are held to the mesh's own error
-                    // estimate instead of 0.5 %, and counted.
+                    // Every point, the flanks of the sharp resonances too: there the two meshes still differ by up
+                    // to 17 % (a part's 0.5 mm port is one cell of the finer mesh, so the ports' spreading
+                    // inductance, and with it the resonances, move with the cell size), yet the extrapolation
+                    // lands within 0.1 % of ours (edge_camera's vision accelerator at 1.63 GHz: 37.8 and 44.6 mΩ
+                    // on the meshes, 46.88 extrapolated, 46.92 ours). With 2 mm and 1 mm cells such points were
+                    // 1.5 % off and had to be held to the mesh's own error instead.
                     let extrapolated = (4.0 * fi.1 - c.1) / 3.0;
                     let e = rel(z.norm(), extrapolated.norm());
-                    if rel(fi.1.norm(), c.1.norm()) > 0.1 {
-                        skipped += 1;
-                        let step = (fi.1 - c.1).norm() / 3.0;
-                        assert!(
-                            (z.norm() - extrapolated.norm()).abs() <= step,
-                            "{} {} at {} (resonance flank): ours {} vs mesh {} beyond the mesh's own error {step}",
-                            show(path),
-                            load.name,
-                            fi.0,
-                            z.norm(),
-                            extrapolated.norm()
-                        );
-                        continue;
-                    }
                     worst = worst.max(e);
+                    widest_step = widest_step.max(rel(fi.1.norm(), c.1.norm()));
                     assert!(
                         e < 5e-3,
                         "{} {} at {}: ours {} vs mesh {} (h: {}, h/2: {})",
@@ -120,26 +101,12 @@ fn placed_networks_match_ngspice_on_a_meshed_plane() {
                         fi.1.norm()
                     );
                 }
-                // Flank points (above) at most a quarter: far_part's U5 has 4 of 17, one_load's U1 2, two_loads' U1
-                // and U2 1 each, tran_pair's U1 and U2 0, the samples' placed rails 0 or 1 (VCORE_PLACED's loads 0
-                // and 1, V1V2_MCU_PLACED 1, VCCINT_PLACED 0); every other point holds the 0.5 % above. Not tighter:
-                // far_part needs 4 of 17, and the finer pair of meshes (1 mm and 0.5 mm) that would shrink the flanks
-                // costs ngspice minutes per load on this machine (far_part's 1 mm run alone took 44 s with other
-                // builds running; 0.5 mm has four times the cells).
-                assert!(
-                    skipped * 4 <= fine.len(),
-                    "{} {}: {skipped} of {} points on resonance flanks",
-                    show(path),
-                    load.name,
-                    fine.len()
-                );
                 eprintln!(
-                    "{} {} {}: worst |Z| difference {:.2e} up to {:.3e} Hz ({skipped} of {} points on a resonance flank, held to the mesh's own error)",
+                    "{} {} {}: worst |Z| difference {worst:.2e} up to {top:.3e} Hz ({} points; the meshes themselves \
+                     differ by up to {widest_step:.1e})",
                     show(path),
                     rail.name,
                     load.name,
-                    worst,
-                    top,
                     fine.len()
                 );
             }
