@@ -8,12 +8,14 @@ use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
 use super::jobs::{Job, Poll};
 use super::status::Status;
+use crate::analysis::placed::worst_load;
 use crate::analysis::{DroopOptions, droop, plural};
 use crate::analysis::{log_grid, sweep_in};
 use crate::io::{
     AcSweep, ReportContext, SIZE_LIMITS, bill_of_materials, board_sha256, bom_csv, impedance_csv, impedance_png,
-    impedance_s1p, impedance_svg_titled, rail_netlist, report_html, utc_date_today, write_outputs,
+    impedance_s1p, impedance_svg_titled, mesh_netlist, rail_netlist, report_html, utc_date_today, write_outputs,
 };
+use crate::physics::Corner;
 use crate::units::{Unit, format};
 use egui::Context;
 use std::path::{Path, PathBuf};
@@ -295,11 +297,19 @@ impl App {
                 }
             }
             FileAction::Netlist => {
-                if let Some(why) = crate::io::one_node_refusal(rail) {
-                    return Err(why);
-                }
                 let sweep = AcSweep { from_hz: from, to_hz: to, points_per_decade: EXPORT_PER_DECADE };
-                Ok(rail_netlist(board, rail, &sweep, a.view, "hushrail_ac.txt").into_bytes())
+                match &rail.placement {
+                    // A placed rail's netlist is its plane meshed (one node would leave the planes out), read at
+                    // the load the plot shows, as `hushrail netlist --mesh H --at LOAD` writes it.
+                    Some(placement) => {
+                        let shown = self.view.results.look().load.or_else(|| worst_load(&result.check.loads));
+                        let at = shown.filter(|&k| k < rail.loads.len()).unwrap_or(0);
+                        let cell = crate::io::export_mesh_cell_m(placement.plane_pair.size_m);
+                        mesh_netlist(board, rail, &sweep, cell, (at, None), "hushrail_ac.txt", Corner::Typical)
+                            .map(String::into_bytes)
+                    }
+                    None => Ok(rail_netlist(board, rail, &sweep, a.view, "hushrail_ac.txt").into_bytes()),
+                }
             }
             _ => Err("not an export".into()),
         }

@@ -27,7 +27,9 @@ pub use bom_csv::{BomEntry, parse_bom};
 pub use centroid::{Centroid, Columns, LengthUnit, PlacedPart, Side, parse_centroid};
 pub use impedance_csv::{EXPORT_Z0_OHM, impedance_csv, impedance_s1p};
 pub use layout_import::{GroupMatch, ImportOptions, ImportReport, place_rail};
-pub use mesh_netlist::{MAX_MESH_CELLS, mesh_drive_node, mesh_netlist, mesh_tran_netlist};
+pub use mesh_netlist::{
+    EXPORT_MESH_CELLS, MAX_MESH_CELLS, export_mesh_cell_m, mesh_drive_node, mesh_netlist, mesh_tran_netlist,
+};
 pub use netlist::{
     AcSweep, DIE_NODE, RAIL_NODE, Transient, one_node_refusal, parse_wrdata, rail_netlist, rail_tran_netlist,
 };

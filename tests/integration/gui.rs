@@ -1050,6 +1050,24 @@ fn a_placed_rail_plots_the_load_chosen() {
         assert!(harness.query_by_label(verdict).is_some(), "the rail's verdict stays its worst load's");
         let shown = analyze_rail(&board, 0, &AnalysisOptions { load: Some(k), ..Default::default() }).unwrap();
         assert_eq!(shown.worst_ohm, l.worst_ohm, "the engine's figures for that load");
+        // The netlist export is the plane meshed (never one node), read at the load shown: the library's own
+        // mesh writer at the export's cell size.
+        let cir = String::from_utf8(harness.state().export_bytes(hushrail::gui::FileAction::Netlist).unwrap()).unwrap();
+        let (from, to) = hushrail::io::plot_range_hz(shown.band_hz);
+        let sweep = hushrail::io::AcSweep { from_hz: from, to_hz: to, points_per_decade: 20 };
+        let cell = hushrail::io::export_mesh_cell_m(board.rails[0].placement.as_ref().unwrap().plane_pair.size_m);
+        let expected = hushrail::io::mesh_netlist(
+            &board,
+            &board.rails[0],
+            &sweep,
+            cell,
+            (k, None),
+            "hushrail_ac.txt",
+            hushrail::physics::Corner::Typical,
+        )
+        .unwrap();
+        assert_eq!(cir, expected, "load {k}'s meshed netlist");
+        assert!(cir.contains(&format!("at load {k} ({})", l.name)), "it says which load it reads");
     }
 }
 
