@@ -3,7 +3,7 @@
 //! Run with `cargo bench --bench placed`.
 
 use criterion::{Criterion, criterion_group, criterion_main};
-use hushrail::analysis::placed::{PlacedCircuit, Workspace, forget_prepared_planes, placed_worst_vertex};
+use hushrail::analysis::placed::{PlacedCircuit, forget_prepared_planes, placed_worst_vertex};
 use hushrail::analysis::{SearchOptions, log_grid};
 use hushrail::model::{
     Board, DecapGroup, Die, GroupPlacement, GroupSpots, Load, LoadPlacement, Package, Part, PartKind, PartSpot,
@@ -110,10 +110,6 @@ fn placed(c: &mut Criterion) {
     let circuit = PlacedCircuit::of_rail(&board, rail, Corner::Typical, 1e9).unwrap();
     group.bench_function("60 ports: 1000 frequencies at every load (prepared)", |b| {
         b.iter(|| circuit.solve_grid(&grid).iter().map(|m| m.at_dies[0]).sum::<num_complex::Complex64>())
-    });
-    group.bench_function("60 ports: 1000 frequencies at every load, one frequency at a time (prepared)", |b| {
-        let mut ws = Workspace::default();
-        b.iter(|| grid.iter().map(|&f| circuit.solve(f, &mut ws).at_dies[0]).sum::<num_complex::Complex64>())
     });
     group.bench_function("60 ports: worst corner, 8 tolerance vertices on the circuit (1000 frequencies)", |b| {
         let worst = PlacedCircuit::of_rail(&board, rail, Corner::Worst, 1e9).unwrap();
