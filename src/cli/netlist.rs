@@ -73,15 +73,8 @@ pub fn run(args: &NetlistArgs) -> Result<i32, String> {
         let options = super::droop_options(&args.step, &args.rise, &args.window, 2)?;
         let index = board.rail_index(&rail.name).unwrap_or(0);
         let d = droop(&board, index, &options).map_err(|e| format!("{file}: {e}"))?;
-        // The same stimulus and grid as `hushrail droop`: the ramp over rise/0.8, the filter when it applies, and
-        // a step that resolves the ramp and the output grid.
-        let tran = Transient {
-            load: vec![(0.0, 0.0), (d.ramp_s, d.step_a)],
-            step_s: d.window_s / 2000.0,
-            stop_s: d.window_s,
-            max_step_s: (d.ramp_s / 50.0).min(d.window_s / 2000.0),
-            filter_poles_hz: d.filter.map(|f| f.poles_hz),
-        };
+        // The same stimulus as `hushrail droop`, over its window.
+        let tran = Transient::of_step(&d);
         let text = match &args.mesh {
             Some(h) => {
                 mesh_tran_netlist(&board, rail, &tran, mesh_cell(h)?, &args.data, crate::physics::Corner::Typical)

@@ -39,6 +39,21 @@ pub struct Transient {
     pub filter_poles_hz: Option<[f64; 2]>,
 }
 
+impl Transient {
+    /// The run `hushrail netlist --droop` writes for droop `d`: the same stimulus as the droop (the ramp over
+    /// rise/0.8 to its step, through its band filter when it has one) over its window, printed at 2000 points, with
+    /// a largest step that resolves both the ramp (50 steps) and the printed grid.
+    pub fn of_step(d: &crate::analysis::Droop) -> Transient {
+        Transient {
+            load: vec![(0.0, 0.0), (d.ramp_s, d.step_a)],
+            step_s: d.window_s / 2000.0,
+            stop_s: d.window_s,
+            max_step_s: (d.ramp_s / 50.0).min(d.window_s / 2000.0),
+            filter_poles_hz: d.filter.map(|f| f.poles_hz),
+        }
+    }
+}
+
 /// The rail node's name in the netlist.
 pub const RAIL_NODE: &str = "rail";
 /// The die node's name in the netlist (present when the rail gives a package).

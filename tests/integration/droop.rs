@@ -247,6 +247,20 @@ impl Lcg {
     }
 }
 
+/// A random on/off pattern over `d`'s window: every on and off interval from `d`'s shortest interval up to 80 ns
+/// past it, the first edge within 50 ns.
+fn random_pattern(rng: &mut Lcg, d: &Droop) -> Vec<Pulse> {
+    let mut pattern = Vec::new();
+    let mut t = rng.next() * 50e-9;
+    while t < d.window_s {
+        let on = rng.next() * 80e-9 + d.min_interval_s;
+        let off = rng.next() * 80e-9 + d.min_interval_s;
+        pattern.push(Pulse { on_s: t, off_s: t + on });
+        t += on + off;
+    }
+    pattern
+}
+
 /// Random patterns that keep the shortest interval never droop more than the worst case; one of them run through
 /// ngspice lands where our superposition does.
 #[test]
@@ -259,14 +273,7 @@ fn random_patterns_never_droop_more_than_the_worst_case() {
     let mut rng = Lcg(7);
     let mut pattern = Vec::new();
     for _ in 0..40 {
-        pattern.clear();
-        let mut t = rng.next() * 50e-9;
-        while t < d.window_s {
-            let on = rng.next() * 80e-9 + d.min_interval_s;
-            let off = rng.next() * 80e-9 + d.min_interval_s;
-            pattern.push(Pulse { on_s: t, off_s: t + on });
-            t += on + off;
-        }
+        pattern = random_pattern(&mut rng, &d);
         let v_min = pattern_response(&board, i, None, &pattern, &options).unwrap().min_v;
         let dr = d.nominal_v - v_min;
         // The worst pattern's ages are chosen on samples of the step response (0.15 rad of its fastest live mode
@@ -698,14 +705,7 @@ fn placed_patterns_are_each_loads_own() {
         assert!((reached - worst).abs() <= 1e-3 * worst, "{}: the pattern reaches {reached}, worst {worst}", l.name);
         let mut rng = Lcg(5 + k as u64);
         for _ in 0..10 {
-            let mut random = Vec::new();
-            let mut t = rng.next() * 50e-9;
-            while t < d.window_s {
-                let on = rng.next() * 80e-9 + d.min_interval_s;
-                let off = rng.next() * 80e-9 + d.min_interval_s;
-                random.push(Pulse { on_s: t, off_s: t + on });
-                t += on + off;
-            }
+            let random = random_pattern(&mut rng, &d);
             let dr = d.nominal_v - pattern_response(&board, i, Some(k), &random, &options).unwrap().min_v;
             assert!(dr <= worst * (1.0 + 1e-3), "{}: a random pattern droops {dr} > worst {worst}", l.name);
         }
@@ -764,13 +764,7 @@ fn placed_droop_matches_ngspice_on_a_meshed_plane_at_each_load() {
 /// One placed droop against the Richardson-extrapolated mesh, as described above.
 fn placed_droop_against_the_mesh(board: &Board, d: &Droop) {
     // The stimulus and grid `hushrail netlist --droop` writes.
-    let tran = Transient {
-        load: vec![(0.0, 0.0), (d.ramp_s, d.step_a)],
-        step_s: d.window_s / 2000.0,
-        stop_s: d.window_s,
-        max_step_s: (d.ramp_s / 50.0).min(d.window_s / 2000.0),
-        filter_poles_hz: d.filter.map(|f| f.poles_hz),
-    };
+    let tran = Transient::of_step(d);
     let mesh = |h: f64| -> Vec<Vec<f64>> {
         let text = mesh_tran_netlist(board, &board.rails[0], &tran, h, DATA, Corner::Typical).unwrap();
         let rows = parse_wrdata(&run_ngspice(&text, DATA)).unwrap();
