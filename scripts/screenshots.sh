@@ -8,6 +8,7 @@
 #   pin_finding-WxH-THEME.png  a pin, a changed count, a finding selected, the pointer over the plot
 # and at 1280x800 in both themes
 #   time_view-1280x800-THEME.png  the voltage after a load step with the worst-case pattern
+#   placed_time-1280x800-THEME.png the same on VCORE_PLACED: the worst load's step, pattern and pattern response
 #   suggest-1280x800-THEME.png    suggested mixes for the first rail, every option pinned on the plot
 #   map-1280x800-THEME.png        the board map of VCORE_PLACED with the plane's voltage at a frequency clicked
 #   rating-1280x800-THEME.png     the motor-drive board with its 4.7 µF parts rated 2.5 V on the 3.3 V rail, the
@@ -105,6 +106,8 @@ for dark in true false; do
     theme=$([ "$dark" = true ] && echo dark || echo light)
     # The time view of the first rail, with the worst-case load pattern.
     [ "$parts" = verdicts ] || scene time_view "" 352,67,3 240,169,4
+    # The same on VCORE_PLACED (the fourth rail): drawn at its worst load, the pattern that load's own.
+    [ "$parts" = verdicts ] || scene placed_time "" 80,300,2 352,107,4 236,265,6
     # Suggested mixes for the first rail from the built-in shelf, every option pinned.
     [ "$parts" = verdicts ] || scene suggest "" 1058,41,1 926,528,12 1012,607,1.5
     # The board map of VCORE_PLACED (the fourth rail), the plane's voltage at a frequency clicked on its plot.
