@@ -20,8 +20,8 @@ pub const LEAVES_OUT: &[&str] = &[
      resonances are in it. It leaves out fringing and radiation at the plane's edges, antipads and cut-outs, \
      non-rectangular outlines and several plane pairs joined by vias. The droop is taken at each load, every \
      load's step through the plane pair's self and transfer impedances (fitted as poles and residues, every load \
-     stepping at once), and so are the check, suggest, the report and the window's plot; only the window's \
-     drawing of a chosen pattern's waveform still treats a placed rail's parts as one node.",
+     stepping at once), and so are the worst on/off pattern, the check, suggest, the report and the window's \
+     plot and time view.",
     POSITIONS,
     "Both leave out a regulator's control loop beyond a second-order loop of a given crossover and phase \
      margin (without them, beyond its output R-L), ageing of class II ceramics, ESR and \
