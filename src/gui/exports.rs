@@ -8,7 +8,7 @@ use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
 use super::jobs::{Job, Poll};
 use super::status::Status;
-use crate::analysis::placed::worst_load;
+use crate::analysis::placed::{load_sweep, worst_load};
 use crate::analysis::{DroopOptions, droop, plural};
 use crate::analysis::{log_grid, sweep_in};
 use crate::io::{
@@ -269,6 +269,11 @@ impl App {
         let a = &result.analysis;
         let (from, to) = crate::io::plot_range_hz(a.band_hz);
         let points = ((to / from).log10() * EXPORT_PER_DECADE as f64).round() as usize + 1;
+        // On a placed rail every export is at the load the plot shows (the one chosen, else the worst).
+        let shown = rail.placement.as_ref().map(|_| {
+            let k = self.view.results.look().load.or_else(|| worst_load(&result.check.loads));
+            k.filter(|&k| k < rail.loads.len()).unwrap_or(0)
+        });
         match action {
             FileAction::PlotPng | FileAction::PlotSvg => {
                 let title = format!("{}: {}, {}", board.name, rail.name, format(rail.voltage_v, Unit::Volt));
@@ -277,6 +282,7 @@ impl App {
                 let options = crate::analysis::AnalysisOptions {
                     view: Some(a.view),
                     curve: Some((from, to, crate::io::PLOT_POINTS)),
+                    load: shown,
                     ..Default::default()
                 };
                 let full =
@@ -289,7 +295,11 @@ impl App {
             }
             FileAction::Touchstone | FileAction::Csv => {
                 let grid = log_grid(from, to, points);
-                let z = sweep_in(board, rail, &grid, a.view, a.corner);
+                let z = match shown {
+                    // The self-impedance at the shown load's port (its die with a package), as `sweep --at` gives.
+                    Some(k) => load_sweep(board, rail, k, None, &grid, a.corner).ok_or("this rail cannot be swept")?,
+                    None => sweep_in(board, rail, &grid, a.view, a.corner),
+                };
                 if action == FileAction::Csv {
                     Ok(impedance_csv(&grid, &z, a.target_ohm).into_bytes())
                 } else {
@@ -302,8 +312,7 @@ impl App {
                     // A placed rail's netlist is its plane meshed (one node would leave the planes out), read at
                     // the load the plot shows, as `hushrail netlist --mesh H --at LOAD` writes it.
                     Some(placement) => {
-                        let shown = self.view.results.look().load.or_else(|| worst_load(&result.check.loads));
-                        let at = shown.filter(|&k| k < rail.loads.len()).unwrap_or(0);
+                        let at = shown.unwrap_or(0);
                         let cell = crate::io::export_mesh_cell_m(placement.plane_pair.size_m);
                         mesh_netlist(board, rail, &sweep, cell, (at, None), "hushrail_ac.txt", Corner::Typical)
                             .map(String::into_bytes)

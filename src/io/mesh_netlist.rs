@@ -23,8 +23,9 @@ pub const MAX_MESH_CELLS: usize = 1_000_000;
 /// The cell side the window's netlist export meshes a plane of `size_m` with: 0.5 mm (the finer of the two meshes
 /// the ngspice check runs, a part's default port; on its own within a few % of the converged mesh below the
 /// resonances' flanks, and the 1 mm mesh beside it extrapolates to within 0.5 % of the plane model: `hushrail
-/// netlist --mesh 1mm` writes that one; about 8 s and 0.9 GB in ngspice for a 60 × 40 mm pair at 17 frequencies),
-/// or on a pair too large for that, the side that gives [`EXPORT_MESH_CELLS`].
+/// netlist --mesh 1mm` writes that one), or on a pair too large for that, the side that gives
+/// [`EXPORT_MESH_CELLS`]. Its cost in ngspice, measured on the 60 × 40 mm sample pair: 7.7 s and 0.9 GB for 17
+/// frequencies, so about 45 s for the export's sweep (the plot's range at 20 points a decade, about 100).
 pub fn export_mesh_cell_m(size_m: [f64; 2]) -> f64 {
     let fitting = (size_m[0] * size_m[1] / EXPORT_MESH_CELLS as f64).sqrt();
     if fitting.is_finite() { fitting.max(5e-4) } else { 5e-4 }
@@ -130,16 +131,11 @@ fn mesh_text(
     corner: Corner,
     loads_used: &[usize],
 ) -> Result<(String, Vec<(String, f64)>), String> {
-    if rail.placement.is_none() {
+    let Some(placement) = &rail.placement else {
         return Err(format!("rail {} is not placed (it has no plane_pair), so it has no plane to mesh", rail.name));
-    }
-    let circuit = PlacedCircuit::of_rail(board, rail, corner, f_max_hz)
-        .ok_or_else(|| format!("rail {} could not be built", rail.name))?;
-    if loads_used.iter().any(|&l| l >= circuit.loads.len()) {
-        return Err(format!("rail {} has no such load", rail.name));
-    }
-    let st = circuit.plane.stackup;
-    let [a, b] = st.size_m;
+    };
+    // The cell is checked before the plane is prepared: a refused mesh costs nothing.
+    let [a, b] = placement.plane_pair.size_m;
     if !(cell_m.is_finite() && cell_m > 0.0) {
         return Err(format!("the cell size must be a length greater than 0, not {}", num(cell_m)));
     }
@@ -154,6 +150,12 @@ fn mesh_text(
             nx * ny
         ));
     }
+    let circuit = PlacedCircuit::of_rail(board, rail, corner, f_max_hz)
+        .ok_or_else(|| format!("rail {} could not be built", rail.name))?;
+    if loads_used.iter().any(|&l| l >= circuit.loads.len()) {
+        return Err(format!("rail {} has no such load", rail.name));
+    }
+    let st = circuit.plane.stackup;
     let (nx, ny) = (nx as usize, ny as usize);
     let (hx, hy) = (a / nx as f64, b / ny as f64);
     let d = st.dielectric_m;

@@ -710,6 +710,10 @@ fn placed_patterns_are_each_loads_own() {
             assert!(dr <= worst * (1.0 + 1e-3), "{}: a random pattern droops {dr} > worst {worst}", l.name);
         }
     }
+    // The rail's worst pattern is the worst of its loads', and its verdict that one's.
+    let most = d.loads.iter().map(|l| l.worst_case_droop_v().unwrap_or(f64::INFINITY)).fold(0.0, f64::max);
+    assert_eq!(d.worst_case_droop_v().unwrap_or(f64::INFINITY), most);
+    assert_eq!(d.worst_case_meets, most <= d.allowed_v);
     assert!(pattern_response(&board, i, None, &step, &options).is_err(), "a placed rail needs its load named");
     assert!(pattern_response(&board, i, Some(d.loads.len()), &step, &options).is_err());
     let lumped = board.rail_index("VCORE").unwrap();

@@ -1067,6 +1067,12 @@ fn a_placed_rail_plots_the_load_chosen() {
         )
         .unwrap();
         assert_eq!(cir, expected, "load {k}'s meshed netlist");
+        // The CSV is the self-impedance at the same load, as `sweep --at` gives it.
+        let csv = String::from_utf8(harness.state().export_bytes(hushrail::gui::FileAction::Csv).unwrap()).unwrap();
+        let points = ((to / from).log10() * 20.0).round() as usize + 1;
+        let grid = hushrail::analysis::log_grid(from, to, points);
+        let z = hushrail::analysis::placed::load_sweep(&board, &board.rails[0], k, None, &grid, shown.corner).unwrap();
+        assert_eq!(csv, hushrail::io::impedance_csv(&grid, &z, shown.target_ohm), "load {k}'s impedance");
         assert!(cir.contains(&format!("at load {k} ({})", l.name)), "it says which load it reads");
     }
 }

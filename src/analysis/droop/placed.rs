@@ -146,6 +146,14 @@ pub(super) fn load_model(
     options: &DroopOptions,
     k: usize,
 ) -> Result<(Plan, Modal), DroopError> {
+    if k >= rail.loads.len() {
+        return Err(DroopError::BadOption(format!(
+            "rail {} has {} loads, no load {}",
+            rail.name,
+            rail.loads.len(),
+            k + 1
+        )));
+    }
     let plan = placed_plan(rail, plan, options);
     let (_, main) = Sampled::of(board, rail, &plan)?.fit_load(rail, &plan, k)?;
     Ok((plan, main))
@@ -197,6 +205,15 @@ pub(super) fn droop_placed(
     let worst = worst_load(&loads).unwrap_or(0);
     let mut d = all.swap_remove(worst).0;
     d.meets = loads.iter().all(|l| l.meets);
+    // The rail's worst pattern is the worst of its loads' (an unbounded one the worst of all), which need not be at
+    // the load with the worst step: its figure and its verdict then describe the same load.
+    let pattern_worst = (0..loads.len())
+        .max_by(|&a, &b| {
+            let v = |k: usize| loads[k].worst_case_droop_v().unwrap_or(f64::INFINITY);
+            v(a).total_cmp(&v(b))
+        })
+        .unwrap_or(worst);
+    d.worst_case = loads[pattern_worst].worst_case.clone();
     d.worst_case_meets = loads.iter().all(|l| l.worst_case_meets);
     if rail.combine == crate::model::Combine::Rss && loads.len() > 1 {
         d.warnings.push(

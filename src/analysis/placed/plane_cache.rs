@@ -1,16 +1,15 @@
 //! The plane pairs prepared lately, kept so that an edit that moves no port prepares nothing again.
 //!
-//! Preparing a plane ([`PreparedPlane::new`]: the static sums between every pair of ports) is the largest single
-//! cost of a placed rail (about 23 ms of the 60 ms a 60-port rail takes over 1000 frequencies, `cargo bench --bench
-//! placed`), yet it depends only on the plane's stack-up, the ports' rectangles, the highest frequency and the
-//! accuracy: not on any part's value, count or corner. A count drag, a corner, a tolerance vertex, the sensitivity,
-//! the droop and the check all ask again for a plane already prepared. A plane whose ports differ from a kept one
-//! in a single port (a part dropped after a drag on the map) is derived from it by [`PreparedPlane::move_port`],
-//! which recomputes that port's row and column only.
+//! Preparing a plane ([`PreparedPlane::new`]: the static sums between every pair of ports) depends only on the
+//! plane's stack-up, the ports' rectangles, the highest frequency and the accuracy: not on any part's value, count
+//! or corner. A count drag, a corner, a tolerance vertex, the sensitivity, the droop and the check all ask again for
+//! a plane already prepared (`cargo bench --bench placed` gives what preparing costs and what keeping it saves). A
+//! plane whose ports differ from a kept one in a single port (a part dropped after a drag on the map) is derived
+//! from it by [`PreparedPlane::move_port`], which recomputes that port's row and column only.
 //!
-//! A kept plane is the fresh preparation to the bit (preparation is deterministic); one derived by moving a port
-//! matches it to rounding, 1e-13 relative (a pair's sum is taken with its ports in the other order).
-//! tests/integration/plane_pair.rs checks both.
+//! Every plane given is the fresh preparation to the bit, kept, derived or new (preparation is deterministic, and
+//! moving a port takes its pairs in the fresh order); tests/integration/plane_pair.rs checks it. The kept planes
+//! are bounded in number ([`KEPT`]) and in memory ([`KEPT_BYTES`]); a plane larger than that is given, not kept.
 
 use crate::physics::plane_pair::{PortRect, PreparedPlane, Stackup};
 use std::sync::{Arc, Mutex};
@@ -18,6 +17,9 @@ use std::sync::{Arc, Mutex};
 /// How many prepared planes are kept (each is a few hundred kB for 60 ports): the rails of a board at the
 /// frequencies their analyses ask for, and the last few layouts of a drag.
 const KEPT: usize = 12;
+
+/// The most memory the kept planes take together, bytes ([`PreparedPlane::table_bytes`]).
+const KEPT_BYTES: usize = 256 << 20;
 
 /// What a preparation depends on.
 #[derive(Debug, Clone, PartialEq)]
@@ -55,10 +57,14 @@ pub fn prepared(stackup: Stackup, ports: Vec<PortRect>, f_max_hz: f64, tol: f64)
         None => PreparedPlane::new(key.stackup, key.ports.clone(), key.f_max_hz, key.tol),
     };
     let plane = Arc::new(plane);
+    if plane.table_bytes() > KEPT_BYTES {
+        return plane;
+    }
     let mut kept = KEPT_PLANES.lock().unwrap_or_else(|e| e.into_inner());
     kept.retain(|(k, _)| *k != key);
     kept.push((key, plane.clone()));
-    if kept.len() > KEPT {
+    // The least recently used go first, until both bounds hold.
+    while kept.len() > KEPT || kept.iter().map(|(_, p)| p.table_bytes()).sum::<usize>() > KEPT_BYTES {
         kept.remove(0);
     }
     plane
