@@ -3,8 +3,8 @@
 use hushrail::analysis::{AnalysisOptions, Network, View, analyze_rail};
 use hushrail::io::{board_to_string, parse_board};
 use hushrail::model::{
-    Board, Combine, DecapGroup, Die, Load, MountingGeometry, Package, Part, PartKind, Plane, Rail, Source, SourceLoop,
-    validate_board,
+    Board, Combine, DecapGroup, Die, GroupPlacement, GroupSpots, Load, LoadPlacement, MountingGeometry, Package, Part,
+    PartKind, Placement, Plane, PlanePair, Rail, Source, SourceLoop, SourcePlacement, validate_board,
 };
 use hushrail::physics::Corner;
 use hushrail::units::{Unit, format, format_sig, parse};
@@ -385,6 +385,90 @@ proptest! {
         let s = hushrail::analysis::scan(&z_at, [1.0, (n as f64).exp()], 3 * n, target);
         if samples.iter().any(|m| m.is_nan()) {
             prop_assert!(s.worst.z_ohm.is_nan() || target.is_nan() || s.worst.z_ohm > target);
+        }
+    }
+}
+
+/// A random valid board of [`board_strategy`] with its rail placed on a random plane pair: a rectangle of 30 to
+/// 150 mm a side, every port at a random spot kept clear of the edges (the widest default port, a load's 5 mm pin
+/// field, fits), the rail's package and die moved to each load (a placed rail carries them per load).
+fn placed_board_strategy() -> impl Strategy<Value = Board> {
+    let spot = (0.15f64..0.85, 0.15f64..0.85);
+    let pair = (
+        (0.03f64..0.15, 0.03f64..0.15),
+        log_value(-4.7, -3.3),
+        2.0f64..10.0,
+        proptest::option::of(0.0f64..0.05),
+        proptest::option::of(log_value(-5.5, -4.3)),
+    );
+    (board_strategy(), pair, proptest::collection::vec(spot, 16)).prop_map(|(mut board, pair, spots)| {
+        let ((a, b), d, er, tan, copper) = pair;
+        let at = |k: usize| [spots[k].0 * a, spots[k].1 * b];
+        let rail = &mut board.rails[0];
+        let (package, die) = (rail.package.take(), rail.die.take());
+        rail.plane = None;
+        rail.placement = Some(Placement {
+            plane_pair: PlanePair {
+                size_m: [a, b],
+                dielectric_m: d,
+                er,
+                loss_tangent: tan,
+                copper_m: copper,
+                conductivity_s_m: None,
+            },
+            source: rail.source.as_ref().map(|_| SourcePlacement { at_m: at(0), port_m: None }),
+            groups: (0..rail.decaps.len())
+                .map(|g| GroupPlacement { spots: GroupSpots::At(at(1 + g)), port_m: None })
+                .collect(),
+            loads: (0..rail.loads.len())
+                .map(|l| LoadPlacement {
+                    at_m: at(12 + l),
+                    pins_m: None,
+                    package,
+                    die: die.filter(|_| package.is_some()),
+                })
+                .collect(),
+        });
+        board
+    })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    /// Any valid placed rail gives, at every load, a finite self-impedance with Re(Z) >= 0 (the plane pair and its
+    /// branches are passive) and reciprocal transfer impedances (Z_kl = Z_lk), finite figures from the check, and a
+    /// droop that is a number at every load or a refusal that says why.
+    #[test]
+    fn placed_rails_give_finite_passive_answers(board in placed_board_strategy()) {
+        prop_assert!(validate_board(&board).is_empty(), "{:?}", validate_board(&board));
+        let rail = &board.rails[0];
+        let grid = hushrail::analysis::log_grid(1e3, 3e9, 60);
+        let n = rail.loads.len();
+        for k in 0..n {
+            let z = hushrail::analysis::placed::load_sweep(&board, rail, k, None, &grid, Corner::Typical).unwrap();
+            for (f, z) in grid.iter().zip(&z) {
+                prop_assert!(z.re.is_finite() && z.im.is_finite(), "Z_{k}{k}({f}) = {z}");
+                prop_assert!(z.re >= -1e-9 * z.norm(), "Re Z_{k}{k}({f}) = {} < 0", z.re);
+            }
+            for l in 0..k {
+                let kl = hushrail::analysis::placed::load_sweep(&board, rail, k, Some(l), &grid, Corner::Typical).unwrap();
+                let lk = hushrail::analysis::placed::load_sweep(&board, rail, l, Some(k), &grid, Corner::Typical).unwrap();
+                for (a, b) in kl.iter().zip(&lk) {
+                    prop_assert!((a - b).norm() <= 1e-9 * a.norm().max(b.norm()) + 1e-300, "Z_{k}{l} {a} vs Z_{l}{k} {b}");
+                }
+            }
+        }
+        let a = analyze_rail(&board, 0, &AnalysisOptions { band_points: 120, ..Default::default() }).unwrap();
+        prop_assert!(a.worst_ohm.is_finite() && a.margin_db.is_finite(), "worst {} margin {} dB", a.worst_ohm, a.margin_db);
+        for f in hushrail::analysis::explain(&board, rail, &a) { prop_assert!(!f.text.contains("NaN") && !f.text.contains(" inf")); }
+        if let Ok(d) = hushrail::analysis::droop(&board, 0, &hushrail::analysis::DroopOptions { points: Some(50), ..Default::default() }) {
+            prop_assert_eq!(d.loads.len(), n);
+            for l in &d.loads {
+                prop_assert!(l.droop_v.is_finite() && l.min_v.is_finite() && l.fit_error.is_finite(), "{}: droop {}", l.name, l.droop_v);
+                prop_assert!(l.waveform.iter().all(|p| p[0].is_finite() && p[1].is_finite()));
+                prop_assert!(l.worst_case_droop_v().is_none_or(f64::is_finite));
+            }
         }
     }
 }
