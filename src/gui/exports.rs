@@ -8,7 +8,7 @@ use super::app::{App, NO_FILE_CHOSEN};
 use super::files;
 use super::jobs::{Job, Poll};
 use super::status::Status;
-use crate::analysis::placed::{load_sweep, worst_load};
+use crate::analysis::placed::load_sweep;
 use crate::analysis::{DroopOptions, droop, plural};
 use crate::analysis::{log_grid, sweep_in};
 use crate::io::{
@@ -270,10 +270,8 @@ impl App {
         let (from, to) = crate::io::plot_range_hz(a.band_hz);
         let points = ((to / from).log10() * EXPORT_PER_DECADE as f64).round() as usize + 1;
         // On a placed rail every export is at the load the plot shows (the one chosen, else the worst).
-        let shown = rail.placement.as_ref().map(|_| {
-            let k = self.view.results.look().load.or_else(|| worst_load(&result.check.loads));
-            k.filter(|&k| k < rail.loads.len()).unwrap_or(0)
-        });
+        let shown =
+            rail.placement.as_ref().map(|_| self.view.results.look().shown_load(&result.check.loads).unwrap_or(0));
         match action {
             FileAction::PlotPng | FileAction::PlotSvg => {
                 let title = format!("{}: {}, {}", board.name, rail.name, format(rail.voltage_v, Unit::Volt));

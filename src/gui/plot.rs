@@ -212,7 +212,7 @@ impl App {
             }
         });
         // A placed rail: the shown load's own verdict line (the rail's is its worst load's), as `check` words it.
-        let shown_load = self.view.results.look().load.or_else(|| worst_load(&check.loads));
+        let shown_load = self.view.results.look().shown_load(&check.loads);
         if let Some(l) = shown_load.and_then(|k| check.loads.get(k)) {
             let color = if l.meets_target { pal.ok } else { pal.fail };
             ui.label(RichText::new(load_line(l, check.verdict.target_ohm)).small().color(color));

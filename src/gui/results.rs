@@ -66,6 +66,15 @@ pub struct Look {
     pub moving: bool,
 }
 
+impl Look {
+    /// The load the window shows on a placed rail with these `loads`: the one chosen, else the worst (the rail's
+    /// verdict); `None` on a rail without loads on a plane pair. The plot, its verdict line and the exports all
+    /// take it from here.
+    pub fn shown_load(&self, loads: &[crate::analysis::placed::LoadVerdict]) -> Option<usize> {
+        self.load.filter(|&k| k < loads.len()).or_else(|| crate::analysis::placed::worst_load(loads))
+    }
+}
+
 /// A second analysis of the rail (the other view, or the worst corner) and its drawn curve.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Beside {

@@ -106,17 +106,11 @@ impl Sampled {
     }
 
     /// Load `k`'s impedance H_k = Σ_l Z_kl·ΔI_l / ΣΔI fitted as poles and residues, and that fit passed through
-    /// the plan's band filter (the model every walk at load k takes).
+    /// the plan's band filter (the model every walk at load k takes). `k` is one of the rail's loads (the callers
+    /// check it before any work).
     fn fit_load(&self, rail: &Rail, plan: &Plan, k: usize) -> Result<(vecfit::Fitted, Modal), DroopError> {
         let loads = &self.circuit.loads;
-        let port = loads.get(k).ok_or_else(|| {
-            DroopError::BadOption(format!(
-                "rail {} has {} loads on its plane pair, no load {}",
-                rail.name,
-                loads.len(),
-                k + 1
-            ))
-        })?;
+        let port = &loads[k];
         let h: Vec<C> = self
             .matrices
             .iter()
@@ -146,11 +140,13 @@ pub(super) fn load_model(
     options: &DroopOptions,
     k: usize,
 ) -> Result<(Plan, Modal), DroopError> {
-    if k >= rail.loads.len() {
+    // The circuit's loads are the rail's that have a place (validation makes them all of them).
+    let placed_loads = rail.placement.as_ref().map_or(0, |p| p.loads.len()).min(rail.loads.len());
+    if k >= placed_loads {
         return Err(DroopError::BadOption(format!(
-            "rail {} has {} loads, no load {}",
+            "rail {} has {} loads on its plane pair, no load {}",
             rail.name,
-            rail.loads.len(),
+            placed_loads,
             k + 1
         )));
     }
